@@ -1,0 +1,25 @@
+//! Plateau's core: growth-curve models, a Levenberg–Marquardt solver with
+//! self-starting values, fit statistics and data input.
+//!
+//! The crate does no I/O, reads no clocks, starts no threads and owns no
+//! global random state, so the same code runs natively (CLI, tests,
+//! benches) and in the browser (wasm32-unknown-unknown). Text comes in as
+//! `&str`, results go out as plain data types.
+//!
+//! Main entry points: [`data::parse_series`] turns pasted or file text into
+//! a [`data::Series`]; [`fit::fit`] fits a [`model::Model`] to it and returns
+//! a [`fit::Fit`]; [`compare::compare`] ranks every model by AICc.
+
+pub mod compare;
+pub mod data;
+pub mod fit;
+pub mod model;
+pub mod solver;
+pub mod start;
+pub mod stats;
+pub mod warning;
+
+pub use warning::{Warning, WarningCode};
+pub use data::{parse_series, ParseOptions, Series};
+pub use fit::{fit, Fit, FitError, FitOptions};
+pub use model::Model;

@@ -1,0 +1,66 @@
+//! Warnings with stable codes, shared by data input and fitting.
+//!
+//! A [`Warning`] never stops the work; it travels with the result so that
+//! the CLI, the JSON report and the page can show it. The codes (the
+//! `snake_case` names of [`WarningCode`]) are part of the output contract:
+//! never rename one, only add.
+
+use serde::Serialize;
+
+/// What a warning is about. The serialised name is the stable code.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize)]
+#[serde(rename_all = "snake_case")]
+#[non_exhaustive]
+pub enum WarningCode {
+    /// Some rows had no value (empty, `NA`, …) and were left out of the fit.
+    MissingValuesSkipped,
+    /// Rows were not in time order; they are fitted as a set, output stays in input order.
+    RowsUnsorted,
+    /// The solver stopped without meeting its convergence tests.
+    NotConverged,
+    /// The Jacobian at the solution is (numerically) rank deficient.
+    SingularJacobian,
+    /// The Jacobian at the solution is badly conditioned; standard errors are unreliable.
+    IllConditioned,
+    /// A parameter ended at or next to the edge of its allowed range.
+    ParameterAtBound,
+    /// The data do not determine the saturation level K.
+    SaturationNotIdentified,
+    /// The data end before the fitted inflection point.
+    BeforeInflection,
+    /// A parameter's value cannot be represented in double precision on this time axis.
+    ParameterNotRepresentable,
+}
+
+impl WarningCode {
+    /// The stable code, as it appears in JSON output.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            WarningCode::MissingValuesSkipped => "missing_values_skipped",
+            WarningCode::RowsUnsorted => "rows_unsorted",
+            WarningCode::NotConverged => "not_converged",
+            WarningCode::SingularJacobian => "singular_jacobian",
+            WarningCode::IllConditioned => "ill_conditioned",
+            WarningCode::ParameterAtBound => "parameter_at_bound",
+            WarningCode::SaturationNotIdentified => "saturation_not_identified",
+            WarningCode::BeforeInflection => "before_inflection",
+            WarningCode::ParameterNotRepresentable => "parameter_not_representable",
+        }
+    }
+}
+
+/// A warning: a stable code and a sentence for a human.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Warning {
+    pub code: WarningCode,
+    pub message: String,
+}
+
+impl Warning {
+    pub fn new(code: WarningCode, message: impl Into<String>) -> Self {
+        Warning {
+            code,
+            message: message.into(),
+        }
+    }
+}

@@ -1,0 +1,1 @@
+use plateau_core::Model;

@@ -1,30 +1,61 @@
 //! Data input: text pasted from a spreadsheet or read from a CSV file,
 //! turned into a [`Series`] of (time, value) pairs on a numeric axis.
 //!
-//! (Skeleton: the parser is being written; see `parse_series`.)
+//! [`parse_series`] takes the whole text (the core does no I/O) and detects
+//! what people actually paste: comma-, semicolon- or tab-separated fields,
+//! an optional header row, a decimal point or a decimal comma, thousands
+//! separators, and times written as numbers, ISO dates, year-months or
+//! quarters (see [`TimeKind`]). Rows with a missing value (an empty field,
+//! `NA`, `N/A`, `NaN`, `null`, `-`, `.` or `#N/A`, in any case) are left out
+//! with one warning; rows out of time order are kept in input order with a
+//! warning; anything else it cannot read is a [`DataError`] naming the line
+//! of the original text and what was expected there.
+//!
+//! Fewer points than a model has parameters, and constant data, are the fit's
+//! to refuse (`FitErrorKind::TooFewPoints`, `ConstantData`): the parser only
+//! requires one data row.
+//!
+//! Submodules: `number` reads one number, `time` reads and shows one time.
 
-use crate::warning::Warning;
+mod number;
+mod time;
+
+#[cfg(test)]
+mod tests;
+
+use crate::warning::{Warning, WarningCode};
+use number::{parse_number, Decimal, NumError, Vote};
 use serde::Serialize;
+use std::collections::HashMap;
+use std::fmt;
+use time::TimeError;
 
 /// How the time column was written, which decides the numeric axis and how
-/// axis values are shown again.
+/// axis values are shown again ([`TimeKind::format`]).
+///
+/// On the three calendar axes (`Date`, `Month`, `Quarter`) a difference of 1
+/// is one year, so a growth rate `r` fitted on them is per year.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "snake_case")]
 pub enum TimeKind {
     /// Plain numbers (including years such as `2019`): the axis is the number itself.
     Number,
-    /// ISO dates `YYYY-MM-DD`: the axis is the decimal year.
+    /// ISO dates `YYYY-MM-DD`: the axis is the decimal year
+    /// `year + ordinal0 / days_in_year` (365 or 366), so 1 January is `year + 0`.
     Date,
     /// Year-months `YYYY-MM`: the axis is `year + (month - 1) / 12`.
     Month,
-    /// Quarters `2024Q3` or `2024-Q3`: the axis is `year + (quarter - 1) / 4`.
+    /// Quarters `2024Q3`, `2024-Q3` or `2024 Q3` (any case): the axis is
+    /// `year + (quarter - 1) / 4`.
     Quarter,
 }
 
-/// A column chosen by position (0-based) or by header name.
+/// A column chosen by position or by header name.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub enum ColumnRef {
+    /// 0-based position.
     Index(usize),
+    /// Header name, matched trimmed and case-insensitively; needs a header row.
     Name(String),
 }
 
@@ -45,9 +76,21 @@ pub struct ParseOptions {
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Series {
     pub time_kind: TimeKind,
+    /// Header name of the time column, or `"time"` without a header.
     pub time_name: String,
+    /// Header name of the value column, or `"value"` without a header.
     pub value_name: String,
-    /// Numeric time axis, one per kept row, input order.
+    /// Every column's name: the header names, or `"column 1"`, `"column 2"`, …
+    /// without a header (also for header cells left empty), so a user
+    /// interface can offer a choice when there are more than two.
+    pub columns: Vec<String>,
+    /// Whether the first record was read as a header.
+    pub has_header: bool,
+    /// The field delimiter used (given or detected).
+    pub delimiter: u8,
+    /// Whether numbers were read with a decimal comma.
+    pub decimal_comma: bool,
+    /// Numeric time axis, one per kept row, input order (see [`TimeKind`]).
     pub times: Vec<f64>,
     pub values: Vec<f64>,
     /// 1-based line number in the input text of each kept row.
@@ -55,20 +98,763 @@ pub struct Series {
     pub warnings: Vec<Warning>,
 }
 
-pub fn parse_series(_text: &str, _opts: &ParseOptions) -> Result<Series, DataError> {
-    unimplemented!("data input is being written")
-}
-
 /// Why input could not be read.
 #[derive(Debug, Clone, PartialEq)]
 pub struct DataError {
+    /// 1-based line in the original text, when the problem has one.
     pub line: Option<usize>,
     pub kind: DataErrorKind,
+    /// A sentence for a human saying what was found and what was expected.
     pub message: String,
 }
 
+/// What kind of problem a [`DataError`] is.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[non_exhaustive]
 pub enum DataErrorKind {
+    /// The text is empty or blank.
     Empty,
+    /// There is no data row: only a header, or every row lacks its value.
+    NoData,
+    /// The options cannot be used: a delimiter that is not a single ASCII
+    /// punctuation or space character, or the same column for time and value.
+    InvalidOptions,
+    /// A chosen column name or index does not exist; the message lists the columns.
+    UnknownColumn,
+    /// A row has fewer fields than the chosen columns need.
+    TooFewFields,
+    /// A time that is not a number, date, year-month or quarter, or names
+    /// no real date (`2023-02-29`), month or quarter.
+    BadTime,
+    /// A row has a value but no time.
+    MissingTime,
+    /// A time of another kind than the first data row's (a date among numbers, …).
+    MixedTimeFormats,
+    /// A time beyond ±1e9 (or an infinite one).
+    TimeOutOfRange,
+    /// Two rows have the same time; the message names both lines.
+    DuplicateTime,
+    /// A value that is not a number.
+    BadValue,
+    /// A value that is infinite or beyond ±1e300.
+    ValueOutOfRange,
+    /// Some numbers use a decimal point and others a decimal comma; the
+    /// error names a line of the less common convention.
+    DecimalConflict,
+    /// The CSV reader itself failed (not expected for in-memory text).
+    Malformed,
+}
+
+impl fmt::Display for DataError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self.line {
+            Some(line) => write!(f, "line {line}: {}", self.message),
+            None => f.write_str(&self.message),
+        }
+    }
+}
+
+impl std::error::Error for DataError {}
+
+fn error(kind: DataErrorKind, line: Option<usize>, message: impl Into<String>) -> DataError {
+    DataError {
+        line,
+        kind,
+        message: message.into(),
+    }
+}
+
+/// Running sum of `values`: turns per-period counts (new sign-ups per week)
+/// into the cumulative series that growth curves describe.
+pub fn cumulate(values: &[f64]) -> Vec<f64> {
+    values
+        .iter()
+        .scan(0.0, |sum, v| {
+            *sum += v;
+            Some(*sum)
+        })
+        .collect()
+}
+
+/// How many non-blank lines delimiter detection looks at.
+const SNIFF_LINES: usize = 10;
+
+/// Spreadsheet tokens for "no value here", compared case-insensitively.
+const MISSING: [&str; 8] = ["", "na", "n/a", "nan", "null", "-", ".", "#n/a"];
+
+fn is_missing(s: &str) -> bool {
+    let s = s.trim();
+    MISSING.iter().any(|m| s.eq_ignore_ascii_case(m))
+}
+
+/// One record of the text with the line it starts on.
+struct Record {
+    line: usize,
+    fields: Vec<String>,
+}
+
+impl Record {
+    fn field(&self, i: usize) -> Option<&str> {
+        self.fields.get(i).map(String::as_str)
+    }
+}
+
+/// A row that will be on the axis: its line and its two raw fields.
+struct Row<'a> {
+    line: usize,
+    time: &'a str,
+    value: &'a str,
+}
+
+/// Parses `text` into a series; see the module documentation for what is
+/// detected and [`DataErrorKind`] for what is refused.
+pub fn parse_series(text: &str, opts: &ParseOptions) -> Result<Series, DataError> {
+    let text = text.strip_prefix('\u{feff}').unwrap_or(text);
+    if text.trim().is_empty() {
+        return Err(error(
+            DataErrorKind::Empty,
+            None,
+            "the text is empty; expected rows of a time and a value, e.g. \"2024-01-31,1250\"",
+        ));
+    }
+    let delimiter = match opts.delimiter {
+        Some(d) => check_delimiter(d)?,
+        None => detect_delimiter(text),
+    };
+    let records = read_records(text, delimiter)?;
+    let Some(first) = records.first() else {
+        return Err(error(
+            DataErrorKind::Empty,
+            None,
+            "the text has no rows; expected rows of a time and a value",
+        ));
+    };
+
+    let by_name = matches!(opts.time_column, Some(ColumnRef::Name(_)))
+        || matches!(opts.value_column, Some(ColumnRef::Name(_)));
+    let time_hint = index_hint(opts.time_column.as_ref(), 0);
+    let value_hint = index_hint(opts.value_column.as_ref(), 1);
+    let has_header = match opts.header {
+        Some(h) => h,
+        None => by_name || looks_like_header(first, time_hint, value_hint, delimiter),
+    };
+    let width = records.iter().map(|r| r.fields.len()).max().unwrap_or(0);
+    let columns: Vec<String> = (0..width)
+        .map(|i| {
+            let name = if has_header { first.field(i) } else { None };
+            match name.map(str::trim) {
+                Some(n) if !n.is_empty() => n.to_string(),
+                _ => format!("column {}", i + 1),
+            }
+        })
+        .collect();
+    let ctx = Columns {
+        columns: &columns,
+        has_header,
+        delimiter,
+        first_line: records
+            .get(usize::from(has_header))
+            .map_or(first.line, |r| r.line),
+    };
+    let time_col = ctx.resolve(opts.time_column.as_ref(), 0, "time")?;
+    let value_col = ctx.resolve(opts.value_column.as_ref(), 1, "value")?;
+    if time_col == value_col {
+        return Err(error(
+            DataErrorKind::InvalidOptions,
+            None,
+            format!(
+                "the time and value columns are both {}; choose two different columns",
+                quote(columns.get(time_col).map_or("", String::as_str))
+            ),
+        ));
+    }
+    let header_name = |i: usize, fallback: &str| -> String {
+        match first.field(i).map(str::trim) {
+            Some(n) if has_header && !n.is_empty() => n.to_string(),
+            _ => fallback.to_string(),
+        }
+    };
+    let time_name = header_name(time_col, "time");
+    let value_name = header_name(value_col, "value");
+
+    let data = records.get(usize::from(has_header)..).unwrap_or(&[]);
+    let needed = time_col.max(value_col) + 1;
+    let mut rows = Vec::with_capacity(data.len());
+    let mut skipped = Vec::new();
+    for r in data {
+        let (Some(t), Some(v)) = (r.field(time_col), r.field(value_col)) else {
+            return Err(error(
+                DataErrorKind::TooFewFields,
+                Some(r.line),
+                format!(
+                    "expected at least {needed} fields ({} in column {}, {} in column {}), found {}{}",
+                    quote(&time_name),
+                    time_col + 1,
+                    quote(&value_name),
+                    value_col + 1,
+                    r.fields.len(),
+                    delimiter_hint(delimiter, opts.delimiter.is_some())
+                ),
+            ));
+        };
+        if is_missing(v) {
+            skipped.push(r.line);
+        } else if is_missing(t) {
+            return Err(error(
+                DataErrorKind::MissingTime,
+                Some(r.line),
+                format!(
+                    "the row has a value ({}) but no time; every value needs a time in column {}",
+                    quote(v.trim()),
+                    time_col + 1
+                ),
+            ));
+        } else {
+            rows.push(Row {
+                line: r.line,
+                time: t,
+                value: v,
+            });
+        }
+    }
+    let Some(first_row) = rows.first() else {
+        let message = if skipped.is_empty() {
+            "no data rows after the header; expected rows of a time and a value".to_string()
+        } else {
+            format!(
+                "none of the {} data rows has a value in column {} ({})",
+                skipped.len(),
+                value_col + 1,
+                quote(&value_name)
+            )
+        };
+        return Err(error(DataErrorKind::NoData, None, message));
+    };
+
+    let Some(time_kind) = time::detect(first_row.time) else {
+        return Err(bad_time(first_row, None, &time_name));
+    };
+    let dec = decide_decimal(&rows, time_kind, delimiter)?;
+
+    let mut times = Vec::with_capacity(rows.len());
+    let mut values = Vec::with_capacity(rows.len());
+    let mut lines = Vec::with_capacity(rows.len());
+    // Keyed by the bits of the axis value (with -0 folded into 0), which is
+    // exact equality: 1 and 1.0 are duplicates, 1 and 1.0000001 are not.
+    let mut seen: HashMap<u64, usize> = HashMap::with_capacity(rows.len());
+    for row in &rows {
+        let t = time::parse(row.time, time_kind, dec)
+            .map_err(|e| time_error(e, row, time_kind, &time_name))?;
+        let v = parse_number(row.value, dec).map_err(|e| value_error(e, row, dec, delimiter))?;
+        if let Some(&earlier) = seen.get(&(t + 0.0).to_bits()) {
+            return Err(error(
+                DataErrorKind::DuplicateTime,
+                Some(row.line),
+                format!(
+                    "time {} also appears on line {earlier}; expected each time once",
+                    quote(row.time.trim())
+                ),
+            ));
+        }
+        seen.insert((t + 0.0).to_bits(), row.line);
+        times.push(t);
+        values.push(v);
+        lines.push(row.line);
+    }
+
+    let mut warnings = Vec::new();
+    if !skipped.is_empty() {
+        warnings.push(Warning::new(
+            WarningCode::MissingValuesSkipped,
+            skipped_message(&skipped),
+        ));
+    }
+    if let Some(w) = unsorted_warning(&times, &lines, time_kind) {
+        warnings.push(w);
+    }
+    Ok(Series {
+        time_kind,
+        time_name,
+        value_name,
+        columns,
+        has_header,
+        delimiter,
+        decimal_comma: dec == Decimal::Comma,
+        times,
+        values,
+        lines,
+        warnings,
+    })
+}
+
+/// The delimiter a user gave, if the CSV reader can use it.
+fn check_delimiter(d: u8) -> Result<u8, DataError> {
+    let usable = d == b'\t' || d == b' ' || d.is_ascii_punctuation();
+    if usable && d != b'"' {
+        Ok(d)
+    } else {
+        Err(error(
+            DataErrorKind::InvalidOptions,
+            None,
+            format!(
+                "cannot use {:?} as the field delimiter; expected a comma, semicolon, tab or other ASCII punctuation other than '\"'",
+                char::from(d)
+            ),
+        ))
+    }
+}
+
+/// Tab, semicolon or comma: the first (in that order) found outside quotes
+/// on every sampled line, else the one on most lines. The order matters for
+/// pasted European data, where `1\t2,5` and `1;2,5` also contain commas.
+fn detect_delimiter(text: &str) -> u8 {
+    const CANDIDATES: [u8; 3] = [b'\t', b';', b','];
+    let mut lines_with = [0usize; 3];
+    let mut on_line = [false; 3];
+    let mut sampled = 0;
+    let mut content = false;
+    let mut quoted = false;
+    for b in text.bytes().chain(std::iter::once(b'\n')) {
+        if b == b'"' {
+            quoted = !quoted;
+        }
+        if b == b'\n' && !quoted {
+            if content {
+                sampled += 1;
+                for (n, on) in lines_with.iter_mut().zip(&mut on_line) {
+                    *n += usize::from(*on);
+                }
+                if sampled == SNIFF_LINES {
+                    break;
+                }
+            }
+            on_line = [false; 3];
+            content = false;
+            continue;
+        }
+        if !quoted {
+            if let Some(i) = CANDIDATES.iter().position(|&c| c == b) {
+                on_line[i] = true;
+            }
+        }
+        content |= !b.is_ascii_whitespace();
+    }
+    let everywhere = (0..3).find(|&i| sampled > 0 && lines_with[i] == sampled);
+    let most = (0..3)
+        .filter(|&i| lines_with[i] > 0)
+        .max_by_key(|&i| (lines_with[i], std::cmp::Reverse(i)));
+    everywhere
+        .or(most)
+        .and_then(|i| CANDIDATES.get(i).copied())
+        .unwrap_or(b',')
+}
+
+/// All non-blank records, each with the line of the original text it starts on.
+fn read_records(text: &str, delimiter: u8) -> Result<Vec<Record>, DataError> {
+    let lines = LineIndex::new(text);
+    let mut reader = csv::ReaderBuilder::new()
+        .has_headers(false)
+        .flexible(true)
+        .delimiter(delimiter)
+        .from_reader(text.as_bytes());
+    let mut records = Vec::new();
+    for rec in reader.byte_records() {
+        let rec = rec.map_err(|e| {
+            let line = e.position().map(|p| lines.record_line(p));
+            error(
+                DataErrorKind::Malformed,
+                line,
+                format!("cannot read the text as delimited fields: {e}"),
+            )
+        })?;
+        // Fields split at an ASCII delimiter of UTF-8 text are UTF-8; lossy
+        // conversion only guards against an exotic user-chosen delimiter.
+        let fields: Vec<String> = rec
+            .iter()
+            .map(|f| String::from_utf8_lossy(f).into_owned())
+            .collect();
+        // Rows of empty cells (`,,`) are what spreadsheets export for blank rows.
+        if fields.iter().all(|f| f.trim().is_empty()) {
+            continue;
+        }
+        let line = rec.position().map_or(0, |p| lines.record_line(p));
+        records.push(Record { line, fields });
+    }
+    Ok(records)
+}
+
+/// Byte offsets of the line breaks of a text, to turn a record's position
+/// into its line.
+///
+/// csv's own `Position::line()` is not usable as it is: a record's position
+/// is where the reader stood *before* it skipped the blank lines (and the
+/// `\n` of a `\r\n`) in front of the record, so it names an earlier line.
+/// Its byte offset is off the same way, but what was skipped is only line
+/// ends, so stepping over them from there finds the record's first byte.
+struct LineIndex<'a> {
+    text: &'a [u8],
+    /// Offsets of `\n`, and of a `\r` not followed by `\n` (old Mac line ends,
+    /// which csv also treats as record ends).
+    breaks: Vec<usize>,
+}
+
+impl<'a> LineIndex<'a> {
+    fn new(text: &'a str) -> Self {
+        let text = text.as_bytes();
+        let breaks = text
+            .iter()
+            .enumerate()
+            .filter(|&(i, &b)| b == b'\n' || (b == b'\r' && text.get(i + 1) != Some(&b'\n')))
+            .map(|(i, _)| i)
+            .collect();
+        LineIndex { text, breaks }
+    }
+
+    /// 1-based line of the first byte of the record csv reports at `pos`.
+    fn record_line(&self, pos: &csv::Position) -> usize {
+        let mut at = usize::try_from(pos.byte()).unwrap_or(usize::MAX);
+        while matches!(self.text.get(at), Some(b'\r' | b'\n')) {
+            at += 1;
+        }
+        1 + self.breaks.partition_point(|&b| b < at)
+    }
+}
+
+/// The index a column reference points at before the header is known.
+fn index_hint(r: Option<&ColumnRef>, default: usize) -> Option<usize> {
+    match r {
+        None => Some(default),
+        Some(ColumnRef::Index(i)) => Some(*i),
+        Some(ColumnRef::Name(_)) => None,
+    }
+}
+
+/// A first record is a header when its time or its value field is text that
+/// is neither a time/number nor a missing-value token.
+fn looks_like_header(
+    first: &Record,
+    time_col: Option<usize>,
+    value_col: Option<usize>,
+    delimiter: u8,
+) -> bool {
+    let field = |c: Option<usize>| c.and_then(|i| first.field(i)).filter(|f| !is_missing(f));
+    let time_is_text = field(time_col).is_some_and(|f| time::detect(f).is_none());
+    let value_is_text = field(value_col).is_some_and(|f| {
+        let conventions: &[Decimal] = if delimiter == b',' {
+            &[Decimal::Point]
+        } else {
+            &[Decimal::Point, Decimal::Comma]
+        };
+        conventions
+            .iter()
+            .all(|&d| parse_number(f, d) == Err(NumError::Invalid))
+    });
+    time_is_text || value_is_text
+}
+
+/// What column resolution needs to know, and to say in its errors.
+struct Columns<'a> {
+    columns: &'a [String],
+    has_header: bool,
+    delimiter: u8,
+    /// Line of the first data row, for "too few fields" when the whole text
+    /// has fewer columns than the defaults need.
+    first_line: usize,
+}
+
+impl Columns<'_> {
+    fn resolve(
+        &self,
+        r: Option<&ColumnRef>,
+        default: usize,
+        role: &str,
+    ) -> Result<usize, DataError> {
+        match r {
+            None if default < self.columns.len() => Ok(default),
+            None => Err(error(
+                DataErrorKind::TooFewFields,
+                Some(self.first_line),
+                format!(
+                    "expected at least {} fields (a time and a value), found {}{}",
+                    default + 1,
+                    self.columns.len(),
+                    delimiter_hint(self.delimiter, false)
+                ),
+            )),
+            Some(ColumnRef::Index(i)) if *i < self.columns.len() => Ok(*i),
+            Some(ColumnRef::Index(i)) => Err(error(
+                DataErrorKind::UnknownColumn,
+                None,
+                format!(
+                    "there is no column {} for the {role}; the text has {} column{}: {}",
+                    i.saturating_add(1),
+                    self.columns.len(),
+                    if self.columns.len() == 1 { "" } else { "s" },
+                    self.list()
+                ),
+            )),
+            Some(ColumnRef::Name(name)) => {
+                let wanted = name.trim().to_lowercase();
+                let found = self
+                    .columns
+                    .iter()
+                    .position(|c| c.trim().to_lowercase() == wanted);
+                match found {
+                    Some(i) if self.has_header => Ok(i),
+                    _ => Err(error(
+                        DataErrorKind::UnknownColumn,
+                        None,
+                        format!(
+                            "there is no column named {} for the {role}; {}",
+                            quote(name.trim()),
+                            if self.has_header {
+                                format!("the columns are {}", self.list())
+                            } else {
+                                format!(
+                                    "the text has no header row, so choose the column by number (columns: {})",
+                                    self.list()
+                                )
+                            }
+                        ),
+                    )),
+                }
+            }
+        }
+    }
+
+    fn list(&self) -> String {
+        let names: Vec<String> = self.columns.iter().map(|c| quote(c)).collect();
+        names.join(", ")
+    }
+}
+
+/// A field shown in a message: quoted, and cut short if someone pasted a novel.
+fn quote(s: &str) -> String {
+    const MAX_CHARS: usize = 40;
+    if s.chars().count() > MAX_CHARS {
+        let cut: String = s.chars().take(MAX_CHARS).collect();
+        format!("\"{cut}…\"")
+    } else {
+        format!("\"{s}\"")
+    }
+}
+
+fn delimiter_name(d: u8) -> String {
+    match d {
+        b',' => "comma".into(),
+        b';' => "semicolon".into(),
+        b'\t' => "tab".into(),
+        other => format!("{:?}", char::from(other)),
+    }
+}
+
+/// Too few fields often means the delimiter was guessed (or given) wrong.
+fn delimiter_hint(d: u8, given: bool) -> String {
+    format!(
+        " (fields separated by {}{})",
+        delimiter_name(d),
+        if given {
+            ", as chosen"
+        } else {
+            ", as detected"
+        }
+    )
+}
+
+/// One decimal convention for the whole text, from the votes of the value
+/// column and (when it holds numbers) the time column: a comma never is a
+/// decimal mark in comma-separated text; otherwise the votes decide, a
+/// conflict is an error, and with no decisive vote semicolon-separated text
+/// (the export of locales that write decimal commas) reads a comma, the
+/// rest a point.
+fn decide_decimal(rows: &[Row], kind: TimeKind, delimiter: u8) -> Result<Decimal, DataError> {
+    if delimiter == b',' {
+        return Ok(Decimal::Point);
+    }
+    // (count, first line, first field) per convention
+    let mut point: (usize, usize, &str) = (0, 0, "");
+    let mut comma: (usize, usize, &str) = (0, 0, "");
+    for row in rows {
+        let fields = if kind == TimeKind::Number {
+            [Some(row.time), Some(row.value)]
+        } else {
+            [None, Some(row.value)]
+        };
+        for f in fields.into_iter().flatten() {
+            let tally = match field_vote(f) {
+                Some(Decimal::Point) => &mut point,
+                Some(Decimal::Comma) => &mut comma,
+                None => continue,
+            };
+            if tally.0 == 0 {
+                *tally = (0, row.line, f.trim());
+            }
+            tally.0 += 1;
+        }
+    }
+    match (point.0, comma.0) {
+        (0, 0) if delimiter == b';' => Ok(Decimal::Comma),
+        (0, 0) => Ok(Decimal::Point),
+        (_, 0) => Ok(Decimal::Point),
+        (0, _) => Ok(Decimal::Comma),
+        (p, c) => {
+            // The minority; on a tie, the convention that showed up second.
+            let (minority, majority, dec) = if p < c || (p == c && point.1 > comma.1) {
+                (point, comma, Decimal::Point)
+            } else {
+                (comma, point, Decimal::Comma)
+            };
+            Err(error(
+                DataErrorKind::DecimalConflict,
+                Some(minority.1),
+                format!(
+                    "{} is written with {}, but the text mixes conventions: {} number{} with {} (e.g. {} on line {}), {} with {}; expected one convention for the whole text",
+                    quote(minority.2),
+                    dec.describe(),
+                    majority.0,
+                    if majority.0 == 1 { "" } else { "s" },
+                    dec.other().describe(),
+                    quote(majority.2),
+                    majority.1,
+                    minority.0,
+                    dec.describe()
+                ),
+            ))
+        }
+    }
+}
+
+/// A field's vote, counted only when the field reads as a number under the
+/// convention it votes for, so a malformed field (a `01.02.2024` date) is
+/// reported as what it is rather than as a decimal conflict.
+fn field_vote(s: &str) -> Option<Decimal> {
+    let dec = match number::vote(s) {
+        Vote::Point => Decimal::Point,
+        Vote::Comma => Decimal::Comma,
+        Vote::Neither => return None,
+    };
+    parse_number(s, dec).is_ok().then_some(dec)
+}
+
+fn bad_time(row: &Row, kind: Option<TimeKind>, name: &str) -> DataError {
+    let expected = match kind {
+        Some(k) => format!("expected {} like the rows above", k.expected_form()),
+        None => "expected a number (such as 12 or 2019), a date YYYY-MM-DD, a year-month YYYY-MM or a quarter such as 2024Q3".into(),
+    };
+    error(
+        DataErrorKind::BadTime,
+        Some(row.line),
+        format!(
+            "cannot read {} as a time (column {}); {expected}",
+            quote(row.time.trim()),
+            quote(name)
+        ),
+    )
+}
+
+fn time_error(e: TimeError, row: &Row, kind: TimeKind, name: &str) -> DataError {
+    let found = quote(row.time.trim());
+    match e {
+        TimeError::Invalid => bad_time(row, Some(kind), name),
+        TimeError::NoSuchTime => error(
+            DataErrorKind::BadTime,
+            Some(row.line),
+            format!(
+                "{found} is not a real {}; expected {}",
+                match kind {
+                    TimeKind::Date => "date",
+                    TimeKind::Month => "month (months run from 01 to 12)",
+                    TimeKind::Quarter => "quarter (quarters run from Q1 to Q4)",
+                    TimeKind::Number => "number",
+                },
+                kind.expected_form()
+            ),
+        ),
+        TimeError::OtherKind(other) => error(
+            DataErrorKind::MixedTimeFormats,
+            Some(row.line),
+            format!(
+                "found {} ({found}) but the first data row has {}; expected {} in every row",
+                other.describe(),
+                kind.describe(),
+                kind.expected_form()
+            ),
+        ),
+        TimeError::OutOfRange => error(
+            DataErrorKind::TimeOutOfRange,
+            Some(row.line),
+            format!("the time {found} is out of range; expected a time between -1e9 and 1e9"),
+        ),
+    }
+}
+
+fn value_error(e: NumError, row: &Row, dec: Decimal, delimiter: u8) -> DataError {
+    let found = quote(row.value.trim());
+    match e {
+        NumError::NotFinite => error(
+            DataErrorKind::ValueOutOfRange,
+            Some(row.line),
+            format!("the value {found} is infinite or too large; expected a finite number between -1e300 and 1e300"),
+        ),
+        NumError::Invalid => {
+            let example = match dec {
+                Decimal::Point => "1234.5 or 1,234.5",
+                Decimal::Comma => "1234,5 or 1.234,5",
+            };
+            let note = if delimiter == b',' && row.value.contains(',') {
+                " (in comma-separated text a comma groups thousands and cannot be a decimal mark)"
+            } else {
+                ""
+            };
+            error(
+                DataErrorKind::BadValue,
+                Some(row.line),
+                format!(
+                    "cannot read the value {found} as a number; expected a number written with {} such as {example}{note}",
+                    dec.describe()
+                ),
+            )
+        }
+    }
+}
+
+/// "2 rows with no value were left out (lines 4, 9)", listing at most a screenful.
+fn skipped_message(lines: &[usize]) -> String {
+    const MAX_LISTED: usize = 20;
+    let n = lines.len();
+    let listed: Vec<String> = lines
+        .iter()
+        .take(MAX_LISTED)
+        .map(|l| l.to_string())
+        .collect();
+    let more = if n > MAX_LISTED {
+        format!(" and {} more", n - MAX_LISTED)
+    } else {
+        String::new()
+    };
+    if n == 1 {
+        format!(
+            "1 row with no value was left out (line {})",
+            listed.join("")
+        )
+    } else {
+        format!(
+            "{n} rows with no value were left out (lines {}{more})",
+            listed.join(", ")
+        )
+    }
+}
+
+/// Names the first line whose time is earlier than the row before it.
+fn unsorted_warning(times: &[f64], lines: &[usize], kind: TimeKind) -> Option<Warning> {
+    let i = times.windows(2).position(|w| w[1] < w[0])? + 1;
+    let (before, t, line) = (times.get(i - 1)?, times.get(i)?, lines.get(i)?);
+    Some(Warning::new(
+        WarningCode::RowsUnsorted,
+        format!(
+            "rows are not in time order: line {line} goes back to {} after {}; they are fitted as a set and shown in input order",
+            kind.format(*t),
+            kind.format(*before)
+        ),
+    ))
 }

@@ -10,10 +10,12 @@
 //! a [`data::Series`]; [`fit::fit`] fits a [`model::Model`] to it and returns
 //! a [`fit::Fit`]; [`compare::compare`] ranks every model by AICc.
 
+pub mod analysis;
 pub mod compare;
 pub mod data;
 pub mod fit;
 pub mod model;
+pub mod report;
 pub mod solver;
 pub mod start;
 pub mod stats;

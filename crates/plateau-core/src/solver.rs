@@ -69,6 +69,19 @@ pub enum Termination {
 }
 
 impl Termination {
+    /// A stable machine-readable name, as in the JSON report.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Termination::SmallReduction => "small_reduction",
+            Termination::SmallStep => "small_step",
+            Termination::SmallGradient => "small_gradient",
+            Termination::ZeroResidual => "zero_residual",
+            Termination::MaxIterations => "max_iterations",
+            Termination::NoProgress => "no_progress",
+            Termination::InvalidStart => "invalid_start",
+        }
+    }
+
     /// Whether this reason means a (local) minimum was reached.
     pub fn is_converged(self) -> bool {
         matches!(

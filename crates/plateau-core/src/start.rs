@@ -76,7 +76,7 @@ impl Linearisation {
     fn params(self, a: f64, b: f64) -> (f64, f64) {
         match self {
             Linearisation::FisherPry => (b, -a / b),
-            Linearisation::LogLog => (-b, a / b),
+            Linearisation::LogLog => (-b, -a / b),
         }
     }
 }
@@ -126,12 +126,12 @@ fn search_k(lin: Linearisation, t: &[f64], y: &[f64], fixed_k: Option<f64>) -> O
     let ymax = yp.iter().cloned().fold(f64::MIN, f64::max);
     let ymin = yp.iter().cloned().fold(f64::MAX, f64::min);
     let span = if ymax > ymin { ymax - ymin } else { ymax };
-    // K = ymax + span · 10^u, u on a grid from −3 to 3.
+    // K = ymax + span · 10^u, u on a grid from −6 to 3.
     let k_of = |u: f64| ymax + span * 10f64.powf(u);
     let mut score = |u: f64| -> f64 {
         line_for_k(lin, &tp, &yp, k_of(u), &mut buf).map_or(f64::INFINITY, |s| s.0)
     };
-    let grid: Vec<f64> = (0..=12).map(|i| -3.0 + 0.5 * i as f64).collect();
+    let grid: Vec<f64> = (0..=18).map(|i| -6.0 + 0.5 * i as f64).collect();
     let scores: Vec<f64> = grid.iter().map(|&u| score(u)).collect();
     let (best, best_score) = scores
         .iter()

@@ -3,3 +3,4 @@
 
 mod nist;
 mod recovery;
+mod scipy;

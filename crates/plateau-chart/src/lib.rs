@@ -1,0 +1,146 @@
+//! Charts of a growth-curve fit, drawn with plotters on any
+//! [`DrawingBackend`]: SVG here and in the CLI, a canvas in the browser.
+//!
+//! Main items: [`ChartInput`] (plain data: the observations, the
+//! [`Fit`], a forecast horizon, an axis label formatter and captions),
+//! [`ChartKind`], the three drawing functions [`draw_curve`],
+//! [`draw_residuals`] and [`draw_symmetry`] (plus the dispatcher [`draw`]),
+//! [`render_svg`], and [`ChartError`].
+//!
+//! No fonts are loaded: text goes through plotters' built-in font handling
+//! (no `ttf` feature), which on SVG emits `<text>` elements for the viewer
+//! to render and in the browser measures text with the page's fonts. That
+//! keeps the crate building for `wasm32-unknown-unknown`.
+//!
+//! Sizes (fonts, markers, line widths, margins) scale with the pixel size
+//! of the drawing area, so a canvas drawn at twice the CSS size for a
+//! device pixel ratio of 2 reads the same as one at ratio 1.
+
+mod common;
+mod curve;
+pub mod palette;
+mod residuals;
+mod symmetry;
+
+use plateau_core::fit::Fit;
+use plotters::coord::Shift;
+use plotters::prelude::*;
+use std::error::Error;
+use std::fmt;
+
+pub use common::{format_value, plain_time};
+pub use curve::draw_curve;
+pub use residuals::draw_residuals;
+pub use symmetry::{draw_symmetry, NOT_AVAILABLE_EXPONENTIAL};
+
+/// Everything a chart needs, as plain data.
+pub struct ChartInput<'a> {
+    /// Observation times on the numeric axis the fit used.
+    pub times: &'a [f64],
+    /// Observed values, one per time.
+    pub values: &'a [f64],
+    pub fit: &'a Fit,
+    /// End of the forecast in axis units; `None`, or a time not after the
+    /// last observation, draws no forecast.
+    pub horizon: Option<f64>,
+    /// Formats a time-axis value for tick labels (e.g. `2024.5` → `2024-07`).
+    pub format_time: &'a dyn Fn(f64) -> String,
+    /// Caption of the time axis.
+    pub time_caption: &'a str,
+    /// Caption of the value axis.
+    pub value_caption: &'a str,
+}
+
+/// Which chart to draw.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub enum ChartKind {
+    /// Observations, fitted curve, forecast, 95% band, K line, midpoint.
+    Curve,
+    /// Residuals against time around a zero line.
+    Residuals,
+    /// Observations and their reflections through the curve's center.
+    Symmetry,
+}
+
+impl ChartKind {
+    pub const ALL: [ChartKind; 3] = [ChartKind::Curve, ChartKind::Residuals, ChartKind::Symmetry];
+
+    pub fn name(self) -> &'static str {
+        match self {
+            ChartKind::Curve => "curve",
+            ChartKind::Residuals => "residuals",
+            ChartKind::Symmetry => "symmetry",
+        }
+    }
+}
+
+/// Why a chart could not be drawn.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum ChartError {
+    /// The input cannot be charted: times and values differ in length, no
+    /// finite observation, or a drawing area too small to hold a chart.
+    InvalidInput(String),
+    /// The backend failed to draw (plotters' `DrawingAreaErrorKind::BackendError`).
+    /// Kept as text because the underlying error type depends on the backend.
+    Backend(String),
+    /// plotters could not lay the chart out (`DrawingAreaErrorKind::LayoutError`).
+    Layout,
+    /// The backend was in use by another drawing operation
+    /// (`DrawingAreaErrorKind::SharingError`).
+    Sharing,
+}
+
+impl fmt::Display for ChartError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            ChartError::InvalidInput(m) => write!(f, "cannot draw the chart: {m}"),
+            ChartError::Backend(m) => write!(f, "drawing failed: {m}"),
+            ChartError::Layout => {
+                f.write_str("drawing failed: the chart does not fit the drawing area")
+            }
+            ChartError::Sharing => f.write_str("drawing failed: the drawing backend is busy"),
+        }
+    }
+}
+
+impl Error for ChartError {}
+
+impl<E: Error + Send + Sync> From<DrawingAreaErrorKind<E>> for ChartError {
+    fn from(e: DrawingAreaErrorKind<E>) -> Self {
+        match e {
+            DrawingAreaErrorKind::BackendError(b) => ChartError::Backend(b.to_string()),
+            DrawingAreaErrorKind::LayoutError => ChartError::Layout,
+            DrawingAreaErrorKind::SharingError => ChartError::Sharing,
+        }
+    }
+}
+
+/// Draws the chart `which` on `area`.
+pub fn draw<DB: DrawingBackend>(
+    which: ChartKind,
+    area: &DrawingArea<DB, Shift>,
+    input: &ChartInput,
+) -> Result<(), ChartError> {
+    match which {
+        ChartKind::Curve => draw_curve(area, input),
+        ChartKind::Residuals => draw_residuals(area, input),
+        ChartKind::Symmetry => draw_symmetry(area, input),
+    }
+}
+
+/// Renders the chart `which` as a standalone SVG document of
+/// `width` × `height` pixels.
+pub fn render_svg(
+    which: ChartKind,
+    input: &ChartInput,
+    width: u32,
+    height: u32,
+) -> Result<String, ChartError> {
+    let mut svg = String::new();
+    {
+        let root = SVGBackend::with_string(&mut svg, (width, height)).into_drawing_area();
+        draw(which, &root, input)?;
+        root.present()?;
+    }
+    Ok(svg)
+}

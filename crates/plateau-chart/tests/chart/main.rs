@@ -1,0 +1,326 @@
+//! Structural tests of the rendered charts: each chart is rendered to SVG
+//! natively and the SVG text is checked for what must be on it (markers,
+//! labels, figures), and degenerate inputs are checked to return an error
+//! or a chart but never to panic.
+
+use plateau_chart::{
+    draw, format_value, plain_time, render_svg, ChartError, ChartInput, ChartKind,
+    NOT_AVAILABLE_EXPONENTIAL,
+};
+use plateau_core::analysis::symmetry;
+use plateau_core::fit::{fit_xy, Fit, FitOptions};
+use plateau_core::Model;
+use plotters::prelude::*;
+use rand::SeedableRng;
+use rand_chacha::ChaCha8Rng;
+use rand_distr::{Distribution, Normal};
+
+const W: u32 = 800;
+const H: u32 = 500;
+
+/// `n` noisy points of `model(p)` at t = 2000, 2001, …
+fn series(model: Model, p: &[f64], n: usize, noise: f64, seed: u64) -> (Vec<f64>, Vec<f64>) {
+    let mut rng = ChaCha8Rng::seed_from_u64(seed);
+    let normal = Normal::new(0.0, noise).unwrap();
+    let t: Vec<f64> = (0..n).map(|i| 2000.0 + i as f64).collect();
+    let y = t
+        .iter()
+        .map(|&ti| model.eval(p, ti) + normal.sample(&mut rng))
+        .collect();
+    (t, y)
+}
+
+struct Case {
+    t: Vec<f64>,
+    y: Vec<f64>,
+    fit: Fit,
+}
+
+impl Case {
+    fn new(data: Model, fitted: Model, p: &[f64], n: usize, noise: f64) -> Case {
+        let (t, y) = series(data, p, n, noise, 7);
+        let fit = fit_xy(&t, &y, fitted, &FitOptions::default()).expect("fit");
+        Case { t, y, fit }
+    }
+
+    fn input(&self) -> ChartInput<'_> {
+        ChartInput {
+            times: &self.t,
+            values: &self.y,
+            fit: &self.fit,
+            horizon: Some(self.t.last().unwrap() + 8.0),
+            format_time: &plain_time,
+            time_caption: "year",
+            value_caption: "users",
+        }
+    }
+}
+
+fn logistic() -> Case {
+    Case::new(
+        Model::Logistic,
+        Model::Logistic,
+        &[2.5e6, 0.6, 2012.0],
+        20,
+        2.0e4,
+    )
+}
+
+fn gompertz() -> Case {
+    Case::new(
+        Model::Gompertz,
+        Model::Gompertz,
+        &[8000.0, 0.35, 2010.0],
+        24,
+        60.0,
+    )
+}
+
+/// y = 3 at t = 2000, growing 25% a year (a is y at t = 0 on the calendar axis).
+fn exponential() -> Case {
+    let a = 3.0 * (-0.25f64 * 2000.0).exp();
+    Case::new(Model::Exponential, Model::Exponential, &[a, 0.25], 12, 0.5)
+}
+
+fn count(svg: &str, needle: &str) -> usize {
+    svg.matches(needle).count()
+}
+
+fn render(kind: ChartKind, input: &ChartInput) -> String {
+    let svg = render_svg(kind, input, W, H).expect("render");
+    assert!(svg.contains("<svg"), "not an SVG document");
+    assert!(svg.trim_end().ends_with("</svg>"), "SVG not closed");
+    svg
+}
+
+#[test]
+fn curve_chart_has_points_k_label_and_legend() {
+    for case in [logistic(), gompertz()] {
+        let input = case.input();
+        let svg = render(ChartKind::Curve, &input);
+        // One filled circle per observation plus the legend's sample marker.
+        assert_eq!(count(&svg, "<circle"), case.t.len() + 1);
+        let k = case.fit.param("K").unwrap().estimate;
+        assert!(svg.contains(&format!("K = {}", format_value(k))), "K label");
+        let name = case.fit.model.name();
+        for text in [
+            &format!("{name} fit") as &str,
+            &format!("fitted {name}"),
+            "forecast",
+            "95% confidence band",
+            "observed",
+            "year",
+            "users",
+            "t0 = ",
+        ] {
+            assert!(svg.contains(text), "{name}: missing text {text:?}");
+        }
+        let marker = if case.fit.model == Model::Logistic {
+            "midpoint (t0, K/2)"
+        } else {
+            "inflection (t0, f(t0))"
+        };
+        assert!(svg.contains(marker));
+        // The band is one polygon.
+        assert!(count(&svg, "<polygon") >= 1);
+    }
+}
+
+#[test]
+fn residual_chart_has_one_marker_per_point() {
+    for case in [logistic(), gompertz()] {
+        let svg = render(ChartKind::Residuals, &case.input());
+        assert_eq!(count(&svg, "<circle"), case.t.len());
+        assert!(svg.contains("±2σ"));
+        assert!(svg.contains("residuals of the"));
+    }
+}
+
+#[test]
+fn symmetry_chart_shows_both_marker_sets_and_the_ratio() {
+    for case in [logistic(), gompertz()] {
+        let input = case.input();
+        let svg = render(ChartKind::Symmetry, &input);
+        let n = case.t.len();
+        // Observations as circles, reflections as triangles (SVG polygons),
+        // each plus one legend sample.
+        assert_eq!(count(&svg, "<circle"), n + 1);
+        assert_eq!(count(&svg, "<polygon"), n + 1);
+        let sym = symmetry(&case.fit, &case.t, &case.y).unwrap();
+        let ratio = sym.rms_ratio.expect("ratio");
+        assert!(
+            svg.contains(&format!("rms ratio = {ratio:.2}")),
+            "ratio text"
+        );
+        let cue = if case.fit.model == Model::Logistic {
+            "mirror each other"
+        } else {
+            "not point-symmetric"
+        };
+        assert!(svg.contains(cue), "meaning text");
+    }
+}
+
+#[test]
+fn exponential_symmetry_chart_says_not_available() {
+    let case = exponential();
+    let svg = render(ChartKind::Symmetry, &case.input());
+    assert!(NOT_AVAILABLE_EXPONENTIAL.contains("not available for the exponential model"));
+    // The message is wrapped over lines; its key phrase stays on one.
+    assert!(svg.contains("not available for the exponential"), "{svg}");
+    // The other charts still work for the exponential (no K line, no midpoint).
+    let svg = render(ChartKind::Curve, &case.input());
+    assert!(!svg.contains("K = "));
+    assert_eq!(count(&svg, "<circle"), case.t.len() + 1);
+    render(ChartKind::Residuals, &case.input());
+}
+
+#[test]
+fn sizes_scale_with_the_canvas() {
+    let case = logistic();
+    let input = case.input();
+    let small = render_svg(ChartKind::Curve, &input, W, H).unwrap();
+    let big = render_svg(ChartKind::Curve, &input, 2 * W, 2 * H).unwrap();
+    let max_font = |svg: &str| {
+        svg.split("font-size=\"")
+            .skip(1)
+            .filter_map(|s| s.split('"').next()?.parse::<f64>().ok())
+            .fold(0.0, f64::max)
+    };
+    let radius = |svg: &str| {
+        svg.split("<circle")
+            .nth(1)
+            .and_then(|s| s.split("r=\"").nth(1))
+            .and_then(|s| s.split('"').next())
+            .and_then(|s| s.parse::<f64>().ok())
+            .unwrap()
+    };
+    assert!((max_font(&big) / max_font(&small) - 2.0).abs() < 0.05);
+    assert!((radius(&big) / radius(&small) - 2.0).abs() < 0.3);
+}
+
+#[test]
+fn draws_on_any_backend_area() {
+    // Generic over DrawingBackend: three charts side by side in sub-areas.
+    let case = gompertz();
+    let input = case.input();
+    let mut svg = String::new();
+    {
+        let root = SVGBackend::with_string(&mut svg, (2400, 500)).into_drawing_area();
+        let parts = root.split_evenly((1, 3));
+        for (area, kind) in parts.iter().zip(ChartKind::ALL) {
+            draw(kind, area, &input).unwrap();
+        }
+        root.present().unwrap();
+    }
+    assert!(
+        svg.contains("gompertz fit")
+            && svg.contains("residuals of the")
+            && svg.contains("rms ratio")
+    );
+}
+
+#[test]
+fn degenerate_inputs_never_panic() {
+    let case = logistic();
+    let mut no_cov = case.fit.clone();
+    no_cov.covariance = None;
+    let one_t = [2005.0];
+    let one_y = [1.0e5];
+    let nan_y: Vec<f64> = case.y.iter().map(|_| f64::NAN).collect();
+    let fmt = |t: f64| format!("{t}");
+    let inputs: Vec<(&str, ChartInput)> = vec![
+        (
+            "one point",
+            ChartInput {
+                times: &one_t,
+                values: &one_y,
+                ..case.input()
+            },
+        ),
+        (
+            "no covariance",
+            ChartInput {
+                fit: &no_cov,
+                ..case.input()
+            },
+        ),
+        (
+            "empty",
+            ChartInput {
+                times: &[],
+                values: &[],
+                ..case.input()
+            },
+        ),
+        (
+            "length mismatch",
+            ChartInput {
+                values: &case.y[1..],
+                ..case.input()
+            },
+        ),
+        (
+            "all NaN",
+            ChartInput {
+                values: &nan_y,
+                ..case.input()
+            },
+        ),
+        (
+            "horizon before data",
+            ChartInput {
+                horizon: Some(1900.0),
+                ..case.input()
+            },
+        ),
+        (
+            "huge horizon",
+            ChartInput {
+                horizon: Some(1.0e6),
+                ..case.input()
+            },
+        ),
+        (
+            "NaN horizon",
+            ChartInput {
+                horizon: Some(f64::NAN),
+                format_time: &fmt,
+                ..case.input()
+            },
+        ),
+    ];
+    for (what, input) in &inputs {
+        for kind in ChartKind::ALL {
+            for (w, h) in [(W, H), (0, 0), (1, 1), (48, 48), (60, 4000)] {
+                match render_svg(kind, input, w, h) {
+                    Ok(svg) => assert!(svg.contains("<svg"), "{what}"),
+                    Err(e) => assert!(!e.to_string().is_empty(), "{what}"),
+                }
+            }
+        }
+    }
+    // Specific outcomes the page relies on.
+    let svg = render_svg(ChartKind::Curve, &inputs[1].1, W, H).unwrap();
+    assert!(
+        !svg.contains("95% confidence band"),
+        "no band without covariance"
+    );
+    assert!(matches!(
+        render_svg(ChartKind::Curve, &inputs[3].1, W, H),
+        Err(ChartError::InvalidInput(_))
+    ));
+    assert!(matches!(
+        render_svg(ChartKind::Curve, &case.input(), 0, 0),
+        Err(ChartError::InvalidInput(_))
+    ));
+    // Exponential far beyond its data: the curve overflows to ∞ and is dropped.
+    let exp = exponential();
+    let far = ChartInput {
+        horizon: Some(1.0e5),
+        ..exp.input()
+    };
+    for kind in ChartKind::ALL {
+        let _ = render_svg(kind, &far, W, H);
+    }
+}

@@ -1,0 +1,426 @@
+//! Questions asked of a finished [`Fit`]: how sure is the curve at a time
+//! (confidence band), when does it reach a share of K or an absolute level
+//! (milestones), and are the data as point-symmetric as the logistic assumes
+//! (reflected-curve check).
+//!
+//! Main types and functions: [`band`] and [`sample_curve`] (→ [`CurveSample`]),
+//! [`time_at_fraction`], [`time_at_level`] and [`duration_10_90`]
+//! (→ [`Milestone`]), [`symmetry`] (→ [`Symmetry`]).
+//!
+//! Everything here is a pure function of the fit and, where the data are
+//! needed, plain slices of times and values: no parsing, no I/O.
+//!
+//! Uncertainty comes from the delta method on the free parameters θ with
+//! covariance `C` (the fit's `covariance`): for a derived quantity `h(θ)`
+//!
+//! ```text
+//! Var h ≈ gᵀ C g,    g = ∂h/∂θ at θ̂
+//! interval = h(θ̂) ± t(level, dof) · sqrt(gᵀ C g)
+//! ```
+//!
+//! the same Student-t quantile the parameter intervals use, so a milestone
+//! that is a single parameter (t0 for the logistic at p = 0.5) gets exactly
+//! that parameter's interval.
+
+use crate::fit::Fit;
+use crate::model::{Domain, Model};
+use crate::stats::t_quantile;
+
+/// Two-sided pointwise confidence interval of the fitted mean curve at `t`.
+///
+/// ```text
+/// var(t) = g(t)ᵀ C g(t),   g(t) = ∂f(t; θ)/∂θ over the free parameters
+/// (lo, hi) = f(t) ∓ t(level, dof) · sqrt(var(t))
+/// ```
+///
+/// This is the band of the *mean curve* (where the curve itself may lie),
+/// not a prediction interval for new observations, which would add σ².
+/// `None` without a covariance, for `level` outside (0, 1), or when the
+/// variance is not finite (e.g. `e^(r t)` overflowing far out).
+pub fn band(fit: &Fit, t: f64, level: f64) -> Option<(f64, f64)> {
+    let cov = fit.covariance.as_ref()?;
+    if !(level > 0.0 && level < 1.0 && t.is_finite()) {
+        return None;
+    }
+    let p = fit.values();
+    let mut grad = vec![0.0; p.len()];
+    let y = fit.model.eval_grad(&p, t, &mut grad);
+    let g: Vec<f64> = fit.free.iter().map(|&j| grad[j]).collect();
+    let var = quadratic_form(cov, &g)?;
+    let half = t_quantile(level, fit.dof) * var.max(0.0).sqrt();
+    (half.is_finite() && y.is_finite()).then_some((y - half, y + half))
+}
+
+/// One point of the fitted curve with its confidence band.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct CurveSample {
+    pub t: f64,
+    /// The fitted mean `f(t)`.
+    pub fit: f64,
+    /// Lower end of the band; `None` when the fit has no covariance.
+    pub lo: Option<f64>,
+    /// Upper end of the band; `None` together with `lo`.
+    pub hi: Option<f64>,
+}
+
+/// The fitted curve and its `level` band on `n` equally spaced times from
+/// `t_start` to `t_end` (both included; `n == 1` gives `t_start` only).
+/// Used for charts, forecast tables and CSV export.
+pub fn sample_curve(fit: &Fit, t_start: f64, t_end: f64, n: usize, level: f64) -> Vec<CurveSample> {
+    let p = fit.values();
+    let step = if n > 1 {
+        (t_end - t_start) / (n - 1) as f64
+    } else {
+        0.0
+    };
+    (0..n)
+        .map(|i| {
+            // The last point is set exactly so the grid ends on t_end.
+            let t = if i + 1 == n && n > 1 {
+                t_end
+            } else {
+                t_start + step * i as f64
+            };
+            let b = band(fit, t, level);
+            CurveSample {
+                t,
+                fit: fit.model.eval(&p, t),
+                lo: b.map(|b| b.0),
+                hi: b.map(|b| b.1),
+            }
+        })
+        .collect()
+}
+
+/// A derived time (or duration) with its 95% delta-method interval.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Milestone {
+    pub time: f64,
+    /// `time ± t(0.95, dof) · se`; `None` without a covariance or when the
+    /// milestone stops existing under a small change of the parameters
+    /// (e.g. a level just below K).
+    pub ci95: Option<(f64, f64)>,
+}
+
+/// When the curve reaches the share `p` (0 < p < 1) of its saturation level.
+///
+/// With `d = t − t0`:
+///
+/// ```text
+/// logistic    f = K / (1 + e^(−r d))           t_p = t0 + ln(p / (1 − p)) / r
+/// logistic4   (f − L) / (K − L) = p            t_p = t0 + ln(p / (1 − p)) / r
+/// gompertz    f = K exp(−e^(−r d))             t_p = t0 − ln(−ln p) / r
+/// richards    f = K (1 + ν e^(−r d))^(−1/ν)     t_p = t0 − ln((p^(−ν) − 1) / ν) / r
+/// ```
+///
+/// For the four-parameter logistic the share is of the *rise* from the
+/// floor L to K, not of K itself: "halfway" then means halfway between the
+/// starting level and saturation, which is what the parameter t0 marks. The
+/// exponential has no saturation level: `None`.
+pub fn time_at_fraction(fit: &Fit, p: f64) -> Option<Milestone> {
+    if !(p > 0.0 && p < 1.0) {
+        return None;
+    }
+    let model = fit.model;
+    milestone(fit, |q| fraction_time(model, q, p))
+}
+
+/// When the curve reaches the absolute value `y` (e.g. one million users).
+///
+/// The saturating models go through [`time_at_fraction`] with
+/// `p = y / K` (logistic4: `p = (y − L) / (K − L)`); `None` when the curve
+/// never gets there (`p ∉ (0, 1)`). Exponential: `t = ln(y / a) / r`, `None`
+/// when `y / a ≤ 0` or `r = 0`.
+pub fn time_at_level(fit: &Fit, y: f64) -> Option<Milestone> {
+    if !y.is_finite() {
+        return None;
+    }
+    let model = fit.model;
+    milestone(fit, |q| level_time(model, q, y))
+}
+
+/// Time from 10% to 90% of saturation, `t_0.9 − t_0.1`; for the logistic
+/// and logistic4 `ln(81) / r`, for the Gompertz
+/// `(ln(−ln 0.1) − ln(−ln 0.9)) / r`. `None` for the exponential.
+pub fn duration_10_90(fit: &Fit) -> Option<Milestone> {
+    let model = fit.model;
+    milestone(fit, |q| {
+        Some(fraction_time(model, q, 0.9)? - fraction_time(model, q, 0.1)?)
+    })
+}
+
+/// `t_p` for parameters `q` (in `param_names` order).
+fn fraction_time(model: Model, q: &[f64], p: f64) -> Option<f64> {
+    if !(p > 0.0 && p < 1.0) || model == Model::Exponential || q.len() < 3 {
+        return None;
+    }
+    let (r, t0) = (q[1], q[2]);
+    let t = match model {
+        Model::Logistic | Model::Logistic4 => t0 + (p / (1.0 - p)).ln() / r,
+        Model::Gompertz => t0 - (-p.ln()).ln() / r,
+        Model::Richards => {
+            let nu = q[3];
+            // p^(−ν) − 1 = expm1(−ν ln p) keeps precision for small ν.
+            t0 - ((-nu * p.ln()).exp_m1() / nu).ln() / r
+        }
+        Model::Exponential => return None,
+    };
+    t.is_finite().then_some(t)
+}
+
+fn level_time(model: Model, q: &[f64], y: f64) -> Option<f64> {
+    let t = match model {
+        Model::Exponential => {
+            let (a, r) = (q[0], q[1]);
+            let ratio = y / a;
+            if ratio.is_nan() || ratio <= 0.0 || r == 0.0 {
+                return None;
+            }
+            ratio.ln() / r
+        }
+        Model::Logistic4 => {
+            let (k, l) = (q[0], q[3]);
+            fraction_time(model, q, (y - l) / (k - l))?
+        }
+        _ => fraction_time(model, q, y / q[0])?,
+    };
+    t.is_finite().then_some(t)
+}
+
+/// Evaluates `h` at the estimate and attaches its 95% delta-method interval.
+fn milestone(fit: &Fit, h: impl Fn(&[f64]) -> Option<f64>) -> Option<Milestone> {
+    let time = h(&fit.values())?;
+    Some(Milestone {
+        time,
+        ci95: delta_interval(fit, time, 0.95, &h),
+    })
+}
+
+/// `h(θ̂) ± t(level, dof) · sqrt(gᵀ C g)` with `g` by central differences.
+///
+/// Numerical rather than analytic gradients keep one code path for every
+/// milestone and model. The step for parameter j is 10⁻³ of its standard
+/// error: small against the scale on which the delta method's linearisation
+/// is meant to hold, large against rounding (t0 on a calendar axis is
+/// ≈ 2000, so a step relative to |θ| would be needlessly coarse or fine).
+fn delta_interval(
+    fit: &Fit,
+    value: f64,
+    level: f64,
+    h: &impl Fn(&[f64]) -> Option<f64>,
+) -> Option<(f64, f64)> {
+    let cov = fit.covariance.as_ref()?;
+    let theta = fit.values();
+    let domains = fit.model.domains();
+    let mut g = Vec::with_capacity(fit.free.len());
+    for (c, &j) in fit.free.iter().enumerate() {
+        let se = cov[(c, c)].max(0.0).sqrt();
+        let scale = if se > 0.0 && se.is_finite() {
+            se
+        } else {
+            theta[j].abs().max(1.0)
+        };
+        let mut step = 1e-3 * scale;
+        if domains[j] == Domain::Positive {
+            // Stay inside the parameter's domain on the lower side.
+            step = step.min(0.5 * theta[j].abs());
+        }
+        if step.is_nan() || step <= 0.0 {
+            return None;
+        }
+        let mut up = theta.clone();
+        up[j] += step;
+        let mut down = theta.clone();
+        down[j] -= step;
+        g.push((h(&up)? - h(&down)?) / (2.0 * step));
+    }
+    let var = quadratic_form(cov, &g)?;
+    let half = t_quantile(level, fit.dof) * var.max(0.0).sqrt();
+    half.is_finite().then_some((value - half, value + half))
+}
+
+/// `gᵀ C g`, `None` on a size mismatch or a non-finite result.
+fn quadratic_form(cov: &nalgebra::DMatrix<f64>, g: &[f64]) -> Option<f64> {
+    if cov.nrows() != g.len() || cov.ncols() != g.len() {
+        return None;
+    }
+    let mut var = 0.0;
+    for (a, ga) in g.iter().enumerate() {
+        for (b, gb) in g.iter().enumerate() {
+            var += ga * cov[(a, b)] * gb;
+        }
+    }
+    var.is_finite().then_some(var)
+}
+
+/// The reflected-curve symmetry check, see [`symmetry`].
+#[derive(Debug, Clone, PartialEq)]
+pub struct Symmetry {
+    /// The point `(t_c, y_c)` the observations are reflected through.
+    pub center: (f64, f64),
+    /// `(2 t_c − t_i, 2 y_c − y_i)` for every finite observation, input order.
+    pub reflected: Vec<(f64, f64)>,
+    /// How many reflections fall inside the observed time range and were
+    /// compared with the observations there.
+    pub n_compared: usize,
+    /// RMS of the normalised mirror mismatches `d_i / sqrt(v_i)` (see [`symmetry`]).
+    pub rms: f64,
+    /// Noise level the mismatch is measured against: the successive-difference
+    /// estimate from the time-ordered residuals.
+    pub noise_sigma: f64,
+    /// `rms / noise_sigma`: ≈ 1 for data that are point-symmetric about the
+    /// center; `None` when fewer than three reflections land inside the data
+    /// (e.g. all data before t0) or the data show no measurable noise.
+    pub rms_ratio: Option<f64>,
+    /// One sentence on how to read `rms_ratio` for this model.
+    pub meaning: &'static str,
+}
+
+/// What `rms_ratio` means for the logistic curves (point-symmetric).
+pub const MEANING_SYMMETRIC: &str = "≈1 means the early and late halves mirror each other as the \
+logistic assumes; well above 1 means the data are asymmetric";
+
+/// What `rms_ratio` means for the Gompertz and Richards curves.
+pub const MEANING_ASYMMETRIC: &str = "this curve is not point-symmetric about its inflection \
+point, so even data that follow it perfectly show a mismatch that grows with the asymmetry; \
+the ratio shows how asymmetric the data are";
+
+/// Fewer compared reflections than this give no `rms_ratio`.
+pub const MIN_COMPARED: usize = 3;
+
+/// Reflects each observation through the fitted curve's center and compares
+/// the reflections with the observed series at the reflected times.
+///
+/// Center `(t_c, y_c)`: the logistic's midpoint `(t0, K/2)`; for logistic4
+/// `(t0, (K + L)/2)`; for the Gompertz and Richards curves the inflection
+/// point `(t0, f(t0))`. The exponential has no center: `None`.
+///
+/// ```text
+/// (t'_i, y'_i) = (2 t_c − t_i, 2 y_c − y_i)
+/// e_k   = y_k − f(t_k)                         residuals
+/// ê(t)  = linear interpolation of e_k in time  (the data read at time t)
+/// d_i   = y'_i − f(t'_i) − ê(t'_i)             for t'_i inside the data range
+/// v_i   = Σ_k (w_ik + [k = i])²               noise variance of d_i in units of σ²
+///                                              (w_ik: interpolation weights)
+/// s²    = Σ_k (e_(k+1) − e_k)² / (2 (n − 1))  successive-difference noise estimate
+/// rms_ratio = sqrt(mean(d_i² / v_i)) / s
+/// ```
+///
+/// Why not simply `y'_i − f(t'_i)` over `fit.sigma`: the logistic is
+/// point-symmetric about its midpoint, `f(2 t0 − t) = K − f(t)`, so that
+/// difference is exactly the residual `−e_i` and the ratio is always
+/// `sqrt(dof / n)`, whatever the data. Comparing the reflection with the
+/// *data* at the mirrored time instead measures `e(t) + e(t')`, which is
+/// zero for point-symmetric data and large when the early and late halves
+/// differ. Interpolating residuals rather than raw values keeps the curve's
+/// curvature from biasing the comparison. `fit.sigma` would include the
+/// systematic misfit that an asymmetric series causes, which caps the ratio
+/// near √2; the successive-difference estimate (von Neumann) sees only the
+/// point-to-point scatter.
+///
+/// `None` also when `t` and `y` differ in length or have fewer than three
+/// finite points.
+pub fn symmetry(fit: &Fit, t: &[f64], y: &[f64]) -> Option<Symmetry> {
+    if t.len() != y.len() {
+        return None;
+    }
+    let p = fit.values();
+    let model = fit.model;
+    let t0 = fit.param("t0")?.estimate;
+    let (center, meaning) = match model {
+        Model::Logistic => ((t0, p[0] / 2.0), MEANING_SYMMETRIC),
+        Model::Logistic4 => ((t0, (p[0] + p[3]) / 2.0), MEANING_SYMMETRIC),
+        Model::Gompertz | Model::Richards => ((t0, model.eval(&p, t0)), MEANING_ASYMMETRIC),
+        Model::Exponential => return None,
+    };
+    let (tc, yc) = center;
+
+    // Finite observations, ordered by time, with their residuals.
+    let mut pts: Vec<(f64, f64, f64)> = t
+        .iter()
+        .zip(y)
+        .filter(|(a, b)| a.is_finite() && b.is_finite())
+        .map(|(&a, &b)| (a, b, b - model.eval(&p, a)))
+        .collect();
+    if pts.len() < 3 {
+        return None;
+    }
+    pts.sort_by(|a, b| a.0.total_cmp(&b.0));
+
+    let reflected: Vec<(f64, f64)> = t
+        .iter()
+        .zip(y)
+        .filter(|(a, b)| a.is_finite() && b.is_finite())
+        .map(|(&a, &b)| (2.0 * tc - a, 2.0 * yc - b))
+        .collect();
+
+    let n = pts.len();
+    let noise_sigma = (pts
+        .windows(2)
+        .map(|w| (w[1].2 - w[0].2).powi(2))
+        .sum::<f64>()
+        / (2.0 * (n - 1) as f64))
+        .sqrt();
+
+    let (t_first, t_last) = (pts[0].0, pts[n - 1].0);
+    let mut sum = 0.0;
+    let mut n_compared = 0;
+    for (i, &(ti, yi, _)) in pts.iter().enumerate() {
+        let tr = 2.0 * tc - ti;
+        let yr = 2.0 * yc - yi;
+        if !(tr >= t_first && tr <= t_last) {
+            continue;
+        }
+        // Segment [k0, k1] with t_k0 ≤ tr < t_k1, or the last point itself.
+        let j = pts.partition_point(|q| q.0 <= tr);
+        let (k0, k1, w1) = if j >= n {
+            (n - 1, n - 1, 0.0)
+        } else {
+            let (a, b) = (pts[j - 1].0, pts[j].0);
+            (j - 1, j, (tr - a) / (b - a))
+        };
+        let w0 = 1.0 - w1;
+        let e_hat = w0 * pts[k0].2 + w1 * pts[k1].2;
+        let d = yr - model.eval(&p, tr) - e_hat;
+        // The reflected point carries −ε_i; the interpolated reading carries
+        // w0 ε_k0 + w1 ε_k1, and i may be one of k0, k1 (points near t_c).
+        let mut v = 0.0;
+        let mut own = 1.0;
+        for (k, w) in [(k0, w0), (k1, w1)] {
+            if k0 == k1 && k == k1 && w == 0.0 {
+                continue;
+            }
+            if k == i {
+                v += (w + own).powi(2);
+                own = 0.0;
+            } else {
+                v += w * w;
+            }
+        }
+        v += own * own;
+        sum += d * d / v;
+        n_compared += 1;
+    }
+    let rms = if n_compared > 0 {
+        (sum / n_compared as f64).sqrt()
+    } else {
+        f64::NAN
+    };
+    let scale = pts.iter().map(|q| q.1.abs()).fold(0.0, f64::max);
+    let ratio = rms / noise_sigma;
+    let rms_ratio =
+        (n_compared >= MIN_COMPARED && noise_sigma > 1e-12 * scale && ratio.is_finite())
+            .then_some(ratio);
+    Some(Symmetry {
+        center,
+        reflected,
+        n_compared,
+        rms,
+        noise_sigma,
+        rms_ratio,
+        meaning,
+    })
+}
+
+#[cfg(test)]
+mod tests;

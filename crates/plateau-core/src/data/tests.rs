@@ -1,0 +1,676 @@
+//! Tests of data input: every accepted format, every refusal with the line
+//! it names, and properties (no panics, round trips) over generated text.
+
+use super::number::{self, parse_number, Decimal, NumError, Vote};
+use super::*;
+use proptest::prelude::*;
+
+fn parse(text: &str) -> Result<Series, DataError> {
+    parse_series(text, &ParseOptions::default())
+}
+
+fn ok(text: &str) -> Series {
+    parse(text).unwrap_or_else(|e| panic!("{text:?}: {e}"))
+}
+
+fn err(text: &str) -> DataError {
+    match parse(text) {
+        Ok(s) => panic!("{text:?} parsed: {s:?}"),
+        Err(e) => e,
+    }
+}
+
+fn with(opts: ParseOptions, text: &str) -> Result<Series, DataError> {
+    parse_series(text, &opts)
+}
+
+fn codes(s: &Series) -> Vec<WarningCode> {
+    s.warnings.iter().map(|w| w.code).collect()
+}
+
+// ---- formats ---------------------------------------------------------------
+
+#[test]
+fn csv_with_header() {
+    let s = ok("week,subscribers\n1,362\n2,451\n3,743\n");
+    assert_eq!(s.time_kind, TimeKind::Number);
+    assert_eq!(s.time_name, "week");
+    assert_eq!(s.value_name, "subscribers");
+    assert_eq!(s.columns, vec!["week", "subscribers"]);
+    assert!(s.has_header);
+    assert_eq!(s.delimiter, b',');
+    assert!(!s.decimal_comma);
+    assert_eq!(s.times, vec![1.0, 2.0, 3.0]);
+    assert_eq!(s.values, vec![362.0, 451.0, 743.0]);
+    assert_eq!(s.lines, vec![2, 3, 4]);
+    assert!(s.warnings.is_empty());
+}
+
+#[test]
+fn csv_without_header() {
+    let s = ok("2019,1.5\n2020,2.25\n2021.5,-3e2\n");
+    assert!(!s.has_header);
+    assert_eq!(s.time_name, "time");
+    assert_eq!(s.value_name, "value");
+    assert_eq!(s.columns, vec!["column 1", "column 2"]);
+    assert_eq!(s.times, vec![2019.0, 2020.0, 2021.5]);
+    assert_eq!(s.values, vec![1.5, 2.25, -300.0]);
+    assert_eq!(s.lines, vec![1, 2, 3]);
+}
+
+#[test]
+fn tsv_pasted_from_a_spreadsheet_with_decimal_comma() {
+    let s = ok("Monat\tUmsatz\n1\t1.234,5\n2\t2.000,25\n3\t7,5\n");
+    assert_eq!(s.delimiter, b'\t');
+    assert!(s.decimal_comma);
+    assert_eq!(s.values, vec![1234.5, 2000.25, 7.5]);
+    assert_eq!(s.value_name, "Umsatz");
+}
+
+#[test]
+fn tsv_with_decimal_point_and_thousands() {
+    let s = ok("t\tv\n1\t1,234.5\n2\t0.25\n");
+    assert_eq!(s.delimiter, b'\t');
+    assert!(!s.decimal_comma);
+    assert_eq!(s.values, vec![1234.5, 0.25]);
+}
+
+#[test]
+fn semicolon_with_decimal_comma() {
+    let s = ok("jour;valeur\n0,5;12,5\n1;1 234,75\n1,5;-0,125\n");
+    assert_eq!(s.delimiter, b';');
+    assert!(s.decimal_comma);
+    assert_eq!(s.times, vec![0.5, 1.0, 1.5]);
+    assert_eq!(s.values, vec![12.5, 1234.75, -0.125]);
+}
+
+#[test]
+fn ambiguous_numbers_follow_the_delimiter() {
+    // Nothing decides: semicolon text reads a decimal comma, tab text a point.
+    assert_eq!(ok("1;1,234\n2;2,5\n").values, vec![1.234, 2.5]);
+    assert_eq!(ok("1;1.234\n2;2.500\n").values, vec![1234.0, 2500.0]);
+    assert_eq!(ok("1\t1.234\n2\t2.500\n").values, vec![1.234, 2.5]);
+    assert_eq!(ok("1\t1,234\n2\t2,500\n").values, vec![1234.0, 2500.0]);
+}
+
+#[test]
+fn csv_comma_is_never_a_decimal_mark() {
+    let s = ok("t,v\n1,\"1,234\"\n2,\"12,345,678.5\"\n");
+    assert_eq!(s.values, vec![1234.0, 12_345_678.5]);
+    let e = err("t,v\n1,5\n2,\"2,5\"\n");
+    assert_eq!(e.kind, DataErrorKind::BadValue);
+    assert_eq!(e.line, Some(3));
+    assert!(e.message.contains("comma"), "{e}");
+}
+
+#[test]
+fn quoted_fields_and_explicit_delimiter() {
+    let s = ok("\"time\",\"value, in units\"\n\"1\",\"10\"\n\"2\",\"20\"\n");
+    assert_eq!(s.value_name, "value, in units");
+    assert_eq!(s.values, vec![10.0, 20.0]);
+    let opts = ParseOptions {
+        delimiter: Some(b'|'),
+        ..ParseOptions::default()
+    };
+    let s = with(opts, "t|v\n1|2,5\n2|3,5\n").unwrap();
+    assert_eq!(s.delimiter, b'|');
+    assert_eq!(s.values, vec![2.5, 3.5]);
+}
+
+#[test]
+fn bom_crlf_and_blank_lines_keep_true_line_numbers() {
+    let s = ok("\u{feff}t,v\r\n\r\n1,10\r\n\r\n\r\n2,20\r\n,\r\n3,30\r\n");
+    assert_eq!(s.time_name, "t");
+    assert_eq!(s.lines, vec![3, 6, 8]);
+    assert_eq!(s.values, vec![10.0, 20.0, 30.0]);
+    let e = err("\u{feff}t,v\r\n\r\n1,10\r\n\r\n   \r\n2,oops\r\n");
+    assert_eq!(e.line, Some(6));
+    assert_eq!(e.kind, DataErrorKind::BadValue);
+    let e = err("\n\n\nt,v\n\n1,10\n\n2,x\n");
+    assert_eq!(e.line, Some(8), "{e}");
+}
+
+#[test]
+fn quoted_newline_does_not_shift_later_lines() {
+    let s = ok("t,v,note\n1,10,\"two\nlines\"\n2,20,x\n3,y,z\n"
+        .replace("3,y,z\n", "")
+        .as_str());
+    assert_eq!(s.lines, vec![2, 4]);
+    let e = err("t,v,note\n1,10,\"two\nlines\"\n2,20,x\n3,y,z\n");
+    assert_eq!(e.line, Some(5));
+}
+
+#[test]
+fn header_option_overrides_detection() {
+    let yes = ParseOptions {
+        header: Some(true),
+        ..ParseOptions::default()
+    };
+    let s = with(yes, "1,2\n3,4\n5,6\n").unwrap();
+    assert!(s.has_header);
+    assert_eq!(s.time_name, "1");
+    assert_eq!(s.times, vec![3.0, 5.0]);
+    let no = ParseOptions {
+        header: Some(false),
+        ..ParseOptions::default()
+    };
+    let e = with(no, "t,v\n1,2\n").unwrap_err();
+    assert_eq!(e.kind, DataErrorKind::BadTime);
+    assert_eq!(e.line, Some(1));
+}
+
+#[test]
+fn header_detected_from_value_field_alone() {
+    let s = ok("2019,sales\n2020,5\n2021,6\n");
+    assert!(s.has_header);
+    assert_eq!(s.value_name, "sales");
+    // A missing value on the first row is data, not a header.
+    let s = ok("1,NA\n2,5\n3,6\n");
+    assert!(!s.has_header);
+    assert_eq!(s.lines, vec![2, 3]);
+}
+
+#[test]
+fn columns_by_index_and_name() {
+    let text = "Date , Region, Sales \n2024-01-01,north,10\n2024-02-01,north,20\n";
+    let s = ok(text.replace(",north", "").as_str());
+    assert_eq!(s.values, vec![10.0, 20.0]);
+    let opts = ParseOptions {
+        value_column: Some(ColumnRef::Name("  sales ".into())),
+        ..ParseOptions::default()
+    };
+    let s = with(opts, text).unwrap();
+    assert_eq!(s.columns, vec!["Date", "Region", "Sales"]);
+    assert_eq!(s.time_name, "Date");
+    assert_eq!(s.value_name, "Sales");
+    assert_eq!(s.values, vec![10.0, 20.0]);
+    let opts = ParseOptions {
+        time_column: Some(ColumnRef::Index(2)),
+        value_column: Some(ColumnRef::Index(0)),
+        ..ParseOptions::default()
+    };
+    let s = with(opts, "a,b,c\n7,x,1\n8,y,2\n").unwrap();
+    assert_eq!(s.times, vec![1.0, 2.0]);
+    assert_eq!(s.values, vec![7.0, 8.0]);
+    assert_eq!(s.time_name, "c");
+}
+
+#[test]
+fn unknown_column_lists_the_columns() {
+    let opts = ParseOptions {
+        value_column: Some(ColumnRef::Name("revenue".into())),
+        ..ParseOptions::default()
+    };
+    let e = with(opts, "week,subscribers\n1,2\n").unwrap_err();
+    assert_eq!(e.kind, DataErrorKind::UnknownColumn);
+    assert!(e.message.contains("\"week\", \"subscribers\""), "{e}");
+    let opts = ParseOptions {
+        time_column: Some(ColumnRef::Index(5)),
+        ..ParseOptions::default()
+    };
+    let e = with(opts, "1,2,3\n4,5,6\n").unwrap_err();
+    assert_eq!(e.kind, DataErrorKind::UnknownColumn);
+    assert!(e.message.contains("no column 6"), "{e}");
+    assert!(
+        e.message
+            .contains("\"column 1\", \"column 2\", \"column 3\""),
+        "{e}"
+    );
+    let opts = ParseOptions {
+        header: Some(false),
+        value_column: Some(ColumnRef::Name("column 2".into())),
+        ..ParseOptions::default()
+    };
+    let e = with(opts, "1,2\n").unwrap_err();
+    assert_eq!(e.kind, DataErrorKind::UnknownColumn);
+    assert!(e.message.contains("no header"), "{e}");
+}
+
+#[test]
+fn invalid_options() {
+    let opts = ParseOptions {
+        value_column: Some(ColumnRef::Index(0)),
+        ..ParseOptions::default()
+    };
+    assert_eq!(
+        with(opts, "1,2\n").unwrap_err().kind,
+        DataErrorKind::InvalidOptions
+    );
+    for d in [b'"', b'\n', b'a', 0xC3] {
+        let opts = ParseOptions {
+            delimiter: Some(d),
+            ..ParseOptions::default()
+        };
+        assert_eq!(
+            with(opts, "1,2\n").unwrap_err().kind,
+            DataErrorKind::InvalidOptions
+        );
+    }
+}
+
+#[test]
+fn too_few_fields_names_line_and_count() {
+    let e = err("t,v\n1,10\n\n2\n3,30\n");
+    assert_eq!(e.kind, DataErrorKind::TooFewFields);
+    assert_eq!(e.line, Some(4));
+    assert!(e.message.contains("at least 2 fields"), "{e}");
+    assert!(e.message.contains("found 1"), "{e}");
+    let e = err("\n1\n2\n");
+    assert_eq!(e.kind, DataErrorKind::TooFewFields);
+    assert_eq!(e.line, Some(2));
+    let opts = ParseOptions {
+        value_column: Some(ColumnRef::Index(2)),
+        ..ParseOptions::default()
+    };
+    let e = with(opts, "1,x,3\n2,y\n").unwrap_err();
+    assert_eq!(e.kind, DataErrorKind::TooFewFields);
+    assert_eq!(e.line, Some(2));
+    assert!(e.message.contains("at least 3 fields"), "{e}");
+}
+
+#[test]
+fn title_line_above_the_table_is_read_as_header() {
+    let s = ok("Subscribers by week\n1,10\n2,20\n");
+    assert!(s.has_header);
+    assert_eq!(s.time_name, "Subscribers by week");
+    assert_eq!(s.value_name, "value");
+    assert_eq!(s.columns, vec!["Subscribers by week", "column 2"]);
+}
+
+// ---- times -----------------------------------------------------------------
+
+#[test]
+fn iso_dates_become_decimal_years() {
+    let s = ok("date,share\n2019-01-01,13.8\n2019-03-01,15.7\n2020-03-01,16\n2020-12-31,17\n");
+    assert_eq!(s.time_kind, TimeKind::Date);
+    assert_eq!(
+        s.times,
+        vec![
+            2019.0,
+            2019.0 + 59.0 / 365.0,
+            2020.0 + 60.0 / 366.0,
+            2020.0 + 365.0 / 366.0
+        ]
+    );
+    assert_eq!(TimeKind::Date.format(s.times[1]), "2019-03-01");
+    assert_eq!(TimeKind::Date.format(s.times[3]), "2020-12-31");
+    // Half a day before New Year rounds into the next year.
+    assert_eq!(TimeKind::Date.format(2020.0 + 365.6 / 366.0), "2021-01-01");
+    assert_eq!(TimeKind::Date.unit(), "year");
+}
+
+#[test]
+fn months_and_quarters() {
+    let s = ok("m;v\n2023-11;1\n2023-12;2\n2024-01;3\n");
+    assert_eq!(s.time_kind, TimeKind::Month);
+    assert_eq!(
+        s.times,
+        vec![2023.0 + 10.0 / 12.0, 2023.0 + 11.0 / 12.0, 2024.0]
+    );
+    assert_eq!(TimeKind::Month.format(s.times[1]), "2023-12");
+    assert_eq!(TimeKind::Month.format(2024.49), "2024-07");
+    let s = ok("q,v\n2024Q3,1\n2024-q4,2\n2025 Q1,3\n");
+    assert_eq!(s.time_kind, TimeKind::Quarter);
+    assert_eq!(s.times, vec![2024.5, 2024.75, 2025.0]);
+    assert_eq!(TimeKind::Quarter.format(2024.5), "2024Q3");
+    assert_eq!(TimeKind::Quarter.format(2024.9), "2025Q1");
+    assert_eq!(TimeKind::Month.unit(), "year");
+    assert_eq!(TimeKind::Quarter.unit(), "year");
+}
+
+#[test]
+fn number_format_is_short() {
+    assert_eq!(TimeKind::Number.format(14.0), "14");
+    assert_eq!(TimeKind::Number.format(2021.25), "2021.25");
+    assert_eq!(TimeKind::Number.format(13.9876543), "13.9877");
+    assert_eq!(TimeKind::Number.format(-0.000123456789), "-0.000123457");
+    assert_eq!(TimeKind::Number.format(1234567.0), "1234570");
+    assert_eq!(TimeKind::Number.format(3.2e-7), "3.2e-7");
+    assert_eq!(TimeKind::Number.format(0.0), "0");
+    assert_eq!(TimeKind::Number.format(f64::NAN), "NaN");
+    assert_eq!(TimeKind::Number.unit(), "");
+    // Calendar kinds fall back to numbers far outside the calendar.
+    assert_eq!(TimeKind::Date.format(1e12), "1e12");
+    assert_eq!(TimeKind::Month.format(f64::INFINITY), "inf");
+}
+
+#[test]
+fn mixed_time_formats() {
+    let e = err("d,v\n2024-01-05,1\n2024-02-05,2\n2024-03,3\n");
+    assert_eq!(e.kind, DataErrorKind::MixedTimeFormats);
+    assert_eq!(e.line, Some(4));
+    assert!(e.message.contains("a year-month"), "{e}");
+    assert!(e.message.contains("YYYY-MM-DD"), "{e}");
+    let e = err("t,v\n1,1\n2024Q1,2\n");
+    assert_eq!(e.kind, DataErrorKind::MixedTimeFormats);
+    assert_eq!(e.line, Some(3));
+    assert!(e.message.contains("a quarter"), "{e}");
+}
+
+#[test]
+fn bad_times() {
+    let e = err("t,v\n1,1\nlater,2\n");
+    assert_eq!((e.kind, e.line), (DataErrorKind::BadTime, Some(3)));
+    assert!(e.message.contains("\"later\""), "{e}");
+    let e = err("t,v\n31/01/2024,1\n");
+    assert_eq!((e.kind, e.line), (DataErrorKind::BadTime, Some(2)));
+    assert!(e.message.contains("YYYY-MM-DD"), "{e}");
+    let e = err("t,v\n2023-02-28,1\n2023-02-29,2\n");
+    assert_eq!((e.kind, e.line), (DataErrorKind::BadTime, Some(3)));
+    let e = err("t,v\n2023-12,1\n2023-13,2\n");
+    assert_eq!((e.kind, e.line), (DataErrorKind::BadTime, Some(3)));
+    let e = err("t,v\n2023Q4,1\n2023Q5,2\n");
+    assert_eq!((e.kind, e.line), (DataErrorKind::BadTime, Some(3)));
+    // A decimal comma in a comma-separated time column is no time.
+    let e = err("t,v\n1,1\n\"1,5\",2\n");
+    assert_eq!((e.kind, e.line), (DataErrorKind::BadTime, Some(3)));
+}
+
+#[test]
+fn times_out_of_range() {
+    let e = err("t,v\n1,1\n1e10,2\n");
+    assert_eq!((e.kind, e.line), (DataErrorKind::TimeOutOfRange, Some(3)));
+    let e = err("t,v\n1e400,1\n");
+    assert_eq!((e.kind, e.line), (DataErrorKind::TimeOutOfRange, Some(2)));
+    let e = err("t,v\n1,1\n-inf,2\n");
+    assert_eq!((e.kind, e.line), (DataErrorKind::TimeOutOfRange, Some(3)));
+    assert!(ok("t,v\n-1e9,1\n1e9,2\n").times == vec![-1e9, 1e9]);
+}
+
+#[test]
+fn missing_time_is_an_error() {
+    let e = err("t,v\n1,1\n,2\n");
+    assert_eq!((e.kind, e.line), (DataErrorKind::MissingTime, Some(3)));
+    let e = err("t,v\n1,1\nNA,2\n");
+    assert_eq!((e.kind, e.line), (DataErrorKind::MissingTime, Some(3)));
+}
+
+#[test]
+fn duplicate_times_name_both_lines() {
+    let e = err("t,v\n1,1\n2,2\n\n1.0,3\n");
+    assert_eq!((e.kind, e.line), (DataErrorKind::DuplicateTime, Some(5)));
+    assert!(e.message.contains("line 2"), "{e}");
+    let e = err("q,v\n2024Q1,1\n2024-q1,2\n");
+    assert_eq!((e.kind, e.line), (DataErrorKind::DuplicateTime, Some(3)));
+}
+
+#[test]
+fn unsorted_rows_warn_and_keep_input_order() {
+    let s = ok("t,v\n1,10\n3,30\n2,20\n4,40\n");
+    assert_eq!(s.times, vec![1.0, 3.0, 2.0, 4.0]);
+    assert_eq!(s.lines, vec![2, 3, 4, 5]);
+    assert_eq!(codes(&s), vec![WarningCode::RowsUnsorted]);
+    assert!(s.warnings[0].message.contains("line 4"), "{:?}", s.warnings);
+    let s = ok("d,v\n2024-02-01,1\n2024-01-01,2\n");
+    assert!(
+        s.warnings[0].message.contains("2024-01-01"),
+        "{:?}",
+        s.warnings
+    );
+}
+
+// ---- values ----------------------------------------------------------------
+
+#[test]
+fn missing_values_are_skipped_with_one_warning() {
+    let s = ok("t,v\n1,10\n2,20\n3,\n4,40\n5,NA\n6,n/a\n7,#N/A\n8,-\n9,.\n10,null\n11,NaN\n12,N/A\n13,130\n");
+    assert_eq!(s.times, vec![1.0, 2.0, 4.0, 13.0]);
+    assert_eq!(codes(&s), vec![WarningCode::MissingValuesSkipped]);
+    assert_eq!(
+        s.warnings[0].message,
+        "9 rows with no value were left out (lines 4, 6, 7, 8, 9, 10, 11, 12, 13)"
+    );
+    let s = ok("t,v\n1,10\n2,20\n3,na\n\n4,40\n5,\n");
+    assert_eq!(
+        s.warnings[0].message,
+        "2 rows with no value were left out (lines 4, 7)"
+    );
+    let s = ok("t,v\n1,10\n2,\n3,30\n");
+    assert_eq!(
+        s.warnings[0].message,
+        "1 row with no value was left out (line 3)"
+    );
+}
+
+#[test]
+fn many_missing_values_are_listed_briefly() {
+    let mut text = String::from("t,v\n0,1\n0.5,2\n");
+    for i in 1..=30 {
+        text.push_str(&format!("{i},NA\n"));
+    }
+    let s = ok(&text);
+    assert!(s.warnings[0].message.starts_with("30 rows"));
+    assert!(
+        s.warnings[0].message.ends_with("and 10 more)"),
+        "{}",
+        s.warnings[0].message
+    );
+}
+
+#[test]
+fn bad_and_absurd_values() {
+    let e = err("t,v\n1,10\n2,ten\n");
+    assert_eq!((e.kind, e.line), (DataErrorKind::BadValue, Some(3)));
+    assert!(e.message.contains("\"ten\""), "{e}");
+    assert!(e.message.contains("expected a number"), "{e}");
+    let e = err("t,v\n1,10\n2,1e301\n");
+    assert_eq!((e.kind, e.line), (DataErrorKind::ValueOutOfRange, Some(3)));
+    let e = err("t,v\n1,inf\n2,1\n");
+    assert_eq!((e.kind, e.line), (DataErrorKind::ValueOutOfRange, Some(2)));
+    let e = err("t;v\n1;1,5\n2;1.0.0\n");
+    assert_eq!((e.kind, e.line), (DataErrorKind::BadValue, Some(3)));
+}
+
+#[test]
+fn decimal_conflict_names_the_minority() {
+    let e = err("t;v\n1;1,5\n2;2,5\n3;3.5\n4;4,5\n");
+    assert_eq!((e.kind, e.line), (DataErrorKind::DecimalConflict, Some(4)));
+    assert!(e.message.contains("decimal point"), "{e}");
+    let e = err("t\tv\n1\t1.5\n2\t2,5\n3\t3.5\n");
+    assert_eq!((e.kind, e.line), (DataErrorKind::DecimalConflict, Some(3)));
+    // The time column votes too when it holds numbers.
+    let e = err("t;v\n0,5;1,5\n1,5;2,5\n2.5;3\n");
+    assert_eq!((e.kind, e.line), (DataErrorKind::DecimalConflict, Some(4)));
+}
+
+#[test]
+fn no_data() {
+    let e = err("");
+    assert_eq!((e.kind, e.line), (DataErrorKind::Empty, None));
+    let e = err("\u{feff}  \r\n\n\t\n");
+    assert_eq!(e.kind, DataErrorKind::Empty);
+    let e = err("t,v\n");
+    assert_eq!(e.kind, DataErrorKind::NoData);
+    let e = err("t,v\n\n,,\n");
+    assert_eq!(e.kind, DataErrorKind::NoData);
+    let e = err("t,v\n1,NA\n2,\n");
+    assert_eq!(e.kind, DataErrorKind::NoData);
+    assert!(e.message.contains("none of the 2"), "{e}");
+}
+
+#[test]
+fn one_row_is_enough_for_the_parser() {
+    let s = ok("5,7\n");
+    assert_eq!((s.times.clone(), s.values.clone()), (vec![5.0], vec![7.0]));
+}
+
+#[test]
+fn errors_display_with_line_and_are_std_errors() {
+    let e = err("t,v\n1,x\n");
+    assert_eq!(e.to_string(), format!("line 2: {}", e.message));
+    let e: Box<dyn std::error::Error> = Box::new(err(""));
+    assert!(!e.to_string().starts_with("line"));
+}
+
+#[test]
+fn cumulate_is_a_running_sum() {
+    assert_eq!(cumulate(&[]), Vec::<f64>::new());
+    assert_eq!(cumulate(&[3.0, 1.0, 0.0, 2.5]), vec![3.0, 4.0, 4.0, 6.5]);
+}
+
+#[test]
+fn delimiter_detection_ignores_quoted_delimiters() {
+    assert_eq!(
+        ok("t,v\n1,\"a;b\"\n".replace("\"a;b\"", "2").as_str()).delimiter,
+        b','
+    );
+    let s = ok("t,v,note\n1,2,\"x;y;z\"\n2,3,\"p;q\"\n");
+    assert_eq!(s.delimiter, b',');
+    assert_eq!(s.columns.len(), 3);
+}
+
+// ---- number.rs -------------------------------------------------------------
+
+#[test]
+fn numbers_as_people_write_them() {
+    let p = |s| parse_number(s, Decimal::Point);
+    let c = |s| parse_number(s, Decimal::Comma);
+    assert_eq!(p("1,234,567.5"), Ok(1_234_567.5));
+    assert_eq!(p("-1 234.5"), Ok(-1234.5));
+    assert_eq!(p("\u{2212}2.5e3"), Ok(-2500.0));
+    assert_eq!(p("+.5"), Ok(0.5));
+    assert_eq!(p("1'234"), Ok(1234.0));
+    assert_eq!(c("1.234,5"), Ok(1234.5));
+    assert_eq!(c("1\u{a0}234,5"), Ok(1234.5));
+    assert_eq!(c("1,5E-2"), Ok(0.015));
+    assert_eq!(p("1,23"), Err(NumError::Invalid));
+    assert_eq!(
+        p("0,123"),
+        Err(NumError::Invalid),
+        "0,123 never groups thousands"
+    );
+    assert_eq!(c("0.123"), Err(NumError::Invalid));
+    assert_eq!(p("1e"), Err(NumError::Invalid));
+    assert_eq!(p("."), Err(NumError::Invalid));
+    assert_eq!(p("Infinity"), Err(NumError::NotFinite));
+    assert_eq!(p("2e300"), Err(NumError::NotFinite));
+    assert_eq!(number::vote("1,5"), Vote::Comma);
+    assert_eq!(number::vote("1,234"), Vote::Neither);
+    assert_eq!(number::vote("1,234,567"), Vote::Point);
+    assert_eq!(number::vote("1.234,5"), Vote::Comma);
+    assert_eq!(number::vote("0.123"), Vote::Point);
+}
+
+// ---- properties ------------------------------------------------------------
+
+/// Some option combinations, including wrong ones.
+fn options() -> impl Strategy<Value = ParseOptions> {
+    let delim = prop::option::of(prop::sample::select(vec![
+        b',', b';', b'\t', b'|', b'"', 0xFF,
+    ]));
+    let header = prop::option::of(any::<bool>());
+    let col = prop::option::of(prop_oneof![
+        (0usize..4).prop_map(ColumnRef::Index),
+        Just(ColumnRef::Index(usize::MAX)),
+        "[a-zA-Z ]{0,6}".prop_map(ColumnRef::Name),
+    ]);
+    (delim, header, col.clone(), col).prop_map(|(delimiter, header, time_column, value_column)| {
+        ParseOptions {
+            delimiter,
+            header,
+            time_column,
+            value_column,
+        }
+    })
+}
+
+/// Text made of the pieces that matter to the parser, so the generator
+/// reaches deep paths more often than uniformly random strings do.
+fn table_like() -> impl Strategy<Value = String> {
+    let piece = prop::sample::select(vec![
+        ",", ";", "\t", "\n", "\r\n", "\"", " ", "-", ".", "1", "2024", "-01", "-02-29", "Q3",
+        "NA", "1e309", "1,5", "\u{feff}", "é", "0", "9", "e",
+    ]);
+    prop::collection::vec(piece, 0..40).prop_map(|v| v.concat())
+}
+
+/// Writes `rows` as text in one of three dialects: 0 CSV, 1 TSV, 2
+/// semicolon-separated with a decimal comma.
+fn write_table(times: &[f64], values: &[f64], dialect: u8, header: bool) -> String {
+    let (sep, comma) = match dialect {
+        0 => (",", false),
+        1 => ("\t", false),
+        _ => (";", true),
+    };
+    let num = |x: f64| {
+        let s = format!("{x}");
+        if comma {
+            s.replace('.', ",")
+        } else {
+            s
+        }
+    };
+    let mut out = String::new();
+    if header {
+        out.push_str(&format!("time{sep}value\n"));
+    }
+    for (t, v) in times.iter().zip(values) {
+        out.push_str(&format!("{}{sep}{}\n", num(*t), num(*v)));
+    }
+    out
+}
+
+fn finite_value() -> impl Strategy<Value = f64> {
+    prop_oneof![
+        -1e6..1e6f64,
+        (-1e15..1e15f64),
+        any::<f64>().prop_filter("absurd", |v| v.is_finite() && v.abs() <= 1e300),
+        (0i32..100).prop_map(f64::from),
+    ]
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(512))]
+
+    #[test]
+    fn arbitrary_text_never_panics(text in any::<String>(), opts in options()) {
+        let _ = parse_series(&text, &opts);
+    }
+
+    #[test]
+    fn table_like_text_never_panics(text in table_like(), opts in options()) {
+        let _ = parse_series(&text, &opts);
+    }
+
+    #[test]
+    fn written_tables_read_back(
+        mut times in prop::collection::vec(prop_oneof![-1e6..1e6f64, (1900i32..2100).prop_map(f64::from)], 1..30),
+        values in prop::collection::vec(finite_value(), 30),
+        dialect in 0u8..3,
+        header in any::<bool>(),
+    ) {
+        times.sort_by(f64::total_cmp);
+        times.dedup();
+        let values = &values[..times.len()];
+        let text = write_table(&times, values, dialect, header);
+        let s = parse(&text).map_err(|e| TestCaseError::fail(format!("{e}\n{text}")))?;
+        prop_assert_eq!(s.has_header, header);
+        prop_assert_eq!(&s.times, &times);
+        for (got, want) in s.values.iter().zip(values) {
+            prop_assert!((got - want).abs() <= 1e-12 * want.abs(), "{} vs {}", got, want);
+        }
+        prop_assert_eq!(s.values.len(), values.len());
+        prop_assert!(s.warnings.is_empty());
+    }
+
+    #[test]
+    fn dates_round_trip(year in 1000i32..=9999, ordinal in 1u32..=366) {
+        let Some(date) = chrono::NaiveDate::from_yo_opt(year, ordinal) else {
+            return Ok(());
+        };
+        let written = format!("{}", date.format("%Y-%m-%d"));
+        let s = parse(&format!("d,v\n{written},1\n")).map_err(|e| TestCaseError::fail(e.to_string()))?;
+        prop_assert_eq!(s.time_kind, TimeKind::Date);
+        prop_assert_eq!(TimeKind::Date.format(s.times[0]), written);
+    }
+
+    #[test]
+    fn months_and_quarters_round_trip(year in 1000i32..=9999, month in 1u32..=12) {
+        let m = format!("{year:04}-{month:02}");
+        let s = parse(&format!("{m};1\n")).map_err(|e| TestCaseError::fail(e.to_string()))?;
+        prop_assert_eq!(TimeKind::Month.format(s.times[0]), m);
+        let q = format!("{year:04}Q{}", (month - 1) / 3 + 1);
+        let s = parse(&format!("{q};1\n")).map_err(|e| TestCaseError::fail(e.to_string()))?;
+        prop_assert_eq!(TimeKind::Quarter.format(s.times[0]), q);
+    }
+}

@@ -1,0 +1,172 @@
+//! The report: a fit or a comparison as plain serialisable data, the one
+//! JSON shape shared by `plateau fit --json`, `plateau compare --json` and
+//! the page's "JSON report" download.
+//!
+//! The field names are an output contract (see `DEVELOPERS.md`): add fields,
+//! never rename or remove one. Non-finite numbers serialise as `null`
+//! (serde_json's behaviour), so a reader never meets `NaN` in JSON.
+//!
+//! Main types: [`FitReport`] (from a [`Fit`]) and [`CompareReport`] (from
+//! [`compare::Entry`](crate::compare::Entry) rows).
+
+use crate::compare::Entry;
+use crate::fit::Fit;
+use crate::warning::Warning;
+use serde::ser::{SerializeMap, Serializer};
+use serde::Serialize;
+
+/// The caution shown wherever results are shown.
+pub const CAUTION: &str = "Forecasts are extrapolations. Fits that end before the inflection \
+point are unreliable, especially for the saturation level K. Not for clinical or safety \
+decisions without qualified review.";
+
+/// One parameter in the report.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ParamReport {
+    pub estimate: f64,
+    /// `null` for a fixed parameter or when the covariance does not exist.
+    pub std_error: Option<f64>,
+    /// 95% interval `[lo, hi]`, or `null`.
+    pub ci95: Option<[f64; 2]>,
+    pub fixed: bool,
+}
+
+/// Parameters in the model's own order (a JSON object keeps the order the
+/// keys are written in, so `K, r, t0` reads as in the formula).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Params(pub Vec<(String, ParamReport)>);
+
+impl Serialize for Params {
+    fn serialize<S: Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        let mut m = s.serialize_map(Some(self.0.len()))?;
+        for (k, v) in &self.0 {
+            m.serialize_entry(k, v)?;
+        }
+        m.end()
+    }
+}
+
+/// One fit, in the shape of `plateau fit --json`.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct FitReport {
+    pub model: &'static str,
+    pub formula: &'static str,
+    pub n: usize,
+    pub dof: usize,
+    pub rss: f64,
+    pub sigma: f64,
+    pub r_squared: f64,
+    pub aic: f64,
+    pub aicc: f64,
+    pub bic: f64,
+    pub converged: bool,
+    pub iterations: usize,
+    /// Why the solver stopped (see `solver::Termination::as_str`).
+    pub termination: &'static str,
+    pub condition_number: f64,
+    pub params: Params,
+    /// One per fitted row, in input order.
+    pub fitted: Vec<f64>,
+    pub warnings: Vec<Warning>,
+}
+
+impl FitReport {
+    /// The report of `fit`; `extra_warnings` (e.g. from data input) come first.
+    pub fn new(fit: &Fit, extra_warnings: &[Warning]) -> FitReport {
+        let params = fit
+            .params
+            .iter()
+            .map(|p| {
+                (
+                    p.name.to_string(),
+                    ParamReport {
+                        estimate: p.estimate,
+                        std_error: p.std_error,
+                        ci95: p.ci95.map(|(a, b)| [a, b]),
+                        fixed: p.fixed,
+                    },
+                )
+            })
+            .collect();
+        FitReport {
+            model: fit.model.name(),
+            formula: fit.model.formula(),
+            n: fit.n,
+            dof: fit.dof,
+            rss: fit.rss,
+            sigma: fit.sigma,
+            r_squared: fit.r_squared,
+            aic: fit.aic,
+            aicc: fit.aicc,
+            bic: fit.bic,
+            converged: fit.converged,
+            iterations: fit.iterations,
+            termination: fit.termination.as_str(),
+            condition_number: fit.condition_number,
+            params: Params(params),
+            fitted: fit.fitted.clone(),
+            warnings: extra_warnings.iter().chain(&fit.warnings).cloned().collect(),
+        }
+    }
+}
+
+/// One model's row in a comparison.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct CompareRow {
+    pub model: &'static str,
+    /// 1 for the lowest AICc; `null` when the model could not be fitted.
+    pub rank: Option<usize>,
+    pub aicc: Option<f64>,
+    pub delta_aicc: Option<f64>,
+    pub akaike_weight: Option<f64>,
+    pub fit: Option<FitReport>,
+    /// Why there is no fit, when there is none.
+    pub error: Option<String>,
+}
+
+/// The shape of `plateau compare --json`.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct CompareReport {
+    /// Best (lowest AICc) first.
+    pub models: Vec<CompareRow>,
+    pub warnings: Vec<Warning>,
+}
+
+impl CompareReport {
+    pub fn new(entries: &[Entry], data_warnings: &[Warning]) -> CompareReport {
+        let mut rank = 0;
+        let models = entries
+            .iter()
+            .map(|e| {
+                let r = e.delta_aicc.map(|_| {
+                    rank += 1;
+                    rank
+                });
+                match &e.result {
+                    Ok(f) => CompareRow {
+                        model: e.model.name(),
+                        rank: r,
+                        aicc: Some(f.aicc),
+                        delta_aicc: e.delta_aicc,
+                        akaike_weight: e.akaike_weight,
+                        fit: Some(FitReport::new(f, &[])),
+                        error: None,
+                    },
+                    Err(err) => CompareRow {
+                        model: e.model.name(),
+                        rank: None,
+                        aicc: None,
+                        delta_aicc: None,
+                        akaike_weight: None,
+                        fit: None,
+                        error: Some(err.message.clone()),
+                    },
+                }
+            })
+            .collect();
+        CompareReport {
+            models,
+            warnings: data_warnings.to_vec(),
+        }
+    }
+}

@@ -1,0 +1,153 @@
+//! The wasm-bindgen face of Plateau: the only crate that knows about
+//! JavaScript. The page's script creates one [`Workbench`], hands it the
+//! pasted text and the settings on every change, shows the [`session::View`]
+//! it returns, and asks it to draw each chart on a canvas or as SVG.
+//!
+//! Long-lived state (the last good analysis) stays here in Rust; JavaScript
+//! only gets small results back. Errors cross as `JsError` with a message
+//! for a human (naming the line for bad data), never as a panic; the start
+//! function installs a panic hook that shows a visible message anyway.
+
+pub mod session;
+
+use plateau_chart::{ChartInput, ChartKind};
+use plotters::prelude::IntoDrawingArea;
+use plotters_canvas::CanvasBackend;
+use session::{Analysis, Settings};
+use wasm_bindgen::prelude::*;
+use web_sys::HtmlCanvasElement;
+
+#[wasm_bindgen(start)]
+pub fn start() {
+    std::panic::set_hook(Box::new(|info| {
+        let message = format!("Plateau hit an internal error and stopped: {info}");
+        web_sys::console::error_1(&message.as_str().into());
+        show_panic(&message);
+    }));
+}
+
+/// Puts the panic message at the top of the page. Written with web-sys
+/// rather than `inline_js`: a JS snippet would be a separate file, which the
+/// single-file page cannot load under its CSP.
+fn show_panic(message: &str) {
+    let Some(document) = web_sys::window().and_then(|w| w.document()) else {
+        return;
+    };
+    let (Ok(div), Some(body)) = (document.create_element("div"), document.body()) else {
+        return;
+    };
+    div.set_id("panic");
+    let _ = div.set_attribute("role", "alert");
+    div.set_text_content(Some(&format!(
+        "{message} Reload the page; your data is still in this browser's local storage."
+    )));
+    let _ = body.prepend_with_node_1(&div);
+}
+
+/// The invented demo series shown on a first visit.
+#[wasm_bindgen(js_name = demoText)]
+pub fn demo_text() -> String {
+    session::DEMO_TEXT.to_string()
+}
+
+/// How the page labels the demo series.
+#[wasm_bindgen(js_name = demoLabel)]
+pub fn demo_label() -> String {
+    session::DEMO_LABEL.to_string()
+}
+
+/// The page's state: the last analysis that succeeded.
+#[wasm_bindgen]
+#[derive(Default)]
+pub struct Workbench {
+    last: Option<Analysis>,
+}
+
+#[wasm_bindgen]
+impl Workbench {
+    #[wasm_bindgen(constructor)]
+    pub fn new() -> Workbench {
+        Workbench::default()
+    }
+
+    /// Parses, fits the chosen model, compares all models and returns the
+    /// view. On bad input returns an error and keeps the previous analysis.
+    pub fn update(&mut self, text: &str, settings: JsValue) -> Result<JsValue, JsError> {
+        let settings: Settings = serde_wasm_bindgen::from_value(settings)
+            .map_err(|e| JsError::new(&format!("settings: {e}")))?;
+        let analysis = session::analyse(text, &settings).map_err(|e| JsError::new(&e.message))?;
+        let view = serde_wasm_bindgen::to_value(&analysis.view)
+            .map_err(|e| JsError::new(&e.to_string()))?;
+        self.last = Some(analysis);
+        Ok(view)
+    }
+
+    /// Draws chart `chart` ("curve", "residuals" or "symmetry") on the
+    /// canvas at its current pixel size (the page sets it for the device
+    /// pixel ratio).
+    pub fn draw(&self, chart: &str, canvas: HtmlCanvasElement) -> Result<(), JsError> {
+        let (analysis, kind) = self.target(chart)?;
+        let backend = CanvasBackend::with_canvas_object(canvas)
+            .ok_or_else(|| JsError::new("the canvas has no 2D context"))?;
+        let area = backend.into_drawing_area();
+        with_input(analysis, |input| plateau_chart::draw(kind, &area, input))
+            .map_err(|e| JsError::new(&e.to_string()))?;
+        area.present().map_err(|e| JsError::new(&e.to_string()))
+    }
+
+    /// The same chart as an SVG document.
+    pub fn svg(&self, chart: &str, width: u32, height: u32) -> Result<String, JsError> {
+        let (analysis, kind) = self.target(chart)?;
+        with_input(analysis, |input| plateau_chart::render_svg(kind, input, width, height))
+            .map_err(|e| JsError::new(&e.to_string()))
+    }
+
+    /// The JSON report, the schema of `plateau fit --json`.
+    #[wasm_bindgen(js_name = reportJson)]
+    pub fn report_json(&self) -> Result<String, JsError> {
+        Ok(self.analysis()?.report_json())
+    }
+
+    /// Observed, fitted, forecast and 95% band as CSV.
+    #[wasm_bindgen(js_name = tableCsv)]
+    pub fn table_csv(&self) -> Result<String, JsError> {
+        Ok(self.analysis()?.table_csv())
+    }
+}
+
+impl Workbench {
+    fn analysis(&self) -> Result<&Analysis, JsError> {
+        self.last
+            .as_ref()
+            .ok_or_else(|| JsError::new("nothing has been fitted yet"))
+    }
+
+    fn target(&self, chart: &str) -> Result<(&Analysis, ChartKind), JsError> {
+        let kind = ChartKind::ALL
+            .into_iter()
+            .find(|k| k.name() == chart)
+            .ok_or_else(|| JsError::new(&format!("unknown chart {chart:?}")))?;
+        Ok((self.analysis()?, kind))
+    }
+}
+
+/// Builds the charts' input from an analysis.
+pub fn with_input<T>(a: &Analysis, f: impl FnOnce(&ChartInput) -> T) -> T {
+    let kind = a.series.time_kind;
+    let format_time = move |t: f64| kind.format(t);
+    let value_caption = if a.settings.per_period {
+        format!("{} (cumulative)", a.series.value_name)
+    } else {
+        a.series.value_name.clone()
+    };
+    let input = ChartInput {
+        times: &a.series.times,
+        values: &a.values,
+        fit: &a.fit,
+        horizon: Some(a.horizon_end),
+        format_time: &format_time,
+        time_caption: &a.series.time_name,
+        value_caption: &value_caption,
+    };
+    f(&input)
+}

@@ -1,0 +1,427 @@
+//! The page's state and its one operation, [`Session::update`]: text and
+//! settings in, a [`View`] (everything the page shows as numbers) out.
+//!
+//! Plain Rust with no JavaScript types, so it is tested natively; `lib.rs`
+//! wraps it for wasm-bindgen. A failed update (bad data) leaves the previous
+//! analysis in place, so the page keeps showing the last good results next
+//! to the error.
+
+use plateau_core::analysis;
+use plateau_core::compare::compare;
+use plateau_core::data::{cumulate, ColumnRef, DataError, TimeKind};
+use plateau_core::fit::{fit_xy, Fit, FitOptions};
+use plateau_core::report::{FitReport, CAUTION};
+use plateau_core::{parse_series, Model, ParseOptions, Series, Warning};
+use serde::{Deserialize, Serialize};
+use std::fmt::Write;
+
+/// The demo series shown on a first visit (invented; see demo-data/README.md).
+pub const DEMO_TEXT: &str = include_str!("../../../demo-data/aldermoor_subscribers.csv");
+/// How the page labels the demo series.
+pub const DEMO_LABEL: &str = "Demo data (invented): weekly cumulative subscriptions in Aldermoor, \
+a fictional region of a fictional solar co-operative.";
+
+/// What the user chose on the page. Field names are the page's JSON keys.
+#[derive(Debug, Clone, Deserialize, Serialize, PartialEq)]
+#[serde(default, rename_all = "camelCase")]
+pub struct Settings {
+    /// A model name as in [`Model::name`].
+    pub model: String,
+    /// K held at a known value (market sizing), or `None` to estimate it.
+    pub fixed_k: Option<f64>,
+    /// Forecast horizon in periods past the last observation; a period is
+    /// the median spacing of the observation times.
+    pub horizon: f64,
+    /// The values are per-period counts, accumulated before fitting.
+    pub per_period: bool,
+    /// 0-based column choices; `None` means the first and second columns.
+    pub time_column: Option<usize>,
+    pub value_column: Option<usize>,
+    /// A user-chosen milestone as a share of K, in percent.
+    pub share: f64,
+    /// A user-chosen milestone as an absolute level (e.g. one million users).
+    pub level: Option<f64>,
+}
+
+impl Default for Settings {
+    fn default() -> Self {
+        Settings {
+            model: "logistic".into(),
+            fixed_k: None,
+            horizon: 12.0,
+            per_period: false,
+            time_column: None,
+            value_column: None,
+            share: 95.0,
+            level: None,
+        }
+    }
+}
+
+/// Why an update produced no new analysis.
+#[derive(Debug, Clone, PartialEq)]
+pub struct UpdateError {
+    /// 1-based line of the data text, when the problem is on one line.
+    pub line: Option<usize>,
+    pub message: String,
+}
+
+impl std::fmt::Display for UpdateError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(&self.message)
+    }
+}
+
+impl From<DataError> for UpdateError {
+    fn from(e: DataError) -> Self {
+        UpdateError {
+            line: e.line,
+            message: e.to_string(),
+        }
+    }
+}
+
+fn setting_error(message: impl Into<String>) -> UpdateError {
+    UpdateError {
+        line: None,
+        message: message.into(),
+    }
+}
+
+/// One finished analysis: the data as fitted, the chosen model's fit and
+/// the comparison of every model.
+#[derive(Debug, Clone)]
+pub struct Analysis {
+    pub settings: Settings,
+    pub series: Series,
+    /// The values as fitted (accumulated when the input was per period).
+    pub values: Vec<f64>,
+    pub fit: Fit,
+    pub view: View,
+    /// End of the forecast on the time axis.
+    pub horizon_end: f64,
+}
+
+/// The page's numbers, ready to show. Times come both as axis values and as
+/// display text (dates when the input had dates).
+#[derive(Debug, Clone, Serialize, PartialEq)]
+#[serde(rename_all = "camelCase")]
+pub struct View {
+    pub model: &'static str,
+    pub formula: &'static str,
+    pub time_name: String,
+    pub value_name: String,
+    pub time_kind: TimeKind,
+    /// Every column of the input, for the column choice.
+    pub columns: Vec<String>,
+    pub time_column: usize,
+    pub value_column: usize,
+    pub per_period: bool,
+    pub converged: bool,
+    pub termination: &'static str,
+    pub iterations: usize,
+    pub params: Vec<ParamRow>,
+    pub stats: Stats,
+    /// Data-input warnings first, then the fit's.
+    pub warnings: Vec<Warning>,
+    pub milestones: Vec<MilestoneRow>,
+    /// Years (date axes) or time units: ln(81)/r for the logistic.
+    pub duration_10_90: Option<f64>,
+    pub symmetry: Option<SymmetryRow>,
+    pub comparison: Vec<CompareRow>,
+    pub caution: &'static str,
+    pub time_unit: &'static str,
+}
+
+#[derive(Debug, Clone, Serialize, PartialEq)]
+#[serde(rename_all = "camelCase")]
+pub struct ParamRow {
+    pub name: &'static str,
+    pub estimate: f64,
+    pub std_error: Option<f64>,
+    pub ci95: Option<[f64; 2]>,
+    pub fixed: bool,
+    /// The estimate as a date (for t0 on date axes), else `None`.
+    pub as_time: Option<String>,
+}
+
+#[derive(Debug, Clone, Serialize, PartialEq)]
+#[serde(rename_all = "camelCase")]
+pub struct Stats {
+    pub n: usize,
+    pub dof: usize,
+    pub rss: f64,
+    pub sigma: f64,
+    pub r_squared: f64,
+    pub aic: f64,
+    pub aicc: f64,
+    pub bic: f64,
+    pub condition_number: f64,
+}
+
+#[derive(Debug, Clone, Serialize, PartialEq)]
+#[serde(rename_all = "camelCase")]
+pub struct MilestoneRow {
+    pub label: String,
+    pub time: f64,
+    pub time_text: String,
+    pub ci95_text: Option<[String; 2]>,
+    /// Whether the milestone lies past the last observation (a forecast).
+    pub forecast: bool,
+}
+
+#[derive(Debug, Clone, Serialize, PartialEq)]
+#[serde(rename_all = "camelCase")]
+pub struct SymmetryRow {
+    /// `None` when sigma is zero (an exact fit).
+    pub rms_ratio: Option<f64>,
+    pub meaning: &'static str,
+}
+
+#[derive(Debug, Clone, Serialize, PartialEq)]
+#[serde(rename_all = "camelCase")]
+pub struct CompareRow {
+    pub model: &'static str,
+    pub aicc: Option<f64>,
+    pub delta_aicc: Option<f64>,
+    pub weight: Option<f64>,
+    pub k: Option<f64>,
+    pub converged: Option<bool>,
+    /// Why this model could not be fitted.
+    pub error: Option<String>,
+}
+
+/// Runs the whole analysis; pure function of its inputs.
+pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError> {
+    let model = Model::from_name(&settings.model)
+        .ok_or_else(|| setting_error(format!("unknown model {:?}", settings.model)))?;
+    let opts = ParseOptions {
+        time_column: settings.time_column.map(ColumnRef::Index),
+        value_column: settings.value_column.map(ColumnRef::Index),
+        ..ParseOptions::default()
+    };
+    let series = parse_series(text, &opts)?;
+    let values = if settings.per_period {
+        cumulate(&series.values)
+    } else {
+        series.values.clone()
+    };
+    let mut fit_opts = FitOptions::default();
+    if let Some(k) = settings.fixed_k {
+        if !(k.is_finite() && k > 0.0) {
+            return Err(setting_error("fixed K: expected a positive number"));
+        }
+        if model.param_index("K").is_none() {
+            return Err(setting_error(format!(
+                "the {} model has no K to fix; clear the fixed K or choose another model",
+                model.name()
+            )));
+        }
+        fit_opts.fixed.push(("K".into(), k));
+    }
+    if !(settings.horizon.is_finite() && settings.horizon >= 0.0 && settings.horizon <= 1000.0) {
+        return Err(setting_error(
+            "forecast horizon: expected a number of periods from 0 to 1000",
+        ));
+    }
+    let fit = fit_xy(&series.times, &values, model, &fit_opts).map_err(|e| UpdateError {
+        line: None,
+        message: format!("cannot fit the {} model: {e}", model.name()),
+    })?;
+    let entries = compare(&series.times, &values, &Model::ALL, &fit_opts);
+    let (_, t_max) = range(&series.times);
+    let horizon_end = t_max + settings.horizon * typical_step(&series.times);
+    let kind = series.time_kind;
+    let fmt_t = |t: f64| kind.format(t);
+
+    let params = fit
+        .params
+        .iter()
+        .map(|p| ParamRow {
+            name: p.name,
+            estimate: p.estimate,
+            std_error: p.std_error,
+            ci95: p.ci95.map(|(a, b)| [a, b]),
+            fixed: p.fixed,
+            as_time: (p.name == "t0" && kind != TimeKind::Number).then(|| fmt_t(p.estimate)),
+        })
+        .collect();
+
+    let mut milestones = Vec::new();
+    let mut push = |label: String, m: Option<analysis::Milestone>| {
+        if let Some(m) = m {
+            milestones.push(MilestoneRow {
+                label,
+                time: m.time,
+                time_text: fmt_t(m.time),
+                ci95_text: m.ci95.map(|(a, b)| [fmt_t(a), fmt_t(b)]),
+                forecast: m.time > t_max,
+            });
+        }
+    };
+    if model.saturates() {
+        for p in [10.0, 50.0, 90.0] {
+            push(
+                format!("{p:.0}% of K"),
+                analysis::time_at_fraction(&fit, p / 100.0),
+            );
+        }
+        if settings.share > 0.0 && settings.share < 100.0 && ![10.0, 50.0, 90.0].contains(&settings.share) {
+            push(
+                format!("{}% of K", trim_number(settings.share)),
+                analysis::time_at_fraction(&fit, settings.share / 100.0),
+            );
+        }
+    }
+    if let Some(level) = settings.level.filter(|l| l.is_finite()) {
+        push(
+            format!("level {}", trim_number(level)),
+            analysis::time_at_level(&fit, level),
+        );
+    }
+
+    let symmetry = analysis::symmetry(&fit, &series.times, &values).map(|s| SymmetryRow {
+        rms_ratio: s.rms_ratio,
+        meaning: s.meaning,
+    });
+    let comparison = entries
+        .iter()
+        .map(|e| CompareRow {
+            model: e.model.name(),
+            aicc: e.result.as_ref().ok().map(|f| f.aicc),
+            delta_aicc: e.delta_aicc,
+            weight: e.akaike_weight,
+            k: e
+                .result
+                .as_ref()
+                .ok()
+                .and_then(|f| f.param("K").map(|p| p.estimate)),
+            converged: e.result.as_ref().ok().map(|f| f.converged),
+            error: e.result.as_ref().err().map(|err| err.to_string()),
+        })
+        .collect();
+
+    let view = View {
+        model: model.name(),
+        formula: model.formula(),
+        time_name: series.time_name.clone(),
+        value_name: series.value_name.clone(),
+        time_kind: kind,
+        columns: series.columns.clone(),
+        time_column: settings.time_column.unwrap_or(0),
+        value_column: settings.value_column.unwrap_or(1),
+        per_period: settings.per_period,
+        converged: fit.converged,
+        termination: fit.termination.as_str(),
+        iterations: fit.iterations,
+        params,
+        stats: Stats {
+            n: fit.n,
+            dof: fit.dof,
+            rss: fit.rss,
+            sigma: fit.sigma,
+            r_squared: fit.r_squared,
+            aic: fit.aic,
+            aicc: fit.aicc,
+            bic: fit.bic,
+            condition_number: fit.condition_number,
+        },
+        warnings: series.warnings.iter().chain(&fit.warnings).cloned().collect(),
+        milestones,
+        duration_10_90: analysis::duration_10_90(&fit).map(|m| m.time),
+        symmetry,
+        comparison,
+        caution: CAUTION,
+        time_unit: kind.unit(),
+    };
+    Ok(Analysis {
+        settings: settings.clone(),
+        series,
+        values,
+        fit,
+        view,
+        horizon_end,
+    })
+}
+
+fn range(t: &[f64]) -> (f64, f64) {
+    t.iter()
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), &v| (lo.min(v), hi.max(v)))
+}
+
+/// The median spacing of the sorted distinct times: one "period".
+pub fn typical_step(t: &[f64]) -> f64 {
+    let mut s = t.to_vec();
+    s.sort_by(f64::total_cmp);
+    let mut d: Vec<f64> = s.windows(2).map(|w| w[1] - w[0]).filter(|d| *d > 0.0).collect();
+    if d.is_empty() {
+        return 1.0;
+    }
+    d.sort_by(f64::total_cmp);
+    d[d.len() / 2]
+}
+
+/// `95` rather than `95.0`, `1000000` rather than `1e6`.
+fn trim_number(x: f64) -> String {
+    format!("{x}")
+}
+
+impl Analysis {
+    /// `plateau fit --json`'s report for this fit.
+    pub fn report_json(&self) -> String {
+        let report = FitReport::new(&self.fit, &self.series.warnings);
+        serde_json::to_string_pretty(&report).unwrap_or_else(|e| format!("{{\"error\":\"{e}\"}}"))
+    }
+
+    /// One row per observation (time, observed, fitted, 95% band), then one
+    /// row per period of the forecast (time, forecast, band).
+    pub fn table_csv(&self) -> String {
+        let kind = self.series.time_kind;
+        let mut s = String::from("time,axis,observed,fitted,forecast,lower95,upper95\n");
+        let band = |t: f64| analysis::band(&self.fit, t, 0.95);
+        let cell = |x: Option<f64>| x.map_or(String::new(), |v| format!("{v}"));
+        for (i, &t) in self.series.times.iter().enumerate() {
+            let b = band(t);
+            let _ = writeln!(
+                s,
+                "{},{},{},{},,{},{}",
+                csv_text(&kind.format(t)),
+                t,
+                self.values[i],
+                self.fit.fitted[i],
+                cell(b.map(|b| b.0)),
+                cell(b.map(|b| b.1)),
+            );
+        }
+        let (_, t_max) = range(&self.series.times);
+        let step = typical_step(&self.series.times);
+        let mut k = 1.0;
+        while t_max + k * step <= self.horizon_end + step * 1e-9 {
+            let t = t_max + k * step;
+            let b = band(t);
+            let _ = writeln!(
+                s,
+                "{},{},,,{},{},{}",
+                csv_text(&kind.format(t)),
+                t,
+                self.fit.predict(t),
+                cell(b.map(|b| b.0)),
+                cell(b.map(|b| b.1)),
+            );
+            k += 1.0;
+        }
+        s
+    }
+}
+
+/// Quotes a CSV field when it needs it.
+fn csv_text(s: &str) -> String {
+    if s.contains([',', '"', '\n']) {
+        format!("\"{}\"", s.replace('"', "\"\""))
+    } else {
+        s.to_string()
+    }
+}
+
+#[cfg(test)]
+mod tests;

@@ -1,0 +1,95 @@
+//! The page's analysis, natively: the numbers the page shows must be the
+//! CLI's numbers (same core calls), bad data must name its line and the
+//! exports must have the promised shape.
+
+use super::*;
+use plateau_core::fit::FitOptions;
+
+fn demo() -> Analysis {
+    analyse(DEMO_TEXT, &Settings::default()).expect("the demo fits")
+}
+
+#[test]
+fn demo_matches_a_direct_core_fit() {
+    let a = demo();
+    let series = parse_series(DEMO_TEXT, &ParseOptions::default()).unwrap();
+    let direct = plateau_core::fit(&series, Model::Logistic, &FitOptions::default()).unwrap();
+    assert_eq!(a.fit.values(), direct.values());
+    assert_eq!(a.view.params.len(), 3);
+    assert_eq!(a.view.comparison.len(), Model::ALL.len());
+    assert!(a.view.milestones.iter().any(|m| m.label == "90% of K"));
+    // Common practice: for the logistic, 10% to 90% of K takes ln(81)/r.
+    let r = a.fit.param("r").unwrap().estimate;
+    let d = a.view.duration_10_90.unwrap();
+    assert!((d - 81f64.ln() / r).abs() < 1e-9 * d);
+}
+
+#[test]
+fn bad_data_names_the_line() {
+    let e = analyse("t,y\n1,2\n2,x\n3,4\n", &Settings::default()).unwrap_err();
+    assert_eq!(e.line, Some(3));
+    assert!(e.message.contains("line 3"), "{}", e.message);
+}
+
+#[test]
+fn per_period_counts_are_accumulated_before_fitting() {
+    let counts = include_str!("../../../../demo-data/weekly_signups.csv");
+    let settings = Settings {
+        per_period: true,
+        ..Settings::default()
+    };
+    let a = analyse(counts, &settings).unwrap();
+    let raw = parse_series(counts, &ParseOptions::default()).unwrap();
+    let total: f64 = raw.values.iter().sum();
+    assert_eq!(a.values.last().copied(), Some(total));
+}
+
+#[test]
+fn fixed_k_is_refused_for_the_exponential_and_kept_for_the_logistic() {
+    let settings = Settings {
+        model: "exponential".into(),
+        fixed_k: Some(1000.0),
+        ..Settings::default()
+    };
+    assert!(analyse(DEMO_TEXT, &settings).is_err());
+    let settings = Settings {
+        fixed_k: Some(15000.0),
+        ..Settings::default()
+    };
+    let a = analyse(DEMO_TEXT, &settings).unwrap();
+    assert_eq!(a.fit.param("K").unwrap().estimate, 15000.0);
+    assert!(a.fit.param("K").unwrap().fixed);
+}
+
+#[test]
+fn csv_has_one_row_per_time_and_forecast_rows_after() {
+    let a = demo();
+    let csv = a.table_csv();
+    let rows: Vec<&str> = csv.lines().skip(1).collect();
+    let horizon = Settings::default().horizon as usize;
+    assert_eq!(rows.len(), a.series.times.len() + horizon);
+    let axis: Vec<f64> = rows
+        .iter()
+        .map(|r| r.split(',').nth(1).unwrap().parse().unwrap())
+        .collect();
+    assert!(axis.windows(2).all(|w| w[0] < w[1]), "distinct, increasing");
+}
+
+#[test]
+fn json_report_is_the_cli_schema() {
+    let a = demo();
+    let v: serde_json::Value = serde_json::from_str(&a.report_json()).unwrap();
+    for key in [
+        "model", "n", "dof", "rss", "sigma", "r_squared", "aic", "aicc", "bic", "converged",
+        "iterations", "params", "fitted", "warnings",
+    ] {
+        assert!(v.get(key).is_some(), "missing {key}");
+    }
+    assert_eq!(v["fitted"].as_array().unwrap().len(), a.series.times.len());
+}
+
+#[test]
+fn typical_step_is_the_median_spacing() {
+    assert_eq!(typical_step(&[3.0, 1.0, 2.0, 5.0]), 1.0);
+    assert_eq!(typical_step(&[7.0]), 1.0);
+}

@@ -1,0 +1,312 @@
+// Plateau's page wiring. This script only moves text and settings between
+// the DOM, localStorage and the Rust Workbench, sizes canvases for the
+// device pixel ratio and triggers downloads; parsing, fitting, numbers and
+// drawing are all Rust. It is inlined after the wasm-bindgen glue (which
+// defines initSync and Workbench) and WASM_BASE64 by `cargo xtask dist`.
+
+const STORE_KEY = "plateau.workspace.v1";
+const $ = (id) => document.getElementById(id);
+
+function wasmBytes() {
+  const bin = atob(WASM_BASE64);
+  const bytes = new Uint8Array(bin.length);
+  for (let i = 0; i < bin.length; i++) bytes[i] = bin.charCodeAt(i);
+  return bytes;
+}
+
+initSync({ module: wasmBytes() });
+const bench = new Workbench();
+
+const DEFAULTS = {
+  model: "logistic", fixedK: null, horizon: 12, perPeriod: false,
+  timeColumn: null, valueColumn: null, share: 95, level: null,
+};
+
+let state = restore();
+let view = null;
+
+function restore() {
+  try {
+    const saved = JSON.parse(localStorage.getItem(STORE_KEY) || "null");
+    if (saved && typeof saved.text === "string") {
+      return { text: saved.text, settings: { ...DEFAULTS, ...saved.settings }, demo: !!saved.demo };
+    }
+  } catch (_) { /* unreadable storage: start from the demo */ }
+  return demoState();
+}
+
+function demoState() {
+  return { text: demoText(), settings: { ...DEFAULTS }, demo: true };
+}
+
+function save() {
+  try {
+    localStorage.setItem(STORE_KEY, JSON.stringify(state));
+    $("store-status").textContent = "saved in this browser";
+  } catch (e) {
+    $("store-status").textContent = "could not save: " + e.message;
+  }
+}
+
+function numberOrNull(el) {
+  const v = el.value.trim();
+  if (v === "") return null;
+  const x = Number(v);
+  return Number.isFinite(x) ? x : NaN;
+}
+
+function readControls() {
+  const s = state.settings;
+  s.model = $("model").value;
+  s.fixedK = numberOrNull($("fixed-k"));
+  s.horizon = numberOrNull($("horizon")) ?? 0;
+  s.share = numberOrNull($("share")) ?? 95;
+  s.level = numberOrNull($("level"));
+  s.perPeriod = $("accum-per-period").checked;
+  if (!$("columns").hidden) {
+    s.timeColumn = Number($("time-col").value);
+    s.valueColumn = Number($("value-col").value);
+  }
+}
+
+function writeControls() {
+  const s = state.settings;
+  $("data").value = state.text;
+  $("model").value = s.model;
+  $("fixed-k").value = s.fixedK ?? "";
+  $("horizon").value = s.horizon;
+  $("share").value = s.share;
+  $("level").value = s.level ?? "";
+  $("accum-per-period").checked = !!s.perPeriod;
+  $("accum-cumulative").checked = !s.perPeriod;
+}
+
+const fmt = (x) => {
+  if (x === null || x === undefined || !Number.isFinite(x)) return "–";
+  const a = Math.abs(x);
+  if (a !== 0 && (a >= 1e9 || a < 1e-4)) return x.toExponential(4);
+  return Number(x.toPrecision(6)).toString();
+};
+
+function cell(row, text, cls) {
+  const td = document.createElement("td");
+  td.textContent = text;
+  if (cls) td.className = cls;
+  row.appendChild(td);
+}
+
+function fillBody(table, rows) {
+  const body = $(table).tBodies[0];
+  body.replaceChildren(...rows);
+}
+
+function showView(v) {
+  $("caution").textContent = v.caution;
+  $("model-formula").textContent = v.formula;
+  const warnings = v.warnings.map((w) => {
+    const li = document.createElement("li");
+    if (["saturation_not_identified", "before_inflection", "not_converged", "singular_jacobian"].includes(w.code)) {
+      li.className = "serious";
+    }
+    li.append(w.message + " ");
+    const code = document.createElement("code");
+    code.textContent = w.code;
+    li.append(code);
+    return li;
+  });
+  $("warnings").replaceChildren(...warnings);
+
+  fillBody("params", v.params.map((p) => {
+    const tr = document.createElement("tr");
+    tr.dataset.param = p.name;
+    cell(tr, p.name);
+    cell(tr, fmt(p.estimate) + (p.asTime ? ` (${p.asTime})` : ""), "estimate");
+    tr.lastChild.dataset.value = String(p.estimate);
+    cell(tr, p.fixed ? "fixed" : fmt(p.stdError));
+    cell(tr, p.ci95 ? `${fmt(p.ci95[0])} … ${fmt(p.ci95[1])}` : "–");
+    return tr;
+  }));
+
+  const st = v.stats;
+  const statRows = [
+    ["points n", st.n], ["degrees of freedom", st.dof], ["RSS", fmt(st.rss)],
+    ["sigma (residual SD)", fmt(st.sigma)], ["R²", fmt(st.rSquared)], ["AICc", fmt(st.aicc)],
+    ["AIC", fmt(st.aic)], ["BIC", fmt(st.bic)],
+    ["solver", v.converged ? `converged in ${v.iterations} iterations` : `did not converge (${v.termination})`],
+  ];
+  fillBody("stats", statRows.map(([k, x]) => {
+    const tr = document.createElement("tr");
+    tr.dataset.stat = k;
+    cell(tr, k);
+    cell(tr, String(x));
+    return tr;
+  }));
+
+  fillBody("milestones", v.milestones.map((m) => {
+    const tr = document.createElement("tr");
+    cell(tr, m.label);
+    cell(tr, m.timeText + (m.forecast ? " (forecast)" : ""));
+    cell(tr, m.ci95Text ? `${m.ci95Text[0]} … ${m.ci95Text[1]}` : "–");
+    return tr;
+  }));
+  const unit = v.timeUnit ? ` ${v.timeUnit}s` : " time units";
+  $("duration").textContent = v.duration1090 == null ? "" :
+    `From 10% to 90% of K takes ${fmt(v.duration1090)}${unit}` + (v.model === "logistic" ? " (ln 81 / r)." : ".");
+
+  fillBody("comparison", v.comparison.map((c) => {
+    const tr = document.createElement("tr");
+    if (c.model === v.model) tr.className = "chosen";
+    cell(tr, c.model);
+    if (c.error) {
+      const td = document.createElement("td");
+      td.colSpan = 4;
+      td.textContent = c.error;
+      tr.appendChild(td);
+    } else {
+      cell(tr, fmt(c.aicc)); cell(tr, fmt(c.deltaAicc)); cell(tr, fmt(c.weight)); cell(tr, fmt(c.k));
+    }
+    return tr;
+  }));
+
+  $("symmetry-note").textContent = v.symmetry
+    ? `RMS mismatch ${fmt(v.symmetry.rmsRatio)} × sigma. ${v.symmetry.meaning}`
+    : "not available for this model.";
+
+  const cols = v.columns;
+  $("columns").hidden = cols.length <= 2;
+  for (const [id, chosen] of [["time-col", v.timeColumn], ["value-col", v.valueColumn]]) {
+    const sel = $(id);
+    sel.replaceChildren(...cols.map((name, i) => new Option(name, String(i), false, i === chosen)));
+  }
+}
+
+function drawCharts() {
+  for (const canvas of document.querySelectorAll("canvas.chart")) {
+    const dpr = window.devicePixelRatio || 1;
+    canvas.width = Math.max(1, Math.round(canvas.clientWidth * dpr));
+    canvas.height = Math.max(1, Math.round(canvas.clientHeight * dpr));
+    try {
+      bench.draw(canvas.dataset.chart, canvas);
+    } catch (e) {
+      setStatus("Chart failed: " + e.message, true);
+    }
+  }
+}
+
+function setStatus(text, isError) {
+  const el = $("parse-status");
+  el.textContent = text;
+  el.className = "status " + (isError ? "error" : "ok");
+}
+
+function update() {
+  const started = performance.now();
+  try {
+    view = bench.update(state.text, state.settings);
+  } catch (e) {
+    // Bad input: say where, keep the last good results on screen.
+    setStatus(e.message, true);
+    document.body.dataset.state = "error";
+    return;
+  }
+  showView(view);
+  drawCharts();
+  setStatus(`${view.stats.n} points read: ${view.valueName} against ${view.timeName}.`, false);
+  $("data-label").textContent = state.demo ? demoLabel() : "";
+  window.plateauLastUpdateMs = performance.now() - started;
+  // Milliseconds from navigation start to the first drawn fit.
+  window.plateauFirstFitMs ??= performance.now();
+  document.body.dataset.state = "ready";
+  document.body.dataset.updates = String(Number(document.body.dataset.updates || 0) + 1);
+}
+
+let pending = 0;
+function changed({ text = false, immediate = false } = {}) {
+  if (text) {
+    state.text = $("data").value;
+    state.demo = false;
+    // A new table may have other columns.
+    state.settings.timeColumn = null;
+    state.settings.valueColumn = null;
+  } else {
+    readControls();
+  }
+  save();
+  clearTimeout(pending);
+  if (immediate) update();
+  else pending = setTimeout(update, 120);
+}
+
+function download(name, blob) {
+  const a = document.createElement("a");
+  a.href = URL.createObjectURL(blob);
+  a.download = name;
+  document.body.appendChild(a);
+  a.click();
+  a.remove();
+  setTimeout(() => URL.revokeObjectURL(a.href), 10000);
+}
+
+function loadText(text) {
+  $("data").value = text;
+  changed({ text: true, immediate: true });
+}
+
+function wire() {
+  $("data").addEventListener("input", () => changed({ text: true }));
+  for (const id of ["model", "fixed-k", "horizon", "share", "level", "time-col", "value-col", "accum-cumulative", "accum-per-period"]) {
+    $(id).addEventListener("change", () => changed({ immediate: true }));
+  }
+  $("file").addEventListener("change", async (ev) => {
+    const f = ev.target.files[0];
+    if (f) loadText(await f.text());
+    ev.target.value = "";
+  });
+  const area = $("data");
+  area.addEventListener("dragover", (ev) => { ev.preventDefault(); area.classList.add("dragging"); });
+  area.addEventListener("dragleave", () => area.classList.remove("dragging"));
+  area.addEventListener("drop", async (ev) => {
+    ev.preventDefault();
+    area.classList.remove("dragging");
+    const f = ev.dataTransfer.files[0];
+    if (f) loadText(await f.text());
+  });
+  $("load-demo").addEventListener("click", () => {
+    state = demoState();
+    writeControls();
+    save();
+    update();
+  });
+  $("erase").addEventListener("click", () => {
+    localStorage.removeItem(STORE_KEY);
+    state = demoState();
+    writeControls();
+    update();
+    $("store-status").textContent = "stored data erased";
+  });
+  for (const b of document.querySelectorAll("button[data-png]")) {
+    b.addEventListener("click", () => {
+      $("chart-" + b.dataset.png).toBlob((blob) => download(`plateau-${b.dataset.png}.png`, blob), "image/png");
+    });
+  }
+  for (const b of document.querySelectorAll("button[data-svg]")) {
+    b.addEventListener("click", () => {
+      const c = $("chart-" + b.dataset.svg);
+      const svg = bench.svg(b.dataset.svg, Math.max(640, c.clientWidth), Math.max(360, c.clientHeight));
+      download(`plateau-${b.dataset.svg}.svg`, new Blob([svg], { type: "image/svg+xml" }));
+    });
+  }
+  $("export-csv").addEventListener("click", () =>
+    download("plateau-table.csv", new Blob([bench.tableCsv()], { type: "text/csv" })));
+  $("export-json").addEventListener("click", () =>
+    download("plateau-report.json", new Blob([bench.reportJson()], { type: "application/json" })));
+  let resizeTimer = 0;
+  window.addEventListener("resize", () => {
+    clearTimeout(resizeTimer);
+    resizeTimer = setTimeout(() => view && drawCharts(), 150);
+  });
+}
+
+writeControls();
+wire();
+update();

@@ -48,7 +48,9 @@ fn run(cli: Cli) -> Result<(), Failure> {
             let settings = settings::fit(&args).map_err(Failure::Input)?;
             let (name, series) = read_series(&args.input.file, &settings.parse)?;
             let result = fit(&series, settings.model, &settings.fit)
-                .with_context(|| format!("{}: cannot fit the {} model", name, settings.model.name()))
+                .with_context(|| {
+                    format!("{}: cannot fit the {} model", name, settings.model.name())
+                })
                 .map_err(Failure::Fit)?;
             if let Some(path) = &args.svg {
                 // The chart's forecast runs a quarter of the data's span past the last point.
@@ -86,11 +88,21 @@ fn run(cli: Cli) -> Result<(), Failure> {
         Command::Compare(args) => {
             let settings = settings::compare(&args).map_err(Failure::Input)?;
             let (name, series) = read_series(&args.input.file, &settings.parse)?;
-            let entries = compare(&series.times, &series.values, &settings.models, &settings.fit);
+            let entries = compare(
+                &series.times,
+                &series.values,
+                &settings.models,
+                &settings.fit,
+            );
             if entries.iter().all(|e| e.result.is_err()) {
                 let reasons: Vec<String> = entries
                     .iter()
-                    .filter_map(|e| e.result.as_ref().err().map(|err| format!("{}: {}", e.model.name(), err)))
+                    .filter_map(|e| {
+                        e.result
+                            .as_ref()
+                            .err()
+                            .map(|err| format!("{}: {}", e.model.name(), err))
+                    })
                     .collect();
                 return Err(Failure::Fit(anyhow::anyhow!(
                     "{}: no model could be fitted\n  {}",
@@ -107,7 +119,12 @@ fn run(cli: Cli) -> Result<(), Failure> {
         }
         Command::Models => {
             for m in Model::ALL {
-                println!("{:<12} {:<44} parameters: {}", m.name(), m.formula(), m.param_names().join(", "));
+                println!(
+                    "{:<12} {:<44} parameters: {}",
+                    m.name(),
+                    m.formula(),
+                    m.param_names().join(", ")
+                );
             }
             Ok(())
         }
@@ -128,17 +145,23 @@ fn read_series(file: &str, opts: &plateau_core::ParseOptions) -> Result<(String,
             .with_context(|| format!("cannot read {file}"))
             .map_err(Failure::Input)?;
         let text = String::from_utf8(bytes)
-            .map_err(|e| anyhow::anyhow!("{file}: not UTF-8 text (first bad byte at offset {})", e.utf8_error().valid_up_to()))
+            .map_err(|e| {
+                anyhow::anyhow!(
+                    "{file}: not UTF-8 text (first bad byte at offset {})",
+                    e.utf8_error().valid_up_to()
+                )
+            })
             .map_err(Failure::Input)?;
         (file.to_string(), text)
     };
-    let series = parse_series(&text, opts)
-        .map_err(|e| Failure::Input(anyhow::anyhow!("{name}: {e}")))?;
+    let series =
+        parse_series(&text, opts).map_err(|e| Failure::Input(anyhow::anyhow!("{name}: {e}")))?;
     Ok((name, series))
 }
 
 fn print_json<T: serde::Serialize>(value: &T) {
     // Serialising plain data to a String cannot fail.
-    let s = serde_json::to_string_pretty(value).unwrap_or_else(|e| format!("{{\"error\":\"{e}\"}}"));
+    let s =
+        serde_json::to_string_pretty(value).unwrap_or_else(|e| format!("{{\"error\":\"{e}\"}}"));
     println!("{s}");
 }

@@ -55,7 +55,10 @@ pub fn compare(args: &CompareArgs) -> Result<CompareSettings> {
 fn model(name: &str) -> Result<Model> {
     Model::from_name(name).ok_or_else(|| {
         let names: Vec<&str> = Model::ALL.iter().map(|m| m.name()).collect();
-        anyhow!("unknown model {name:?}; expected one of {}", names.join(", "))
+        anyhow!(
+            "unknown model {name:?}; expected one of {}",
+            names.join(", ")
+        )
     })
 }
 
@@ -76,8 +79,16 @@ fn parse_options(input: &InputArgs) -> Result<ParseOptions> {
     Ok(ParseOptions {
         delimiter,
         header,
-        time_column: input.time.as_deref().map(|c| column("--time", c)).transpose()?,
-        value_column: input.value.as_deref().map(|c| column("--value", c)).transpose()?,
+        time_column: input
+            .time
+            .as_deref()
+            .map(|c| column("--time", c))
+            .transpose()?,
+        value_column: input
+            .value
+            .as_deref()
+            .map(|c| column("--value", c))
+            .transpose()?,
     })
 }
 
@@ -129,6 +140,9 @@ mod tests {
     fn columns_are_one_based() {
         assert_eq!(column("--time", "2").unwrap(), ColumnRef::Index(1));
         assert!(column("--time", "0").is_err());
-        assert_eq!(column("--time", "sales").unwrap(), ColumnRef::Name("sales".into()));
+        assert_eq!(
+            column("--time", "sales").unwrap(),
+            ColumnRef::Name("sales".into())
+        );
     }
 }

@@ -10,7 +10,11 @@ use std::fmt::Write;
 /// `x` to 6 significant digits, in scientific notation when very large or small.
 pub fn num(x: f64) -> String {
     if !x.is_finite() {
-        return if x.is_nan() { "-".into() } else { format!("{x}") };
+        return if x.is_nan() {
+            "-".into()
+        } else {
+            format!("{x}")
+        };
     }
     if x == 0.0 {
         return "0".into();
@@ -34,7 +38,7 @@ fn opt(x: Option<f64>) -> String {
 
 /// t0 as a date (or month, quarter) too, when the input had dates.
 fn time_note(kind: TimeKind, name: &str, t: f64) -> String {
-    if kind == TimeKind::Number || !(name == "t0") || !t.is_finite() {
+    if kind == TimeKind::Number || name != "t0" || !t.is_finite() {
         String::new()
     } else {
         format!("  ({})", kind.format(t))
@@ -52,7 +56,11 @@ pub fn fit(name: &str, series: &Series, f: &Fit) -> String {
     let _ = writeln!(
         s,
         "solver     {} after {} iterations ({})",
-        if f.converged { "converged" } else { "DID NOT CONVERGE" },
+        if f.converged {
+            "converged"
+        } else {
+            "DID NOT CONVERGE"
+        },
         f.iterations,
         f.termination.describe()
     );
@@ -157,7 +165,13 @@ pub fn compare(name: &str, series: &Series, entries: &[Entry]) -> String {
         }
         for f in flagged {
             for w in &f.warnings {
-                let _ = writeln!(s, "  * {}: {}: {}", f.model.name(), w.code.as_str(), w.message);
+                let _ = writeln!(
+                    s,
+                    "  * {}: {}: {}",
+                    f.model.name(),
+                    w.code.as_str(),
+                    w.message
+                );
             }
         }
     }

@@ -28,8 +28,10 @@ pub fn compare(t: &[f64], y: &[f64], models: &[Model], opts: &FitOptions) -> Vec
         .map(|&model| {
             // A fixed K only applies to models that have one.
             let mut o = opts.clone();
-            o.fixed.retain(|(name, _)| model.param_index(name).is_some());
-            o.start.retain(|(name, _)| model.param_index(name).is_some());
+            o.fixed
+                .retain(|(name, _)| model.param_index(name).is_some());
+            o.start
+                .retain(|(name, _)| model.param_index(name).is_some());
             Entry {
                 model,
                 result: fit_xy(t, y, model, &o),
@@ -38,8 +40,17 @@ pub fn compare(t: &[f64], y: &[f64], models: &[Model], opts: &FitOptions) -> Vec
             }
         })
         .collect();
-    let aicc = |e: &Entry| e.result.as_ref().ok().map(|f| f.aicc).filter(|a| a.is_finite());
-    let best = entries.iter().filter_map(aicc).fold(f64::INFINITY, f64::min);
+    let aicc = |e: &Entry| {
+        e.result
+            .as_ref()
+            .ok()
+            .map(|f| f.aicc)
+            .filter(|a| a.is_finite())
+    };
+    let best = entries
+        .iter()
+        .filter_map(aicc)
+        .fold(f64::INFINITY, f64::min);
     if best.is_finite() {
         let total: f64 = entries
             .iter()

@@ -462,20 +462,36 @@ fn starting_points(
         return Ok(vec![merge(&vec![0.0; np])]);
     }
     let k_fixed = model.param_index("K").and_then(|j| fixed[j]);
+    // The self-starts fail only without two usable values at different
+    // times (see `start`), so that is what the message says.
     let no_start = || {
+        let usable = if model == Model::Logistic4 && fixed[3].is_some() {
+            "values above the fixed L"
+        } else {
+            "positive values"
+        };
         error(
             FitErrorKind::NoStart,
             format!(
-                "cannot derive starting values for the {} model: it needs at least two positive values{}",
+                "cannot derive starting values for the {} model: it needs at least two {}{} at different times",
                 model.name(),
+                usable,
                 if k_fixed.is_some() { " below the fixed K" } else { "" }
             ),
         )
     };
     let mut starts = Vec::new();
     match model {
-        Model::Logistic => starts.push(start::logistic(t, y, k_fixed).ok_or_else(no_start)?.to_vec()),
-        Model::Gompertz => starts.push(start::gompertz(t, y, k_fixed).ok_or_else(no_start)?.to_vec()),
+        Model::Logistic => starts.push(
+            start::logistic(t, y, k_fixed)
+                .ok_or_else(no_start)?
+                .to_vec(),
+        ),
+        Model::Gompertz => starts.push(
+            start::gompertz(t, y, k_fixed)
+                .ok_or_else(no_start)?
+                .to_vec(),
+        ),
         Model::Exponential => starts.push(start::exponential(t, y).ok_or_else(no_start)?.to_vec()),
         Model::Logistic4 => {
             let l_fixed = fixed[3];
@@ -497,17 +513,35 @@ fn starting_points(
             // The logistic is Richards with ν = 1 and the Gompertz its ν → 0
             // limit: fit both and start from each.
             let sub = FitOptions {
-                fixed: opts.fixed.iter().filter(|(n, _)| n.trim() != "nu").cloned().collect(),
+                fixed: opts
+                    .fixed
+                    .iter()
+                    .filter(|(n, _)| n.trim() != "nu")
+                    .cloned()
+                    .collect(),
                 weights: opts.weights.clone(),
                 solver: opts.solver.clone(),
                 start: Vec::new(),
             };
             let nu_fixed = fixed[3];
+            let mut sub_error = None;
             for (m, nu) in [(Model::Logistic, 1.0), (Model::Gompertz, 0.1)] {
-                if let Ok(f) = fit_xy(t, y, m, &sub) {
-                    let v = f.values();
-                    starts.push(vec![v[0], v[1], v[2], nu_fixed.unwrap_or(nu)]);
+                match fit_xy(t, y, m, &sub) {
+                    Ok(f) => {
+                        let v = f.values();
+                        starts.push(vec![v[0], v[1], v[2], nu_fixed.unwrap_or(nu)]);
+                    }
+                    Err(e) => sub_error = sub_error.or(Some(e)),
                 }
+            }
+            if let (true, Some(e)) = (starts.is_empty(), sub_error) {
+                return Err(error(
+                    e.kind,
+                    format!(
+                        "cannot derive starting values for the richards model from its logistic and gompertz fits: {}",
+                        e.message
+                    ),
+                ));
             }
         }
     }

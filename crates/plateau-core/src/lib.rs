@@ -21,7 +21,7 @@ pub mod start;
 pub mod stats;
 pub mod warning;
 
-pub use warning::{Warning, WarningCode};
 pub use data::{parse_series, ParseOptions, Series};
 pub use fit::{fit, Fit, FitError, FitOptions};
 pub use model::Model;
+pub use warning::{Warning, WarningCode};

@@ -105,7 +105,11 @@ impl FitReport {
             condition_number: fit.condition_number,
             params: Params(params),
             fitted: fit.fitted.clone(),
-            warnings: extra_warnings.iter().chain(&fit.warnings).cloned().collect(),
+            warnings: extra_warnings
+                .iter()
+                .chain(&fit.warnings)
+                .cloned()
+                .collect(),
         }
     }
 }

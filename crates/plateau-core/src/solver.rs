@@ -285,7 +285,9 @@ impl Solver {
                 }
                 new_point = false;
             }
-            let l = lin.as_ref().expect("linearisation exists after a new point");
+            let l = lin
+                .as_ref()
+                .expect("linearisation exists after a new point");
             let cutoff = l.max_singular() * f64::EPSILON * (m.max(n) as f64);
             loop {
                 iterations += 1;
@@ -344,12 +346,10 @@ impl Solver {
         iterations += polished;
         // NoProgress right at the minimum (every step is below rounding) is
         // convergence; confirm it with the gradient test at a looser level.
-        if termination == Termination::NoProgress
-            && {
-                problem.jacobian(&x, &mut jac);
-                max_cosine(&jac, &res, rss) <= 1e-8
-            }
-        {
+        if termination == Termination::NoProgress && {
+            problem.jacobian(&x, &mut jac);
+            max_cosine(&jac, &res, rss) <= 1e-8
+        } {
             termination = Termination::SmallGradient;
         }
         Outcome {

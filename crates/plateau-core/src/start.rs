@@ -16,6 +16,12 @@
 //! `K − max(y)`, then refined by golden-section search. The exponential
 //! starts from `ln y = ln a + r t`. The Richards and floor-logistic starts
 //! come from these (see `fit`).
+//!
+//! The search only accepts lines that rise with the curve (`r > 0`). Data
+//! that are not an S-curve — a hump of per-period counts, a decline — can
+//! give a falling line for every trial K; a self-starting tool must still
+//! start, so [`shape_start`] then reads a rough start off the data's shape
+//! (the fit may be poor, and its warnings say so, but it runs).
 
 /// Straight-line weighted least squares `z ≈ a + b t`; returns
 /// `(a, b, weighted RSS)`, or `None` when the times do not vary.
@@ -79,10 +85,33 @@ impl Linearisation {
             Linearisation::LogLog => (-b, -a / b),
         }
     }
+
+    /// `y(t0) / K`: where the curve stands at t0 (logistic ½, Gompertz 1/e).
+    fn level_at_t0(self) -> f64 {
+        match self {
+            Linearisation::FisherPry => 0.5,
+            Linearisation::LogLog => (-1f64).exp(),
+        }
+    }
+
+    /// `r · Δt`, where Δt is the time the curve takes from 10 % to 90 % of K:
+    /// logistic `ln 81`, Gompertz `ln ln 10 − ln(−ln 0.9)`.
+    fn rise_width(self) -> f64 {
+        match self {
+            Linearisation::FisherPry => 81f64.ln(),
+            Linearisation::LogLog => 10f64.ln().ln() - (-(0.9f64.ln())).ln(),
+        }
+    }
 }
 
 /// Result of the line fit for one trial K: `(score, r, t0)`.
-fn line_for_k(lin: Linearisation, t: &[f64], y: &[f64], k: f64, buf: &mut Buffers) -> Option<(f64, f64, f64)> {
+fn line_for_k(
+    lin: Linearisation,
+    t: &[f64],
+    y: &[f64],
+    k: f64,
+    buf: &mut Buffers,
+) -> Option<(f64, f64, f64)> {
     buf.z.clear();
     buf.w.clear();
     for &yi in y {
@@ -92,7 +121,8 @@ fn line_for_k(lin: Linearisation, t: &[f64], y: &[f64], k: f64, buf: &mut Buffer
     }
     let (a, b, rss) = weighted_line(t, &buf.z, &buf.w)?;
     let (r, t0) = lin.params(a, b);
-    if !(r > 0.0) || !t0.is_finite() {
+    // Rejects r ≤ 0 and NaN r alike.
+    if r.partial_cmp(&0.0) != Some(std::cmp::Ordering::Greater) || !t0.is_finite() {
         return None;
     }
     Some((rss, r, t0))
@@ -106,7 +136,9 @@ struct Buffers {
 
 /// Searches K for the linearisation; returns `(K, r, t0)`.
 ///
-/// With `fixed_k`, only the line for that K is fitted.
+/// With `fixed_k`, only the line for that K is fitted. Falls back to
+/// [`shape_start`] when no rising line is found; `None` only when fewer
+/// than two positive values (below `fixed_k`) at different times remain.
 fn search_k(lin: Linearisation, t: &[f64], y: &[f64], fixed_k: Option<f64>) -> Option<[f64; 3]> {
     // Only 0 < y enter a logarithm; with a fixed K also y < K.
     let (tp, yp): (Vec<f64>, Vec<f64>) = t
@@ -120,8 +152,10 @@ fn search_k(lin: Linearisation, t: &[f64], y: &[f64], fixed_k: Option<f64>) -> O
     }
     let mut buf = Buffers::default();
     if let Some(k) = fixed_k {
-        let (_, r, t0) = line_for_k(lin, &tp, &yp, k, &mut buf)?;
-        return Some([k, r, t0]);
+        return match line_for_k(lin, &tp, &yp, k, &mut buf) {
+            Some((_, r, t0)) => Some([k, r, t0]),
+            None => shape_start(lin, &tp, &yp, k),
+        };
     }
     let ymax = yp.iter().cloned().fold(f64::MIN, f64::max);
     let ymin = yp.iter().cloned().fold(f64::MAX, f64::min);
@@ -133,12 +167,14 @@ fn search_k(lin: Linearisation, t: &[f64], y: &[f64], fixed_k: Option<f64>) -> O
     };
     let grid: Vec<f64> = (0..=18).map(|i| -6.0 + 0.5 * i as f64).collect();
     let scores: Vec<f64> = grid.iter().map(|&u| score(u)).collect();
-    let (best, best_score) = scores
-        .iter()
-        .enumerate()
-        .fold((0, f64::INFINITY), |acc, (i, s)| if *s < acc.1 { (i, *s) } else { acc });
+    let (best, best_score) =
+        scores.iter().enumerate().fold(
+            (0, f64::INFINITY),
+            |acc, (i, s)| if *s < acc.1 { (i, *s) } else { acc },
+        );
     if !best_score.is_finite() {
-        return None;
+        // No trial K gives a rising line: the data are not S-shaped.
+        return shape_start(lin, &tp, &yp, FALLBACK_K_ABOVE_MAX * ymax);
     }
     // Golden-section refinement between the neighbours of the best node.
     let mut lo = grid[best.saturating_sub(1)];
@@ -173,7 +209,47 @@ fn search_k(lin: Linearisation, t: &[f64], y: &[f64], fixed_k: Option<f64>) -> O
         grid[best]
     };
     let k = k_of(u);
-    let (_, r, t0) = line_for_k(lin, &tp, &yp, k, &mut buf)?;
+    match line_for_k(lin, &tp, &yp, k, &mut buf) {
+        Some((_, r, t0)) => Some([k, r, t0]),
+        None => shape_start(lin, &tp, &yp, FALLBACK_K_ABOVE_MAX * ymax),
+    }
+}
+
+/// Fallback K as a multiple of the largest value: a curve that saturates a
+/// little above the highest observation.
+const FALLBACK_K_ABOVE_MAX: f64 = 1.05;
+
+/// Rough `[K, r, t0]` read off the data's shape, for data the line search
+/// cannot handle; `tp`, `yp` are the positive points (below K), any order.
+///
+/// K is given; r makes the curve's 10–90 % rise last the whole time span;
+/// t0 is where the data, in time order, first reach the curve's level at
+/// t0 (`K/2` for the logistic, `K/e` for the Gompertz), interpolated
+/// linearly — the first time if they start above it, the last time if they
+/// never reach it. `None` only when the times do not vary.
+fn shape_start(lin: Linearisation, tp: &[f64], yp: &[f64], k: f64) -> Option<[f64; 3]> {
+    let mut order: Vec<usize> = (0..tp.len()).collect();
+    order.sort_by(|&a, &b| tp[a].total_cmp(&tp[b]));
+    let (&first, &last) = (order.first()?, order.last()?);
+    let span = tp[last] - tp[first];
+    if !(span.is_finite() && span > 0.0 && k.is_finite() && k > 0.0) {
+        return None;
+    }
+    let r = lin.rise_width() / span;
+    let level = lin.level_at_t0() * k;
+    let mut t0 = tp[last];
+    let mut prev: Option<usize> = None;
+    for &i in &order {
+        if yp[i] >= level {
+            t0 = match prev {
+                // yp[j] < level <= yp[i], so the fraction lies in (0, 1].
+                Some(j) => tp[j] + (tp[i] - tp[j]) * (level - yp[j]) / (yp[i] - yp[j]),
+                None => tp[i],
+            };
+            break;
+        }
+        prev = Some(i);
+    }
     Some([k, r, t0])
 }
 
@@ -188,6 +264,9 @@ fn linear_k(y: &[f64], g: impl Iterator<Item = f64>) -> Option<f64> {
 }
 
 /// Starting `[K, r, t0]` for the logistic (Fisher–Pry grid over K).
+///
+/// `None` only without two positive values (below `fixed_k`) at different
+/// times; data of any other shape get a start, if a rough one.
 pub fn logistic(t: &[f64], y: &[f64], fixed_k: Option<f64>) -> Option<[f64; 3]> {
     let [k, r, t0] = search_k(Linearisation::FisherPry, t, y, fixed_k)?;
     if fixed_k.is_some() {
@@ -198,6 +277,8 @@ pub fn logistic(t: &[f64], y: &[f64], fixed_k: Option<f64>) -> Option<[f64; 3]> 
 }
 
 /// Starting `[K, r, t0]` for the Gompertz curve (log–log grid over K).
+///
+/// `None` in the same cases as [`logistic`].
 pub fn gompertz(t: &[f64], y: &[f64], fixed_k: Option<f64>) -> Option<[f64; 3]> {
     let [k, r, t0] = search_k(Linearisation::LogLog, t, y, fixed_k)?;
     if fixed_k.is_some() {
@@ -235,7 +316,10 @@ mod tests {
     fn logistic_start_is_close_on_exact_data() {
         let (k, r, t0) = (500.0, 0.7, 12.0);
         let t: Vec<f64> = (0..30).map(|i| i as f64).collect();
-        let y: Vec<f64> = t.iter().map(|ti| k / (1.0 + (-r * (ti - t0)).exp())).collect();
+        let y: Vec<f64> = t
+            .iter()
+            .map(|ti| k / (1.0 + (-r * (ti - t0)).exp()))
+            .collect();
         let [ks, rs, t0s] = logistic(&t, &y, None).unwrap();
         assert!((ks / k - 1.0).abs() < 0.05, "K {ks}");
         assert!((rs / r - 1.0).abs() < 0.05, "r {rs}");
@@ -246,16 +330,137 @@ mod tests {
     fn gompertz_start_is_close_on_exact_data() {
         let (k, r, t0) = (80.0, 0.4, 10.0);
         let t: Vec<f64> = (0..30).map(|i| i as f64).collect();
-        let y: Vec<f64> = t.iter().map(|ti| k * (-(-r * (ti - t0)).exp()).exp()).collect();
+        let y: Vec<f64> = t
+            .iter()
+            .map(|ti| k * (-(-r * (ti - t0)).exp()).exp())
+            .collect();
         let [ks, rs, t0s] = gompertz(&t, &y, None).unwrap();
         assert!((ks / k - 1.0).abs() < 0.05, "K {ks}");
         assert!((rs / r - 1.0).abs() < 0.05, "r {rs}");
         assert!((t0s - t0).abs() < 0.5, "t0 {t0s}");
     }
 
+    /// The contract: `None` only without two positive values at different
+    /// times (module docs of `start`).
     #[test]
     fn no_start_without_two_positive_points() {
         assert!(logistic(&[1.0, 2.0, 3.0], &[0.0, -1.0, 5.0], None).is_none());
+        assert!(gompertz(&[1.0, 2.0, 3.0], &[0.0, -1.0, 5.0], None).is_none());
         assert!(exponential(&[1.0, 2.0], &[0.0, 0.0]).is_none());
+        // Two positive values, but at the same time: no line, no span.
+        assert!(logistic(&[4.0, 4.0], &[1.0, 2.0], None).is_none());
+    }
+
+    /// demo-data/weekly_signups.csv: 52 weekly counts (per period, not
+    /// cumulative), all positive, rising to a peak of 239 at week 23 and
+    /// falling again. Every Fisher–Pry and log–log line over the K grid has
+    /// a negative slope on these data (checked when the bug was found), so
+    /// the grid search alone gave no start.
+    const WEEKLY_SIGNUPS: [f64; 52] = [
+        31.0, 25.0, 45.0, 45.0, 49.0, 34.0, 54.0, 73.0, 73.0, 95.0, 84.0, 108.0, 121.0, 132.0,
+        130.0, 153.0, 172.0, 186.0, 177.0, 190.0, 215.0, 203.0, 239.0, 223.0, 222.0, 231.0, 231.0,
+        231.0, 196.0, 174.0, 166.0, 175.0, 159.0, 158.0, 133.0, 115.0, 112.0, 114.0, 71.0, 68.0,
+        64.0, 57.0, 59.0, 63.0, 37.0, 32.0, 26.0, 22.0, 26.0, 24.0, 18.0, 13.0,
+    ];
+
+    fn weeks() -> Vec<f64> {
+        (1..=52).map(f64::from).collect()
+    }
+
+    /// The shape fallback on a small hump, worked by hand from its
+    /// definition: K = 1.05 · 9 = 9.45; r = ln 81 / (4 − 0); the data first
+    /// reach K/2 = 4.725 between (1, 3) and (2, 9), at 1 + 1.725 / 6.
+    #[test]
+    fn shape_start_by_hand() {
+        let t = [0.0, 1.0, 2.0, 3.0, 4.0];
+        let y = [1.0, 3.0, 9.0, 5.0, 2.0];
+        let [k, r, t0] = shape_start(Linearisation::FisherPry, &t, &y, 1.05 * 9.0).unwrap();
+        assert!((k - 9.45).abs() < 1e-12, "K {k}");
+        assert!((r - 81f64.ln() / 4.0).abs() < 1e-12, "r {r}");
+        assert!((t0 - 1.2875).abs() < 1e-12, "t0 {t0}");
+        // Order of the points does not matter (rows may come unsorted).
+        let ts = [3.0, 0.0, 4.0, 2.0, 1.0];
+        let ys = [5.0, 1.0, 2.0, 9.0, 3.0];
+        let u = shape_start(Linearisation::FisherPry, &ts, &ys, 9.45).unwrap();
+        assert!((u[2] - 1.2875).abs() < 1e-12, "unsorted t0 {}", u[2]);
+    }
+
+    /// Hump-shaped data (weekly_signups) must get a start (the self-start
+    /// contract above); r > 0 and K > 0 are the models' parameter domains,
+    /// and t0 lies inside the data because the fallback takes it where the
+    /// data cross the curve's level at t0.
+    #[test]
+    fn hump_shaped_data_get_a_start() {
+        let t = weeks();
+        for (name, s) in [
+            ("logistic", logistic(&t, &WEEKLY_SIGNUPS, None)),
+            ("gompertz", gompertz(&t, &WEEKLY_SIGNUPS, None)),
+        ] {
+            let [k, r, t0] = s.unwrap_or_else(|| panic!("{name}: no start"));
+            assert!(k.is_finite() && k > 0.0, "{name} K {k}");
+            assert!(r.is_finite() && r > 0.0, "{name} r {r}");
+            assert!((1.0..=52.0).contains(&t0), "{name} t0 {t0}");
+        }
+    }
+
+    /// Strictly decreasing data (100 e^(−t/10), t = 0..20): no rising line
+    /// exists for any K, so the fallback decides r and t0. By its
+    /// definition r = ln 81 / 20 (time span 20) and, as the data start above
+    /// the K/2 level, t0 is the first time, 0.
+    #[test]
+    fn decreasing_data_get_a_start() {
+        let t: Vec<f64> = (0..=20).map(f64::from).collect();
+        let y: Vec<f64> = t.iter().map(|ti| 100.0 * (-ti / 10.0).exp()).collect();
+        let [k, r, t0] = logistic(&t, &y, None).expect("logistic start");
+        assert!(k.is_finite() && k > 0.0, "K {k}");
+        assert!((r - 81f64.ln() / 20.0).abs() < 1e-12, "r {r}");
+        assert_eq!(t0, 0.0);
+        let [k, r, _] = gompertz(&t, &y, None).expect("gompertz start");
+        assert!(k.is_finite() && k > 0.0 && r > 0.0, "K {k} r {r}");
+        // A fixed K above the data takes the same fallback.
+        let [k, r, t0] = logistic(&t, &y, Some(150.0)).expect("fixed-K start");
+        assert_eq!(k, 150.0);
+        assert!(r > 0.0 && t0 == 0.0, "r {r} t0 {t0}");
+    }
+
+    /// The bug report: `plateau compare demo-data/weekly_signups.csv` said
+    /// the logistic, Gompertz and Richards models could not start. With a
+    /// start, each fit must run to a result (a poor one is acceptable; the
+    /// data are per-period counts, not a growth curve).
+    #[test]
+    fn fits_on_weekly_signups_complete() {
+        use crate::fit::{fit_xy, FitOptions};
+        use crate::Model;
+        let t = weeks();
+        for model in [Model::Logistic, Model::Gompertz, Model::Richards] {
+            let f = fit_xy(&t, &WEEKLY_SIGNUPS, model, &FitOptions::default())
+                .unwrap_or_else(|e| panic!("{}: {}", model.name(), e.message));
+            assert!(
+                f.values().iter().all(|v| v.is_finite()),
+                "{}: {:?}",
+                model.name(),
+                f.values()
+            );
+        }
+    }
+
+    /// The message must name the real reason when there is no start.
+    #[test]
+    fn no_start_message_is_accurate() {
+        use crate::fit::{fit_xy, FitOptions};
+        use crate::Model;
+        let e = fit_xy(
+            &[1.0, 2.0, 3.0, 4.0],
+            &[0.0, -1.0, 5.0, 0.0],
+            Model::Logistic,
+            &FitOptions::default(),
+        )
+        .unwrap_err();
+        assert!(
+            e.message
+                .contains("at least two positive values at different times"),
+            "{}",
+            e.message
+        );
     }
 }

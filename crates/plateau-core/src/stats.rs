@@ -61,9 +61,15 @@ pub fn covariance(jac: &DMatrix<f64>, sigma2: f64) -> Covariance {
     let s = &svd.singular_values;
     let smax = s.iter().cloned().fold(0.0, f64::max);
     let smin = s.iter().cloned().fold(f64::INFINITY, f64::min);
-    let condition_number = if smin > 0.0 { smax / smin } else { f64::INFINITY };
+    let condition_number = if smin > 0.0 {
+        smax / smin
+    } else {
+        f64::INFINITY
+    };
     let rank_tol = smax * f64::EPSILON * (m.max(p) as f64);
-    let singular = !(smin > rank_tol) || !condition_number.is_finite();
+    // Singular unless smin > rank_tol; a NaN on either side counts as singular.
+    let singular = smin.partial_cmp(&rank_tol) != Some(std::cmp::Ordering::Greater)
+        || !condition_number.is_finite();
     let matrix = match (&svd.v_t, singular) {
         (Some(v_t), false) => {
             let mut cov = DMatrix::zeros(p, p);

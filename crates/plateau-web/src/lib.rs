@@ -98,8 +98,10 @@ impl Workbench {
     /// The same chart as an SVG document.
     pub fn svg(&self, chart: &str, width: u32, height: u32) -> Result<String, JsError> {
         let (analysis, kind) = self.target(chart)?;
-        with_input(analysis, |input| plateau_chart::render_svg(kind, input, width, height))
-            .map_err(|e| JsError::new(&e.to_string()))
+        with_input(analysis, |input| {
+            plateau_chart::render_svg(kind, input, width, height)
+        })
+        .map_err(|e| JsError::new(&e.to_string()))
     }
 
     /// The JSON report, the schema of `plateau fit --json`.

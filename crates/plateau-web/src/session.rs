@@ -266,7 +266,10 @@ pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError>
                 analysis::time_at_fraction(&fit, p / 100.0),
             );
         }
-        if settings.share > 0.0 && settings.share < 100.0 && ![10.0, 50.0, 90.0].contains(&settings.share) {
+        if settings.share > 0.0
+            && settings.share < 100.0
+            && ![10.0, 50.0, 90.0].contains(&settings.share)
+        {
             push(
                 format!("{}% of K", trim_number(settings.share)),
                 analysis::time_at_fraction(&fit, settings.share / 100.0),
@@ -291,8 +294,7 @@ pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError>
             aicc: e.result.as_ref().ok().map(|f| f.aicc),
             delta_aicc: e.delta_aicc,
             weight: e.akaike_weight,
-            k: e
-                .result
+            k: e.result
                 .as_ref()
                 .ok()
                 .and_then(|f| f.param("K").map(|p| p.estimate)),
@@ -326,7 +328,12 @@ pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError>
             bic: fit.bic,
             condition_number: fit.condition_number,
         },
-        warnings: series.warnings.iter().chain(&fit.warnings).cloned().collect(),
+        warnings: series
+            .warnings
+            .iter()
+            .chain(&fit.warnings)
+            .cloned()
+            .collect(),
         milestones,
         duration_10_90: analysis::duration_10_90(&fit).map(|m| m.time),
         symmetry,
@@ -346,14 +353,20 @@ pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError>
 
 fn range(t: &[f64]) -> (f64, f64) {
     t.iter()
-        .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), &v| (lo.min(v), hi.max(v)))
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), &v| {
+            (lo.min(v), hi.max(v))
+        })
 }
 
 /// The median spacing of the sorted distinct times: one "period".
 pub fn typical_step(t: &[f64]) -> f64 {
     let mut s = t.to_vec();
     s.sort_by(f64::total_cmp);
-    let mut d: Vec<f64> = s.windows(2).map(|w| w[1] - w[0]).filter(|d| *d > 0.0).collect();
+    let mut d: Vec<f64> = s
+        .windows(2)
+        .map(|w| w[1] - w[0])
+        .filter(|d| *d > 0.0)
+        .collect();
     if d.is_empty() {
         return 1.0;
     }

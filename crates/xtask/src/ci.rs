@@ -17,7 +17,9 @@ pub fn run_task(args: &[String]) -> Result<()> {
     let step = |name: &str| println!("\n== xtask ci: {name}");
 
     step("rustfmt");
-    run(tools::cargo().current_dir(&root).args(["fmt", "--all", "--", "--check"]))?;
+    run(tools::cargo()
+        .current_dir(&root)
+        .args(["fmt", "--all", "--", "--check"]))?;
 
     step("clippy");
     run(tools::cargo().current_dir(&root).args([
@@ -30,7 +32,9 @@ pub fn run_task(args: &[String]) -> Result<()> {
     ]))?;
 
     step("native tests");
-    run(tools::cargo().current_dir(&root).args(["test", "--workspace"]))?;
+    run(tools::cargo()
+        .current_dir(&root)
+        .args(["test", "--workspace"]))?;
 
     step("wasm32 build of the core and charts");
     tools::wasm_target()?;
@@ -51,7 +55,9 @@ pub fn run_task(args: &[String]) -> Result<()> {
     tools::chromium()?;
     tools::npm_packages(&root)?;
     let page = crate::dist::build(&root)?;
-    run(tools::cargo().current_dir(&root).args(["build", "-p", "plateau-cli"]))?;
+    run(tools::cargo()
+        .current_dir(&root)
+        .args(["build", "-p", "plateau-cli"]))?;
     run(Command::new("node")
         .current_dir(root.join("tests/browser"))
         .env("PLATEAU_PAGE", &page)

@@ -34,7 +34,11 @@ fn answer(mut stream: TcpStream, dist: &Path) -> Result<()> {
     BufReader::new(&stream).read_line(&mut request)?;
     let mut parts = request.split_whitespace();
     let (method, path) = (parts.next().unwrap_or(""), parts.next().unwrap_or("/"));
-    let name = path.split('?').next().unwrap_or("/").trim_start_matches('/');
+    let name = path
+        .split('?')
+        .next()
+        .unwrap_or("/")
+        .trim_start_matches('/');
     let name = if name.is_empty() { "index.html" } else { name };
     let file = (method == "GET" && !name.contains('/') && !name.contains(".."))
         .then(|| std::fs::read(dist.join(name)).ok())

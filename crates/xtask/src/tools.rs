@@ -12,7 +12,9 @@ use std::process::Command;
 /// Runs `cmd`, failing with its command line when it exits non-zero.
 pub fn run(cmd: &mut Command) -> Result<()> {
     let line = format!("{cmd:?}");
-    let status = cmd.status().with_context(|| format!("cannot start {line}"))?;
+    let status = cmd
+        .status()
+        .with_context(|| format!("cannot start {line}"))?;
     if !status.success() {
         bail!("{line} failed ({status})");
     }
@@ -34,7 +36,10 @@ fn output_of(cmd: &mut Command) -> Option<String> {
 pub fn wasm_target() -> Result<()> {
     let installed = output_of(Command::new("rustup").args(["target", "list", "--installed"]))
         .unwrap_or_default();
-    if installed.lines().any(|l| l.trim() == "wasm32-unknown-unknown") {
+    if installed
+        .lines()
+        .any(|l| l.trim() == "wasm32-unknown-unknown")
+    {
         return Ok(());
     }
     println!("xtask: installing the wasm32-unknown-unknown target");
@@ -47,7 +52,10 @@ pub fn locked_version(root: &Path, name: &str) -> Result<String> {
     let mut lines = lock.lines();
     while let Some(line) = lines.next() {
         if line.trim() == format!("name = \"{name}\"") {
-            if let Some(v) = lines.next().and_then(|l| l.trim().strip_prefix("version = ")) {
+            if let Some(v) = lines
+                .next()
+                .and_then(|l| l.trim().strip_prefix("version = "))
+            {
                 return Ok(v.trim_matches('"').to_string());
             }
         }

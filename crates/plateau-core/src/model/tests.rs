@@ -113,7 +113,11 @@ fn tails_are_finite() {
         let mut g = vec![0.0; p.len()];
         for t in [-1e6, -1e3, 1e3, 1e6] {
             let y = model.eval_grad(&p, t, &mut g);
-            assert!(y.is_finite() && g.iter().all(|v| v.is_finite()), "{} at {t}", model.name());
+            assert!(
+                y.is_finite() && g.iter().all(|v| v.is_finite()),
+                "{} at {t}",
+                model.name()
+            );
         }
     }
 }

@@ -117,7 +117,7 @@ fn check(name: &str, model: Model) {
     let d = load(name);
     assert_eq!(d.x.len(), d.y.len());
     assert!(d.rss.is_finite() && d.certified.len() == model.n_params());
-    let starts: [(&str, Option<Vec<(String, f64)>>); 3] = [
+    let starts = [
         ("NIST start 1", Some(from_b(model, &d.start1))),
         ("NIST start 2", Some(from_b(model, &d.start2))),
         ("self-start", None),
@@ -127,7 +127,8 @@ fn check(name: &str, model: Model) {
             start: start.unwrap_or_default(),
             ..FitOptions::default()
         };
-        let fit = fit_xy(&d.x, &d.y, model, &opts).unwrap_or_else(|e| panic!("{name} {label}: {e}"));
+        let fit =
+            fit_xy(&d.x, &d.y, model, &opts).unwrap_or_else(|e| panic!("{name} {label}: {e}"));
         assert!(fit.converged, "{name} {label}: {:?}", fit.termination);
         let (b, sd) = to_b(&fit);
         let rss_lre = lre(fit.rss, d.rss);
@@ -135,11 +136,21 @@ fn check(name: &str, model: Model) {
         for j in 0..b.len() {
             let p_lre = lre(b[j], d.certified[j]);
             let s_lre = lre(sd[j], d.certified_sd[j]);
-            eprintln!("{name} {label} b{}: LRE {p_lre:.1}, sd LRE {s_lre:.1}", j + 1);
+            eprintln!(
+                "{name} {label} b{}: LRE {p_lre:.1}, sd LRE {s_lre:.1}",
+                j + 1
+            );
             assert!(p_lre >= 9.0, "{name} {label} b{}: LRE {p_lre:.1}", j + 1);
-            assert!(s_lre >= 6.0, "{name} {label} sd(b{}): LRE {s_lre:.1}", j + 1);
+            assert!(
+                s_lre >= 6.0,
+                "{name} {label} sd(b{}): LRE {s_lre:.1}",
+                j + 1
+            );
         }
-        eprintln!("{name} {label}: RSS LRE {rss_lre:.1}, {} iterations", fit.iterations);
+        eprintln!(
+            "{name} {label}: RSS LRE {rss_lre:.1}, {} iterations",
+            fit.iterations
+        );
     }
 }
 

@@ -80,8 +80,20 @@ fn json_report_is_the_cli_schema() {
     let a = demo();
     let v: serde_json::Value = serde_json::from_str(&a.report_json()).unwrap();
     for key in [
-        "model", "n", "dof", "rss", "sigma", "r_squared", "aic", "aicc", "bic", "converged",
-        "iterations", "params", "fitted", "warnings",
+        "model",
+        "n",
+        "dof",
+        "rss",
+        "sigma",
+        "r_squared",
+        "aic",
+        "aicc",
+        "bic",
+        "converged",
+        "iterations",
+        "params",
+        "fitted",
+        "warnings",
     ] {
         assert!(v.get(key).is_some(), "missing {key}");
     }

@@ -1,0 +1,216 @@
+//! The `plateau` binary's contract, run as a user would: JSON shape, exit
+//! codes, messages on stderr naming the line, stdin, `--svg`, `--fix`.
+//! The numbers themselves are checked against outside references in the
+//! core's tests; here the point is that the CLI passes them through intact.
+
+use serde_json::Value;
+use std::io::Write;
+use std::path::PathBuf;
+use std::process::{Command, Output, Stdio};
+
+fn root() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("../..")
+}
+
+fn demo(name: &str) -> String {
+    root().join("demo-data").join(name).display().to_string()
+}
+
+fn plateau(args: &[&str], stdin: Option<&str>) -> Output {
+    let mut child = Command::new(env!("CARGO_BIN_EXE_plateau"))
+        .args(args)
+        .stdin(Stdio::piped())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .expect("start plateau");
+    if let Some(text) = stdin {
+        child
+            .stdin
+            .take()
+            .unwrap()
+            .write_all(text.as_bytes())
+            .unwrap();
+    }
+    drop(child.stdin.take());
+    child.wait_with_output().expect("plateau runs")
+}
+
+fn json(out: &Output) -> Value {
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    serde_json::from_slice(&out.stdout).expect("stdout is one JSON object")
+}
+
+#[test]
+fn fit_json_has_the_documented_shape() {
+    let v = json(&plateau(
+        &["fit", &demo("aldermoor_subscribers.csv"), "--json"],
+        None,
+    ));
+    let keys: Vec<&str> = v.as_object().unwrap().keys().map(String::as_str).collect();
+    for key in [
+        "model",
+        "n",
+        "dof",
+        "rss",
+        "sigma",
+        "r_squared",
+        "aic",
+        "aicc",
+        "bic",
+        "converged",
+        "iterations",
+        "params",
+        "fitted",
+        "warnings",
+    ] {
+        assert!(keys.contains(&key), "missing {key} in {keys:?}");
+    }
+    assert_eq!(v["model"], "logistic");
+    assert_eq!(v["n"], 30);
+    assert_eq!(v["dof"], 27);
+    let params: Vec<&str> = v["params"]
+        .as_object()
+        .unwrap()
+        .keys()
+        .map(String::as_str)
+        .collect();
+    assert_eq!(params, ["K", "r", "t0"], "the formula's order");
+    for p in ["K", "r", "t0"] {
+        let ci = v["params"][p]["ci95"].as_array().unwrap();
+        let est = v["params"][p]["estimate"].as_f64().unwrap();
+        assert!(ci[0].as_f64().unwrap() < est && est < ci[1].as_f64().unwrap());
+        assert!(v["params"][p]["std_error"].as_f64().unwrap() > 0.0);
+    }
+    assert_eq!(v["fitted"].as_array().unwrap().len(), 30);
+    assert!(v["warnings"].is_array());
+}
+
+#[test]
+fn stdin_gives_the_same_fit_as_the_file() {
+    let path = demo("harrow_fields_capacity.csv");
+    let text = std::fs::read_to_string(&path).unwrap();
+    let a = json(&plateau(
+        &["fit", &path, "--model", "gompertz", "--json"],
+        None,
+    ));
+    let b = json(&plateau(
+        &["fit", "-", "--model", "gompertz", "--json"],
+        Some(&text),
+    ));
+    assert_eq!(a["params"], b["params"]);
+}
+
+#[test]
+fn bad_input_exits_2_naming_the_line() {
+    let out = plateau(&["fit", "-"], Some("t,y\n1,2\n2,3\n3,abc\n4,5\n"));
+    assert_eq!(out.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(err.contains("line 4"), "{err}");
+    assert!(out.stdout.is_empty());
+}
+
+#[test]
+fn duplicate_times_exit_2_naming_both_lines() {
+    let out = plateau(&["fit", "-"], Some("t,y\n1,2\n2,3\n2,4\n3,5\n"));
+    assert_eq!(out.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(err.contains('3') && err.contains('4'), "{err}");
+}
+
+#[test]
+fn a_fit_that_cannot_be_made_exits_1_saying_why() {
+    let out = plateau(&["fit", "-"], Some("t,y\n1,5\n2,5\n3,5\n4,5\n5,5\n"));
+    assert_eq!(out.status.code(), Some(1));
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(err.contains("constant"), "{err}");
+
+    let out = plateau(
+        &["fit", "-", "--model", "richards"],
+        Some("t,y\n1,1\n2,3\n3,4\n"),
+    );
+    assert_eq!(out.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("at least"));
+}
+
+#[test]
+fn unknown_model_is_an_input_error() {
+    let out = plateau(
+        &["fit", &demo("aldermoor_subscribers.csv"), "--model", "bass"],
+        None,
+    );
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("logistic4"));
+}
+
+#[test]
+fn fixed_k_is_reported_as_fixed() {
+    let v = json(&plateau(
+        &[
+            "fit",
+            &demo("fenwick_vale_subscribers.csv"),
+            "--fix",
+            "K=8000",
+            "--json",
+        ],
+        None,
+    ));
+    assert_eq!(v["params"]["K"]["estimate"], 8000.0);
+    assert_eq!(v["params"]["K"]["fixed"], true);
+    assert!(v["params"]["K"]["std_error"].is_null());
+    assert_eq!(v["dof"], v["n"].as_u64().unwrap() - 2);
+}
+
+/// Akaike weights as defined by Burnham & Anderson (2002, §2.9): ranked by
+/// AICc, Δ = AICc − min, weights sum to one.
+#[test]
+fn compare_ranks_by_aicc_with_weights_summing_to_one() {
+    let v = json(&plateau(
+        &["compare", &demo("harrow_fields_capacity.csv"), "--json"],
+        None,
+    ));
+    let models = v["models"].as_array().unwrap();
+    assert_eq!(models.len(), 5);
+    let fitted: Vec<&Value> = models.iter().filter(|m| m["aicc"].is_number()).collect();
+    let aicc: Vec<f64> = fitted.iter().map(|m| m["aicc"].as_f64().unwrap()).collect();
+    assert!(aicc.windows(2).all(|w| w[0] <= w[1]), "{aicc:?}");
+    assert_eq!(fitted[0]["delta_aicc"], 0.0);
+    let sum: f64 = fitted
+        .iter()
+        .map(|m| m["akaike_weight"].as_f64().unwrap())
+        .sum();
+    assert!((sum - 1.0).abs() < 1e-12, "{sum}");
+    // The series was drawn from a Gompertz curve (demo-data/README.md).
+    assert_eq!(fitted[0]["model"], "gompertz");
+}
+
+#[test]
+fn svg_flag_writes_the_curve_chart() {
+    let dir = std::env::temp_dir().join(format!("plateau-cli-test-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let file = dir.join("fit.svg");
+    let out = plateau(
+        &[
+            "fit",
+            &demo("tariff_share_monthly.csv"),
+            "--model",
+            "logistic4",
+            "--svg",
+            file.to_str().unwrap(),
+        ],
+        None,
+    );
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let svg = std::fs::read_to_string(&file).unwrap();
+    assert!(svg.starts_with("<svg") || svg.contains("<svg "));
+    assert!(svg.trim_end().ends_with("</svg>"));
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -168,9 +168,11 @@ function showView(v) {
     return tr;
   }));
 
-  $("symmetry-note").textContent = v.symmetry
-    ? `RMS mismatch ${fmt(v.symmetry.rmsRatio)} × sigma. ${v.symmetry.meaning}`
-    : "not available for this model.";
+  $("symmetry-note").textContent = !v.symmetry
+    ? "not available for this model."
+    : v.symmetry.rmsRatio == null
+      ? "no summary yet: too few reflected points fall inside the observed time range."
+      : `RMS mismatch ${fmt(v.symmetry.rmsRatio)} × the noise level. ${v.symmetry.meaning}`;
 
   const cols = v.columns;
   $("columns").hidden = cols.length <= 2;

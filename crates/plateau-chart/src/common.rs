@@ -183,6 +183,24 @@ pub fn wrap(text: &str, width: usize) -> Vec<String> {
     lines
 }
 
+/// The legend box, in one style for every chart.
+pub fn legend<'a, DB: DrawingBackend + 'a>(
+    chart: &mut Chart<'a, '_, DB>,
+    position: SeriesLabelPosition,
+    scale: Scale,
+) -> Result<(), ChartError> {
+    chart
+        .configure_series_labels()
+        .position(position)
+        .margin(scale.px(10.0))
+        .legend_area_size(scale.px(28.0))
+        .label_font(scale.text(13.0))
+        .background_style(WHITE.mix(0.85))
+        .border_style(ShapeStyle::from(RGBColor(200, 200, 200)).stroke_width(scale.px(1.0)))
+        .draw()?;
+    Ok(())
+}
+
 /// Clears `area`, sets its title and builds the axes with the input's
 /// captions and label formatters.
 pub fn frame<'a, 'b, DB: DrawingBackend>(

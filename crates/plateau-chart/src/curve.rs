@@ -197,15 +197,7 @@ pub fn draw_curve<DB: DrawingBackend>(
         .label("observed")
         .legend(move |(x, y)| Circle::new((x + scale.pxi(10.0), y), r, INK.filled()));
 
-    chart
-        .configure_series_labels()
-        .position(SeriesLabelPosition::UpperLeft)
-        .margin(scale.px(10.0))
-        .legend_area_size(scale.px(28.0))
-        .label_font(scale.text(13.0))
-        .background_style(WHITE.mix(0.85))
-        .border_style(ShapeStyle::from(RGBColor(200, 200, 200)).stroke_width(scale.px(1.0)))
-        .draw()?;
+    common::legend(&mut chart, SeriesLabelPosition::UpperLeft, scale)?;
     Ok(())
 }
 

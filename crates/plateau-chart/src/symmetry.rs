@@ -130,14 +130,6 @@ pub fn draw_symmetry<DB: DrawingBackend>(
         dy += scale.pxi(size * 1.35);
     }
 
-    chart
-        .configure_series_labels()
-        .position(SeriesLabelPosition::LowerRight)
-        .margin(scale.px(10.0))
-        .legend_area_size(scale.px(28.0))
-        .label_font(scale.text(13.0))
-        .background_style(WHITE.mix(0.85))
-        .border_style(ShapeStyle::from(RGBColor(200, 200, 200)).stroke_width(scale.px(1.0)))
-        .draw()?;
+    common::legend(&mut chart, SeriesLabelPosition::LowerRight, scale)?;
     Ok(())
 }

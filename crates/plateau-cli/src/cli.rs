@@ -42,6 +42,9 @@ pub struct InputArgs {
     /// Whether the first line is a header: yes or no (default: detected).
     #[arg(long, value_name = "yes|no")]
     pub header: Option<String>,
+    /// The values are counts per period: sum them into running totals before fitting.
+    #[arg(long)]
+    pub per_period: bool,
 }
 
 #[derive(Args, Debug)]

@@ -46,7 +46,7 @@ fn run(cli: Cli) -> Result<(), Failure> {
     match cli.command {
         Command::Fit(args) => {
             let settings = settings::fit(&args).map_err(Failure::Input)?;
-            let (name, series) = read_series(&args.input.file, &settings.parse)?;
+            let (name, series) = read_series(&args.input, &settings.parse)?;
             let result = fit(&series, settings.model, &settings.fit)
                 .with_context(|| {
                     format!("{}: cannot fit the {} model", name, settings.model.name())
@@ -87,7 +87,7 @@ fn run(cli: Cli) -> Result<(), Failure> {
         }
         Command::Compare(args) => {
             let settings = settings::compare(&args).map_err(Failure::Input)?;
-            let (name, series) = read_series(&args.input.file, &settings.parse)?;
+            let (name, series) = read_series(&args.input, &settings.parse)?;
             let entries = compare(
                 &series.times,
                 &series.values,
@@ -131,8 +131,13 @@ fn run(cli: Cli) -> Result<(), Failure> {
     }
 }
 
-/// Reads `file` (`-` for standard input) and parses it; the name is used in messages.
-fn read_series(file: &str, opts: &plateau_core::ParseOptions) -> Result<(String, Series), Failure> {
+/// Reads the input file (`-` for standard input) and parses it, summing
+/// per-period counts when asked; the name is used in messages.
+fn read_series(
+    input: &cli::InputArgs,
+    opts: &plateau_core::ParseOptions,
+) -> Result<(String, Series), Failure> {
+    let file = input.file.as_str();
     let (name, text) = if file == "-" {
         let mut s = String::new();
         std::io::stdin()
@@ -154,8 +159,12 @@ fn read_series(file: &str, opts: &plateau_core::ParseOptions) -> Result<(String,
             .map_err(Failure::Input)?;
         (file.to_string(), text)
     };
-    let series =
+    let mut series =
         parse_series(&text, opts).map_err(|e| Failure::Input(anyhow::anyhow!("{name}: {e}")))?;
+    if input.per_period {
+        series.values = plateau_core::data::cumulate(&series.values);
+        series.value_name = format!("{} (cumulative)", series.value_name);
+    }
     Ok((name, series))
 }
 

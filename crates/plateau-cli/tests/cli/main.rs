@@ -214,3 +214,25 @@ fn svg_flag_writes_the_curve_chart() {
     assert!(svg.trim_end().ends_with("</svg>"));
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// Running totals of per-period counts, summed by hand here, give the same
+/// fit as `--per-period` on the counts.
+#[test]
+fn per_period_counts_are_summed_before_fitting() {
+    let counts =
+        "week,new\n1,5\n2,9\n3,16\n4,27\n5,41\n6,52\n7,55\n8,50\n9,39\n10,27\n11,17\n12,10\n";
+    let mut total = 0.0;
+    let mut cumulative = String::from("week,total\n");
+    for line in counts.lines().skip(1) {
+        let (w, c) = line.split_once(',').unwrap();
+        total += c.parse::<f64>().unwrap();
+        cumulative.push_str(&format!("{w},{total}\n"));
+    }
+    let a = json(&plateau(
+        &["fit", "-", "--per-period", "--json"],
+        Some(counts),
+    ));
+    let b = json(&plateau(&["fit", "-", "--json"], Some(&cumulative)));
+    assert_eq!(a["params"], b["params"]);
+    assert_eq!(a["fitted"], b["fitted"]);
+}

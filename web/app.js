@@ -105,7 +105,7 @@ function showView(v) {
   $("model-formula").textContent = v.formula;
   const warnings = v.warnings.map((w) => {
     const li = document.createElement("li");
-    if (["saturation_not_identified", "before_inflection", "not_converged", "singular_jacobian"].includes(w.code)) {
+    if (["saturation_not_identified", "before_inflection", "not_converged", "singular_jacobian", "values_decline"].includes(w.code)) {
       li.className = "serious";
     }
     li.append(w.message + " ");

@@ -164,6 +164,9 @@ fn read_series(
     if input.per_period {
         series.values = plateau_core::data::cumulate(&series.values);
         series.value_name = format!("{} (cumulative)", series.value_name);
+    } else if let Some(mut w) = plateau_core::data::decline_warning(&series) {
+        w.message.push_str(" (--per-period)");
+        series.warnings.push(w);
     }
     Ok((name, series))
 }

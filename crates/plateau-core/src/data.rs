@@ -176,6 +176,37 @@ pub fn cumulate(values: &[f64]) -> Vec<f64> {
         .collect()
 }
 
+/// A warning when values meant as running totals fall well below their
+/// peak, which running totals never do: the usual cause is a column of
+/// per-period counts (new sign-ups per week) pasted as if cumulative.
+///
+/// Fires when, in time order, at least three observations follow the
+/// maximum and the last of them is below 80% of it. Noise around a
+/// saturation level stays far above that, so a plateau does not trigger it.
+pub fn decline_warning(series: &Series) -> Option<Warning> {
+    let mut order: Vec<usize> = (0..series.times.len()).collect();
+    order.sort_by(|&a, &b| series.times[a].total_cmp(&series.times[b]));
+    let (peak_pos, &peak) = order
+        .iter()
+        .enumerate()
+        .max_by(|a, b| series.values[*a.1].total_cmp(&series.values[*b.1]))?;
+    let peak_value = series.values[peak];
+    let last = series.values[*order.last()?];
+    let after = order.len() - 1 - peak_pos;
+    if after < 3 || !(peak_value > 0.0) || last >= 0.8 * peak_value {
+        return None;
+    }
+    Some(Warning::new(
+        WarningCode::ValuesDecline,
+        format!(
+            "the values fall to {:.0}% of their peak (line {}) by the last row; running totals never fall. \
+             If these are counts per period, treat them as such so they are summed before fitting",
+            100.0 * last / peak_value,
+            series.lines.get(peak).copied().unwrap_or(0)
+        ),
+    ))
+}
+
 /// How many non-blank lines delimiter detection looks at.
 const SNIFF_LINES: usize = 10;
 

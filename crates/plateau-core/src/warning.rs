@@ -30,6 +30,8 @@ pub enum WarningCode {
     BeforeInflection,
     /// A parameter's value cannot be represented in double precision on this time axis.
     ParameterNotRepresentable,
+    /// Values meant as running totals fall well below their peak: probably per-period counts.
+    ValuesDecline,
 }
 
 impl WarningCode {
@@ -45,6 +47,7 @@ impl WarningCode {
             WarningCode::SaturationNotIdentified => "saturation_not_identified",
             WarningCode::BeforeInflection => "before_inflection",
             WarningCode::ParameterNotRepresentable => "parameter_not_representable",
+            WarningCode::ValuesDecline => "values_decline",
         }
     }
 }

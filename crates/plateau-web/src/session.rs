@@ -8,7 +8,7 @@
 
 use plateau_core::analysis;
 use plateau_core::compare::compare;
-use plateau_core::data::{cumulate, ColumnRef, DataError, TimeKind};
+use plateau_core::data::{cumulate, decline_warning, ColumnRef, DataError, TimeKind};
 use plateau_core::fit::{fit_xy, Fit, FitOptions};
 use plateau_core::report::{FitReport, CAUTION};
 use plateau_core::{parse_series, Model, ParseOptions, Series, Warning};
@@ -200,10 +200,14 @@ pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError>
         value_column: settings.value_column.map(ColumnRef::Index),
         ..ParseOptions::default()
     };
-    let series = parse_series(text, &opts)?;
+    let mut series = parse_series(text, &opts)?;
     let values = if settings.per_period {
         cumulate(&series.values)
     } else {
+        if let Some(mut w) = decline_warning(&series) {
+            w.message.push_str(" (\"counts per period\" under Series)");
+            series.warnings.push(w);
+        }
         series.values.clone()
     };
     let mut fit_opts = FitOptions::default();

@@ -674,3 +674,23 @@ proptest! {
         prop_assert_eq!(TimeKind::Quarter.format(s.times[0]), q);
     }
 }
+
+/// Running totals never fall (definition); per-period counts of an S-curve
+/// rise then fall, so the warning must fire for them and not for totals.
+#[test]
+fn decline_warning_tells_counts_from_totals() {
+    let counts = "week,new\n1,5\n2,12\n3,30\n4,52\n5,40\n6,22\n7,11\n8,5\n";
+    let s = parse_series(counts, &ParseOptions::default()).unwrap();
+    let w = decline_warning(&s).expect("counts fall after their peak");
+    assert_eq!(w.code, WarningCode::ValuesDecline);
+    assert!(w.message.contains("line 5"), "{}", w.message);
+
+    let mut totals = s.clone();
+    totals.values = cumulate(&s.values);
+    assert!(decline_warning(&totals).is_none());
+
+    // A noisy plateau stays near its peak: no warning.
+    let plateau = "t,y\n1,10\n2,50\n3,90\n4,100\n5,97\n6,99\n7,96\n8,98\n";
+    let s = parse_series(plateau, &ParseOptions::default()).unwrap();
+    assert!(decline_warning(&s).is_none());
+}

@@ -4,6 +4,7 @@
 
 use super::*;
 use plateau_core::fit::FitOptions;
+use plateau_core::WarningCode;
 
 fn demo() -> Analysis {
     analyse(DEMO_TEXT, &Settings::default()).expect("the demo fits")
@@ -42,6 +43,19 @@ fn per_period_counts_are_accumulated_before_fitting() {
     let raw = parse_series(counts, &ParseOptions::default()).unwrap();
     let total: f64 = raw.values.iter().sum();
     assert_eq!(a.values.last().copied(), Some(total));
+    assert!(!a
+        .view
+        .warnings
+        .iter()
+        .any(|w| w.code == WarningCode::ValuesDecline));
+
+    // The same counts taken as running totals: the page says they look like counts.
+    let a = analyse(counts, &Settings::default()).unwrap();
+    assert!(a
+        .view
+        .warnings
+        .iter()
+        .any(|w| w.code == WarningCode::ValuesDecline));
 }
 
 #[test]

@@ -7,7 +7,7 @@
 //! not converge is still a `Fit`, with `converged == false`, its
 //! [`Termination`] reason and a `not_converged` warning.
 
-use crate::model::{Domain, Model};
+use crate::model::{Curve, Domain, Model, MAX_PARAMS};
 use crate::solver::{LeastSquares, Solver, Termination};
 use crate::stats;
 use crate::warning::{Warning, WarningCode};
@@ -154,6 +154,17 @@ impl CurveProblem<'_> {
         }
         p
     }
+
+    /// The model with the full parameter vector for `x` bound.
+    fn curve(&self, x: &[f64]) -> Curve {
+        let np = self.base.len();
+        let mut p = [0.0; MAX_PARAMS];
+        p[..np].copy_from_slice(&self.base);
+        for (xi, &j) in x.iter().zip(&self.free) {
+            p[j] = *xi;
+        }
+        Curve::new(self.model, &p[..np])
+    }
 }
 
 impl LeastSquares for CurveProblem<'_> {
@@ -170,10 +181,10 @@ impl LeastSquares for CurveProblem<'_> {
             .all(|(v, &j)| v.is_finite() && (doms[j] == Domain::Real || *v > 0.0))
     }
     fn residuals(&self, x: &[f64], res: &mut [f64]) -> bool {
-        let p = self.full(x);
+        let c = self.curve(x);
         let mut ok = true;
         for (i, r) in res.iter_mut().enumerate() {
-            let mut e = self.y[i] - self.model.eval(&p, self.t[i]);
+            let mut e = self.y[i] - c.value(self.t[i]);
             if let Some(w) = &self.sqrt_w {
                 e *= w[i];
             }
@@ -183,15 +194,39 @@ impl LeastSquares for CurveProblem<'_> {
         ok
     }
     fn jacobian(&self, x: &[f64], jac: &mut DMatrix<f64>) {
-        let p = self.full(x);
-        let mut grad = vec![0.0; p.len()];
-        for i in 0..self.t.len() {
-            self.model.eval_grad(&p, self.t[i], &mut grad);
+        let c = self.curve(x);
+        let m = self.t.len();
+        let cols = jac.as_mut_slice();
+        let mut grad = [0.0; MAX_PARAMS];
+        for i in 0..m {
+            c.value_grad(self.t[i], &mut grad);
             let w = self.sqrt_w.as_ref().map_or(1.0, |w| w[i]);
-            for (c, &j) in self.free.iter().enumerate() {
-                jac[(i, c)] = w * grad[j];
+            for (k, &j) in self.free.iter().enumerate() {
+                cols[k * m + i] = w * grad[j];
             }
         }
+    }
+    /// One pass: the value and the gradient share their exponentials.
+    fn residuals_and_jacobian(&self, x: &[f64], res: &mut [f64], jac: &mut DMatrix<f64>) -> bool {
+        let c = self.curve(x);
+        let m = self.t.len();
+        let cols = jac.as_mut_slice();
+        let mut grad = [0.0; MAX_PARAMS];
+        let mut ok = true;
+        for i in 0..m {
+            let f = c.value_grad(self.t[i], &mut grad);
+            let w = self.sqrt_w.as_ref().map_or(1.0, |w| w[i]);
+            let mut e = self.y[i] - f;
+            if self.sqrt_w.is_some() {
+                e *= w;
+            }
+            ok &= e.is_finite();
+            res[i] = e;
+            for (k, &j) in self.free.iter().enumerate() {
+                cols[k * m + i] = w * grad[j];
+            }
+        }
+        ok
     }
 }
 
@@ -202,6 +237,26 @@ pub fn fit(series: &Series, model: Model, opts: &FitOptions) -> Result<Fit, FitE
 
 /// Fits `model` to the points `(t[i], y[i])`.
 pub fn fit_xy(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<Fit, FitError> {
+    let solved = solve(t, y, model, opts)?;
+    Ok(statistics(t, y, model, solved))
+}
+
+/// A solved fit before its statistics: the best outcome over the starts.
+struct Solved {
+    outcome: crate::solver::Outcome,
+    /// Full parameter vector at the estimate (on the shifted axis).
+    p: Vec<f64>,
+    /// Model Jacobian over the free parameters at the estimate.
+    jac: DMatrix<f64>,
+    fixed: Vec<Option<f64>>,
+    free: Vec<usize>,
+    /// The exponential's time origin (0 for the other models).
+    t_ref: f64,
+}
+
+/// Validates the inputs, self-starts and minimises from every start;
+/// keeps the best outcome.
+fn solve(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<Solved, FitError> {
     let names = model.param_names();
     let np = names.len();
     let mut fixed = vec![None; np];
@@ -277,7 +332,8 @@ pub fn fit_xy(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<F
     let starts = starting_points(model, tt, y, &fixed, &user_start, opts)?;
     let solver = opts.solver.clone().unwrap_or_default();
     let free: Vec<usize> = (0..np).filter(|j| fixed[*j].is_none()).collect();
-    let mut best: Option<(crate::solver::Outcome, Vec<f64>)> = None;
+    let mut best: Option<(crate::solver::Outcome, Vec<f64>, DMatrix<f64>)> = None;
+    let mut jac = DMatrix::zeros(n, free.len());
     for p0 in starts {
         let problem = CurveProblem {
             model,
@@ -288,10 +344,10 @@ pub fn fit_xy(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<F
             free: free.clone(),
         };
         let x0: Vec<f64> = free.iter().map(|&j| p0[j]).collect();
-        let out = solver.minimize(&problem, &x0);
+        let out = solver.minimize_with_jacobian(&problem, &x0, &mut jac);
         let better = match &best {
             None => true,
-            Some((b, _)) => {
+            Some((b, _, _)) => {
                 out.rss.is_finite()
                     && (!b.rss.is_finite()
                         || (out.converged() && !b.converged())
@@ -300,10 +356,15 @@ pub fn fit_xy(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<F
         };
         if better {
             let full = problem.full(&out.x);
-            best = Some((out, full));
+            // Keep the winner's Jacobian; the next start gets the old buffer.
+            let spare = match best.take() {
+                Some((_, _, j)) => j,
+                None => DMatrix::zeros(n, free.len()),
+            };
+            best = Some((out, full, std::mem::replace(&mut jac, spare)));
         }
     }
-    let Some((outcome, mut p)) = best else {
+    let Some((outcome, p, jac)) = best else {
         return Err(error(FitErrorKind::NoStart, "no starting values"));
     };
     if outcome.termination == Termination::InvalidStart || !outcome.rss.is_finite() {
@@ -316,18 +377,31 @@ pub fn fit_xy(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<F
             ),
         ));
     }
+    Ok(Solved {
+        outcome,
+        p,
+        jac,
+        fixed,
+        free,
+        t_ref,
+    })
+}
 
-    // Statistics on the (possibly shifted) axis.
-    let problem = CurveProblem {
-        model,
-        t: tt,
-        y,
-        sqrt_w: sqrt_w.clone(),
-        base: p.clone(),
-        free: free.clone(),
-    };
-    let mut jac = DMatrix::zeros(n, free.len());
-    problem.jacobian(&outcome.x, &mut jac);
+/// Standard errors, intervals, criteria, fitted values and warnings.
+fn statistics(t: &[f64], y: &[f64], model: Model, solved: Solved) -> Fit {
+    let Solved {
+        outcome,
+        mut p,
+        jac,
+        fixed,
+        free,
+        t_ref,
+    } = solved;
+    let names = model.param_names();
+    let np = names.len();
+    let n = t.len();
+    // Statistics on the (possibly shifted) axis, from the solver's
+    // Jacobian at the estimate.
     let dof = n - free.len();
     let rss = outcome.rss;
     let sigma2 = rss / dof as f64;
@@ -408,7 +482,7 @@ pub fn fit_xy(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<F
         warnings,
     };
     diagnose(&mut fit, t, y);
-    Ok(fit)
+    fit
 }
 
 fn param_index(model: Model, name: &str) -> Result<usize, FitError> {

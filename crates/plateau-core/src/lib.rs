@@ -14,6 +14,7 @@ pub mod analysis;
 pub mod compare;
 pub mod data;
 pub mod fit;
+mod linalg;
 pub mod model;
 pub mod report;
 pub mod solver;

@@ -119,29 +119,79 @@ impl Model {
 
     /// `y(t)` for parameters `p`.
     pub fn eval(self, p: &[f64], t: f64) -> f64 {
-        match self {
+        Curve::new(self, p).value(t)
+    }
+
+    /// `y(t)` and its gradient with respect to `p`, written into `grad`
+    /// (length [`Model::n_params`]).
+    pub fn eval_grad(self, p: &[f64], t: f64, grad: &mut [f64]) -> f64 {
+        let mut g = [0.0; MAX_PARAMS];
+        let y = Curve::new(self, p).value_grad(t, &mut g);
+        let n = self.n_params();
+        grad[..n].copy_from_slice(&g[..n]);
+        y
+    }
+}
+
+/// The most parameters any model has.
+pub(crate) const MAX_PARAMS: usize = 4;
+
+/// A model with its parameters bound, for evaluating many times: whatever
+/// depends on the parameters alone (ln ν for the Richards curve) is
+/// computed once, and value and gradient share their exponentials.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct Curve {
+    model: Model,
+    p: [f64; MAX_PARAMS],
+    /// ln ν (Richards only).
+    ln_nu: f64,
+}
+
+impl Curve {
+    pub(crate) fn new(model: Model, p: &[f64]) -> Curve {
+        let n = model.n_params();
+        let mut q = [0.0; MAX_PARAMS];
+        q[..n].copy_from_slice(&p[..n]);
+        let ln_nu = if model == Model::Richards {
+            q[3].ln()
+        } else {
+            0.0
+        };
+        Curve {
+            model,
+            p: q,
+            ln_nu,
+        }
+    }
+
+    /// `y(t)`.
+    #[inline]
+    pub(crate) fn value(&self, t: f64) -> f64 {
+        let p = &self.p;
+        match self.model {
             Model::Logistic => p[0] * sigmoid(p[1] * (t - p[2])),
             Model::Logistic4 => p[3] + (p[0] - p[3]) * sigmoid(p[1] * (t - p[2])),
             Model::Gompertz => p[0] * (-(-p[1] * (t - p[2])).exp()).exp(),
             Model::Richards => {
-                let (ln_b, _) = richards_terms(p[1], p[2], p[3], t);
+                let (ln_b, _) = richards_terms(self.ln_nu - p[1] * (t - p[2]));
                 p[0] * (-ln_b / p[3]).exp()
             }
             Model::Exponential => p[0] * (p[1] * t).exp(),
         }
     }
 
-    /// `y(t)` and its gradient with respect to `p`, written into `grad`
-    /// (length [`Model::n_params`]).
-    pub fn eval_grad(self, p: &[f64], t: f64, grad: &mut [f64]) -> f64 {
-        match self {
+    /// `y(t)` (the same number as [`Curve::value`]) and its gradient.
+    #[inline]
+    pub(crate) fn value_grad(&self, t: f64, grad: &mut [f64; MAX_PARAMS]) -> f64 {
+        let p = &self.p;
+        match self.model {
             Model::Logistic => {
                 let (k, r, t0) = (p[0], p[1], p[2]);
                 let d = t - t0;
-                let s = sigmoid(r * d);
-                // s (1 − s) computed from the complementary sigmoid keeps
-                // precision in the upper tail where 1 − s cancels.
-                let ds = s * sigmoid(-r * d);
+                // s (1 − s) from the complementary sigmoid keeps precision
+                // in the upper tail where 1 − s cancels.
+                let (s, sc) = sigmoid_pair(r * d);
+                let ds = s * sc;
                 grad[0] = s;
                 grad[1] = k * ds * d;
                 grad[2] = -k * ds * r;
@@ -150,8 +200,7 @@ impl Model {
             Model::Logistic4 => {
                 let (k, r, t0, l) = (p[0], p[1], p[2], p[3]);
                 let d = t - t0;
-                let s = sigmoid(r * d);
-                let sc = sigmoid(-r * d);
+                let (s, sc) = sigmoid_pair(r * d);
                 let ds = s * sc;
                 grad[0] = s;
                 grad[1] = (k - l) * ds * d;
@@ -174,12 +223,12 @@ impl Model {
             Model::Richards => {
                 let (k, r, t0, nu) = (p[0], p[1], p[2], p[3]);
                 let d = t - t0;
-                let (ln_b, w) = richards_terms(r, t0, nu, t);
+                let (ln_b, w) = richards_terms(self.ln_nu - r * d);
                 let y = k * (-ln_b / nu).exp();
                 grad[0] = y / k;
                 grad[1] = y * (w / nu) * d;
                 grad[2] = -y * (w / nu) * r;
-                grad[3] = y * (ln_b - w) / (nu * nu);
+                grad[3] = y * richards_nu_term(ln_b, w) / (nu * nu);
                 y
             }
             Model::Exponential => {
@@ -214,12 +263,50 @@ pub fn softplus(x: f64) -> f64 {
     }
 }
 
-/// For the Richards curve, with `B = 1 + ν e^(−r (t − t0))`: returns
-/// `(ln B, ν e^(−r (t − t0)) / B)`, both computed from
-/// `x = ln ν − r (t − t0)` so that neither overflows.
-fn richards_terms(r: f64, t0: f64, nu: f64, t: f64) -> (f64, f64) {
-    let x = nu.ln() - r * (t - t0);
-    (softplus(x), sigmoid(x))
+/// `(sigmoid(x), sigmoid(−x))` from one exponential; each is the same
+/// number [`sigmoid`] gives.
+#[inline]
+fn sigmoid_pair(x: f64) -> (f64, f64) {
+    let e = (-x.abs()).exp();
+    let den = 1.0 + e;
+    if x >= 0.0 {
+        (1.0 / den, e / den)
+    } else {
+        (e / den, 1.0 / den)
+    }
+}
+
+/// For the Richards curve, with `B = 1 + ν e^(−r (t − t0))` and
+/// `x = ln ν − r (t − t0)`: returns `(ln B, ν e^(−r (t − t0)) / B)`, that is
+/// `(softplus(x), sigmoid(x))`, from the one exponential `e^(−|x|) ≤ 1`
+/// so that nothing overflows: `ln(1 + e^x) = max(x, 0) + ln(1 + e^(−|x|))`.
+#[inline]
+fn richards_terms(x: f64) -> (f64, f64) {
+    let e = (-x.abs()).exp();
+    let den = 1.0 + e;
+    if x >= 0.0 {
+        (x + e.ln_1p(), 1.0 / den)
+    } else {
+        (e.ln_1p(), e / den)
+    }
+}
+
+/// `ln B − ν e^(−r (t − t0)) / B` for the Richards ν-derivative, from
+/// `(ln B, w)` of [`richards_terms`]. As `w → 0` both terms tend to `w` and
+/// their difference `−ln(1 − w) − w = Σ_{k≥2} wᵏ/k` would cancel (to
+/// nothing at all when ν is tiny), so small `w` take the series.
+#[inline]
+fn richards_nu_term(ln_b: f64, w: f64) -> f64 {
+    if w < 0.0625 {
+        // Terms to w¹⁵/15; the next is below 1e-17 of the sum for w < 1/16.
+        let mut acc = 1.0 / 15.0;
+        for k in (2..15).rev() {
+            acc = 1.0 / k as f64 + w * acc;
+        }
+        w * w * acc
+    } else {
+        ln_b - w
+    }
 }
 
 #[cfg(test)]

@@ -151,8 +151,11 @@ fn search_k(lin: Linearisation, t: &[f64], y: &[f64], fixed_k: Option<f64>) -> O
         return None;
     }
     let mut buf = Buffers::default();
+    // The line fits (one logarithm per point and trial K) see at most
+    // `SEARCH_POINTS` of the points; the fallback sees them all.
+    let (ts, ys) = subsample(&tp, &yp);
     if let Some(k) = fixed_k {
-        return match line_for_k(lin, &tp, &yp, k, &mut buf) {
+        return match line_for_k(lin, &ts, &ys, k, &mut buf) {
             Some((_, r, t0)) => Some([k, r, t0]),
             None => shape_start(lin, &tp, &yp, k),
         };
@@ -163,7 +166,7 @@ fn search_k(lin: Linearisation, t: &[f64], y: &[f64], fixed_k: Option<f64>) -> O
     // K = ymax + span · 10^u, u on a grid from −6 to 3.
     let k_of = |u: f64| ymax + span * 10f64.powf(u);
     let mut score = |u: f64| -> f64 {
-        line_for_k(lin, &tp, &yp, k_of(u), &mut buf).map_or(f64::INFINITY, |s| s.0)
+        line_for_k(lin, &ts, &ys, k_of(u), &mut buf).map_or(f64::INFINITY, |s| s.0)
     };
     let grid: Vec<f64> = (0..=18).map(|i| -6.0 + 0.5 * i as f64).collect();
     let scores: Vec<f64> = grid.iter().map(|&u| score(u)).collect();
@@ -209,10 +212,33 @@ fn search_k(lin: Linearisation, t: &[f64], y: &[f64], fixed_k: Option<f64>) -> O
         grid[best]
     };
     let k = k_of(u);
-    match line_for_k(lin, &tp, &yp, k, &mut buf) {
+    match line_for_k(lin, &ts, &ys, k, &mut buf) {
         Some((_, r, t0)) => Some([k, r, t0]),
         None => shape_start(lin, &tp, &yp, FALLBACK_K_ABOVE_MAX * ymax),
     }
+}
+
+/// The most points the K search fits its lines to. A start only has to
+/// land in the basin of the least-squares minimum, which the solver then
+/// finds to full precision from the full data; evenly spread points
+/// describe the curve's shape as well as all of them, at a fixed cost.
+const SEARCH_POINTS: usize = 32;
+
+/// At most [`SEARCH_POINTS`] of the points, evenly spread over the input
+/// order and including the first and the last; all of them when there are
+/// no more than that.
+fn subsample(t: &[f64], y: &[f64]) -> (Vec<f64>, Vec<f64>) {
+    let n = t.len();
+    if n <= SEARCH_POINTS {
+        return (t.to_vec(), y.to_vec());
+    }
+    let m = SEARCH_POINTS;
+    (0..m)
+        .map(|i| {
+            let j = (i * (n - 1) + (m - 1) / 2) / (m - 1);
+            (t[j], y[j])
+        })
+        .unzip()
 }
 
 /// Fallback K as a multiple of the largest value: a curve that saturates a
@@ -272,8 +298,9 @@ pub fn logistic(t: &[f64], y: &[f64], fixed_k: Option<f64>) -> Option<[f64; 3]> 
     if fixed_k.is_some() {
         return Some([k, r, t0]);
     }
-    let shape = t.iter().map(|ti| crate::model::sigmoid(r * (ti - t0)));
-    Some([linear_k(y, shape).unwrap_or(k), r, t0])
+    let (ts, ys) = subsample(t, y);
+    let shape = ts.iter().map(|ti| crate::model::sigmoid(r * (ti - t0)));
+    Some([linear_k(&ys, shape).unwrap_or(k), r, t0])
 }
 
 /// Starting `[K, r, t0]` for the Gompertz curve (log–log grid over K).
@@ -284,8 +311,9 @@ pub fn gompertz(t: &[f64], y: &[f64], fixed_k: Option<f64>) -> Option<[f64; 3]> 
     if fixed_k.is_some() {
         return Some([k, r, t0]);
     }
-    let shape = t.iter().map(|ti| (-(-r * (ti - t0)).exp()).exp());
-    Some([linear_k(y, shape).unwrap_or(k), r, t0])
+    let (ts, ys) = subsample(t, y);
+    let shape = ts.iter().map(|ti| (-(-r * (ti - t0)).exp()).exp());
+    Some([linear_k(&ys, shape).unwrap_or(k), r, t0])
 }
 
 /// Starting `[a, r]` for `y = a e^(r t)` on the time axis `t − t_ref`

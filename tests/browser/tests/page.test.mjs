@@ -179,3 +179,27 @@ test("exports download and parse: CSV one row per time, JSON in the CLI's schema
   }
   await context.close();
 });
+
+test("charts are drawn at the device pixel ratio and are not blank", async () => {
+  const context = await browser.newContext({ viewport: { width: 1280, height: 900 }, deviceScaleFactor: 2 });
+  const page = await context.newPage();
+  await page.goto(server.url);
+  await waitReady(page, 1);
+  const charts = await page.$$eval("canvas.chart", (canvases) => canvases.map((c) => {
+    const ctx = c.getContext("2d");
+    const data = ctx.getImageData(0, 0, c.width, c.height).data;
+    let inked = 0;
+    for (let i = 0; i < data.length; i += 4) {
+      if (data[i] < 200 || data[i + 1] < 200 || data[i + 2] < 200) inked++;
+    }
+    return { id: c.id, width: c.width, css: c.clientWidth, height: c.height, cssH: c.clientHeight, inked: inked / (c.width * c.height) };
+  }));
+  assert.equal(charts.length, 3);
+  for (const c of charts) {
+    assert.equal(c.width, Math.round(c.css * 2), `${c.id} width`);
+    assert.equal(c.height, Math.round(c.cssH * 2), `${c.id} height`);
+    assert.ok(c.inked > 0.005 && c.inked < 0.5, `${c.id}: ${(100 * c.inked).toFixed(2)}% of pixels drawn`);
+  }
+  await page.locator("#chart-curve").screenshot({ path: path.join(OUT, "06-dpr2-curve.png") });
+  await context.close();
+});

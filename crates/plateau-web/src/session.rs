@@ -236,7 +236,12 @@ pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError>
     let (_, t_max) = range(&series.times);
     let horizon_end = t_max + settings.horizon * typical_step(&series.times);
     let kind = series.time_kind;
-    let fmt_t = |t: f64| kind.format(t);
+    // Derived times (t0, milestones and their intervals) fall between the
+    // input's months or quarters; a day shows where in the period they are.
+    let fmt_t = |t: f64| match kind {
+        TimeKind::Month | TimeKind::Quarter => TimeKind::Date.format(t),
+        _ => kind.format(t),
+    };
 
     let params = fit
         .params

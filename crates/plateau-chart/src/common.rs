@@ -1,4 +1,4 @@
-//! What the three charts share: input validation ([`observations`]), the
+//! What the charts share: input validation ([`observations`]), the
 //! size-aware [`Scale`], axis ranges, the chart frame with its mesh
 //! ([`frame`]), the compact value formatter and the centered message used
 //! when a chart has nothing to show.

@@ -3,9 +3,10 @@
 //!
 //! Main items: [`ChartInput`] (plain data: the observations, the
 //! [`Fit`], a forecast horizon, an axis label formatter and captions),
-//! [`ChartKind`], the three drawing functions [`draw_curve`],
-//! [`draw_residuals`] and [`draw_symmetry`] (plus the dispatcher [`draw`]),
-//! [`render_svg`], and [`ChartError`].
+//! [`ChartKind`], the five drawing functions [`draw_curve`],
+//! [`draw_residuals`], [`draw_symmetry`], [`draw_linear`] and [`draw_rate`]
+//! (plus the dispatcher [`draw`]), the straight-line transform
+//! [`linearise`], [`render_svg`], and [`ChartError`].
 //!
 //! No fonts are loaded: text goes through plotters' built-in font handling
 //! (no `ttf` feature), which on SVG emits `<text>` elements for the viewer
@@ -18,7 +19,9 @@
 
 mod common;
 mod curve;
+mod linear;
 pub mod palette;
+mod rate;
 mod residuals;
 mod symmetry;
 
@@ -30,6 +33,8 @@ use std::fmt;
 
 pub use common::{format_value, plain_time};
 pub use curve::draw_curve;
+pub use linear::{draw_linear, linearise};
+pub use rate::draw_rate;
 pub use residuals::draw_residuals;
 pub use symmetry::{draw_symmetry, NOT_AVAILABLE_EXPONENTIAL};
 
@@ -60,16 +65,31 @@ pub enum ChartKind {
     Residuals,
     /// Observations and their reflections through the curve's center.
     Symmetry,
+    /// Observations through the model's linearising transform, on which
+    /// the fit is the straight line `r (t − t0)` (log scale for the
+    /// exponential).
+    Linear,
+    /// Observed change per unit of time against the fitted derivative,
+    /// with the peak rate at t0.
+    Rate,
 }
 
 impl ChartKind {
-    pub const ALL: [ChartKind; 3] = [ChartKind::Curve, ChartKind::Residuals, ChartKind::Symmetry];
+    pub const ALL: [ChartKind; 5] = [
+        ChartKind::Curve,
+        ChartKind::Residuals,
+        ChartKind::Symmetry,
+        ChartKind::Linear,
+        ChartKind::Rate,
+    ];
 
     pub fn name(self) -> &'static str {
         match self {
             ChartKind::Curve => "curve",
             ChartKind::Residuals => "residuals",
             ChartKind::Symmetry => "symmetry",
+            ChartKind::Linear => "linear",
+            ChartKind::Rate => "rate",
         }
     }
 }
@@ -125,6 +145,8 @@ pub fn draw<DB: DrawingBackend>(
         ChartKind::Curve => draw_curve(area, input),
         ChartKind::Residuals => draw_residuals(area, input),
         ChartKind::Symmetry => draw_symmetry(area, input),
+        ChartKind::Linear => draw_linear(area, input),
+        ChartKind::Rate => draw_rate(area, input),
     }
 }
 

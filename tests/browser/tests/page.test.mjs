@@ -170,7 +170,9 @@ test("exports download and parse: CSV one row per time, JSON in the CLI's schema
   assert.equal(sig6(report.params.K.estimate), sig6(cli.params.K.estimate));
   assert.ok(Array.isArray(report.warnings));
 
-  for (const chart of ["curve", "residuals", "symmetry"]) {
+  const charts = await page.$$eval("canvas.chart", (cs) => cs.map((c) => c.dataset.chart));
+  assert.ok(charts.length >= 3, charts.join());
+  for (const chart of charts) {
     const png = await grab(`button[data-png="${chart}"]`);
     assert.deepEqual([...png.subarray(0, 4)], [0x89, 0x50, 0x4e, 0x47], `${chart} PNG signature`);
     const svg = (await grab(`button[data-svg="${chart}"]`)).toString("utf8");
@@ -194,7 +196,7 @@ test("charts are drawn at the device pixel ratio and are not blank", async () =>
     }
     return { id: c.id, width: c.width, css: c.clientWidth, height: c.height, cssH: c.clientHeight, inked: inked / (c.width * c.height) };
   }));
-  assert.equal(charts.length, 3);
+  assert.equal(charts.length, 5);
   for (const c of charts) {
     assert.equal(c.width, Math.round(c.css * 2), `${c.id} width`);
     assert.equal(c.height, Math.round(c.cssH * 2), `${c.id} height`);

@@ -4,7 +4,7 @@
 //! or a chart but never to panic.
 
 use plateau_chart::{
-    draw, format_value, plain_time, render_svg, ChartError, ChartInput, ChartKind,
+    draw, format_value, linearise, plain_time, render_svg, ChartError, ChartInput, ChartKind,
     NOT_AVAILABLE_EXPONENTIAL,
 };
 use plateau_core::analysis::symmetry;
@@ -206,8 +206,9 @@ fn draws_on_any_backend_area() {
     let input = case.input();
     let mut svg = String::new();
     {
-        let root = SVGBackend::with_string(&mut svg, (2400, 500)).into_drawing_area();
-        let parts = root.split_evenly((1, 3));
+        let n = ChartKind::ALL.len();
+        let root = SVGBackend::with_string(&mut svg, (800 * n as u32, 500)).into_drawing_area();
+        let parts = root.split_evenly((1, n));
         for (area, kind) in parts.iter().zip(ChartKind::ALL) {
             draw(kind, area, &input).unwrap();
         }
@@ -217,6 +218,8 @@ fn draws_on_any_backend_area() {
         svg.contains("gompertz fit")
             && svg.contains("residuals of the")
             && svg.contains("rms ratio")
+            && svg.contains("straight-line view")
+            && svg.contains("rate view")
     );
 }
 
@@ -323,4 +326,218 @@ fn degenerate_inputs_never_panic() {
     for kind in ChartKind::ALL {
         let _ = render_svg(kind, &far, W, H);
     }
+}
+
+/// [`render`] with the SVG's `&apos;` entity read back as `'`, for
+/// comparing texts that contain an apostrophe.
+fn render_text(kind: ChartKind, input: &ChartInput) -> String {
+    render(kind, input).replace("&apos;", "'")
+}
+
+/// How many observations the straight-line view can show.
+fn transformable(case: &Case) -> usize {
+    case.y
+        .iter()
+        .filter(|&&y| linearise(&case.fit, y).is_some())
+        .count()
+}
+
+#[test]
+fn chart_names_include_the_new_views() {
+    let names: Vec<&str> = ChartKind::ALL.iter().map(|k| k.name()).collect();
+    assert_eq!(
+        names,
+        ["curve", "residuals", "symmetry", "linear", "rate"],
+        "names the page looks charts up by"
+    );
+}
+
+#[test]
+fn linear_chart_shows_transformed_points_the_line_and_the_caption() {
+    for (case, caption, zero) in [
+        (logistic(), "ln(y / (K − y))", "y = K/2"),
+        (gompertz(), "−ln(−ln(y / K))", "y = K/e"),
+    ] {
+        let name = case.fit.model.name();
+        let svg = render_text(ChartKind::Linear, &case.input());
+        let shown = transformable(&case);
+        // One circle per transformable observation plus the legend's sample.
+        assert_eq!(count(&svg, "<circle"), shown + 1, "{name}");
+        for text in [
+            &format!("straight-line view, {name} fit") as &str,
+            caption,
+            zero,
+            "fitted line r (t − t0)",
+            "forecast",
+            "observed, transformed",
+            "year",
+        ] {
+            assert!(svg.contains(text), "{name}: missing text {text:?}");
+        }
+        let note = svg.contains("outside the transform's range");
+        assert_eq!(
+            note,
+            shown < case.t.len(),
+            "{name}: note iff points dropped"
+        );
+
+        // A point above the fitted K cannot be transformed: it is counted
+        // on the chart instead of vanishing.
+        let k = case.fit.param("K").unwrap().estimate;
+        let mut t = case.t.clone();
+        let mut y = case.y.clone();
+        t.push(t.last().unwrap() + 1.0);
+        y.push(1.2 * k);
+        let input = ChartInput {
+            times: &t,
+            values: &y,
+            ..case.input()
+        };
+        let svg = render_text(ChartKind::Linear, &input);
+        assert_eq!(count(&svg, "<circle"), shown + 1, "{name}");
+        let dropped = t.len() - shown;
+        let phrase = if dropped == 1 {
+            "1 point outside the transform's range is not shown".to_string()
+        } else {
+            format!("{dropped} points outside the transform's range are not shown")
+        };
+        assert!(svg.contains(&phrase), "{name}: {phrase:?}");
+    }
+}
+
+#[test]
+fn rate_chart_shows_one_marker_per_interval_and_the_peak() {
+    for case in [logistic(), gompertz()] {
+        let name = case.fit.model.name();
+        let svg = render(ChartKind::Rate, &case.input());
+        // One circle per pair of consecutive observations plus the legend's.
+        assert_eq!(count(&svg, "<circle"), case.t.len() - 1 + 1, "{name}");
+        let p = case.fit.values();
+        for text in [
+            &format!("rate view, {name} fit") as &str,
+            "users per year",
+            &format!("fitted {name} dy/dt"),
+            "observed Δy/Δt",
+            "forecast",
+            &format!("at t0 = {}", plain_time(p[2])),
+        ] {
+            assert!(svg.contains(text), "{name}: missing text {text:?}");
+        }
+        if case.fit.model == Model::Logistic {
+            let peak = format!("peak rK/4 = {}", format_value(p[0] * p[1] / 4.0));
+            assert!(svg.contains(&peak), "{peak}");
+        } else {
+            assert!(svg.contains("peak rate at the inflection t0"));
+        }
+    }
+    // Unsorted input: the rates are taken between neighbours in time.
+    let case = logistic();
+    let mut pairs: Vec<(f64, f64)> = case.t.iter().copied().zip(case.y.clone()).collect();
+    pairs.reverse();
+    let (t, y): (Vec<f64>, Vec<f64>) = pairs.into_iter().unzip();
+    let input = ChartInput {
+        times: &t,
+        values: &y,
+        ..case.input()
+    };
+    let sorted = render(ChartKind::Rate, &case.input());
+    let reversed = render(ChartKind::Rate, &input);
+    assert_eq!(sorted, reversed, "input order must not matter");
+}
+
+#[test]
+fn exponential_linear_and_rate_charts() {
+    let case = exponential();
+    let svg = render_text(ChartKind::Linear, &case.input());
+    assert!(svg.contains("log scale view, exponential fit"));
+    assert!(svg.contains("ln y"));
+    assert!(svg.contains("fitted line ln a + r t"));
+    assert!(!svg.contains("z = 0"), "no center line for the exponential");
+    assert_eq!(count(&svg, "<circle"), transformable(&case) + 1);
+
+    let svg = render(ChartKind::Rate, &case.input());
+    assert!(svg.contains("users per year"));
+    assert!(!svg.contains("peak"), "the exponential has no peak");
+    assert_eq!(count(&svg, "<circle"), case.t.len());
+
+    // A negative value cannot go on a log scale: counted, not drawn.
+    let mut y = case.y.clone();
+    y[0] = -1.0;
+    let input = ChartInput {
+        values: &y,
+        ..case.input()
+    };
+    let svg = render_text(ChartKind::Linear, &input);
+    assert!(svg.contains("outside the transform's range"));
+}
+
+#[test]
+fn degenerate_inputs_to_the_new_views_never_panic() {
+    let case = logistic();
+    let exp = exponential();
+    let one_t = [2005.0];
+    let one_y = [1.0e5];
+    let same_t = [2005.0; 4];
+    let flat_y = [1.0e5; 4];
+    let k = case.fit.param("K").unwrap().estimate;
+    let above = [1.5 * k; 4];
+    let far = |t: f64| format!("{t:.0}");
+    let inputs: Vec<(&str, ChartInput)> = vec![
+        (
+            "one point",
+            ChartInput {
+                times: &one_t,
+                values: &one_y,
+                ..case.input()
+            },
+        ),
+        (
+            "zero time span",
+            ChartInput {
+                times: &same_t,
+                values: &flat_y,
+                ..case.input()
+            },
+        ),
+        (
+            "every point above K",
+            ChartInput {
+                times: &case.t[..4],
+                values: &above,
+                ..case.input()
+            },
+        ),
+        (
+            "exponential far forecast",
+            ChartInput {
+                horizon: Some(1.0e5),
+                format_time: &far,
+                ..exp.input()
+            },
+        ),
+    ];
+    for (what, input) in &inputs {
+        for kind in [ChartKind::Linear, ChartKind::Rate] {
+            for (w, h) in [(W, H), (0, 0), (0, H), (W, 0), (1, 1), (48, 48)] {
+                match render_svg(kind, input, w, h) {
+                    Ok(svg) => assert!(svg.contains("<svg"), "{what}"),
+                    Err(e) => assert!(!e.to_string().is_empty(), "{what}"),
+                }
+            }
+        }
+    }
+    // A zero-area drawing is refused, not drawn.
+    for kind in [ChartKind::Linear, ChartKind::Rate] {
+        assert!(matches!(
+            render_svg(kind, &case.input(), 0, 0),
+            Err(ChartError::InvalidInput(_))
+        ));
+    }
+    // One point still gives a chart: nothing to difference, but the line
+    // and the fitted rate are drawn.
+    let svg = render(ChartKind::Rate, &inputs[0].1);
+    assert_eq!(count(&svg, "<circle"), 1, "only the legend sample");
+    let svg = render_text(ChartKind::Linear, &inputs[2].1);
+    assert!(svg.contains("4 points outside the transform's range are not shown"));
+    assert_eq!(count(&svg, "<circle"), 1, "only the legend sample");
 }

@@ -193,7 +193,7 @@ pub fn decline_warning(series: &Series) -> Option<Warning> {
     let peak_value = series.values[peak];
     let last = series.values[*order.last()?];
     let after = order.len() - 1 - peak_pos;
-    if after < 3 || !(peak_value > 0.0) || last >= 0.8 * peak_value {
+    if after < 3 || peak_value.is_nan() || peak_value <= 0.0 || last >= 0.8 * peak_value {
         return None;
     }
     Some(Warning::new(

@@ -7,7 +7,8 @@
 //! not converge is still a `Fit`, with `converged == false`, its
 //! [`Termination`] reason and a `not_converged` warning.
 
-use crate::model::{Curve, Domain, Model, MAX_PARAMS};
+use crate::linalg;
+use crate::model::{Curve, Domain, Model, BLOCK, MAX_PARAMS};
 use crate::solver::{LeastSquares, Solver, Termination};
 use crate::stats;
 use crate::warning::{Warning, WarningCode};
@@ -181,52 +182,121 @@ impl LeastSquares for CurveProblem<'_> {
             .all(|(v, &j)| v.is_finite() && (doms[j] == Domain::Real || *v > 0.0))
     }
     fn residuals(&self, x: &[f64], res: &mut [f64]) -> bool {
-        let c = self.curve(x);
-        let mut ok = true;
+        self.curve(x).values(self.t, res);
+        let mut finite = true;
         for (i, r) in res.iter_mut().enumerate() {
-            let mut e = self.y[i] - c.value(self.t[i]);
+            let mut e = self.y[i] - *r;
             if let Some(w) = &self.sqrt_w {
                 e *= w[i];
             }
-            ok &= e.is_finite();
+            finite &= e.is_finite();
             *r = e;
         }
-        ok
+        finite
     }
     fn jacobian(&self, x: &[f64], jac: &mut DMatrix<f64>) {
-        let c = self.curve(x);
-        let m = self.t.len();
-        let cols = jac.as_mut_slice();
-        let mut grad = [0.0; MAX_PARAMS];
-        for i in 0..m {
-            c.value_grad(self.t[i], &mut grad);
-            let w = self.sqrt_w.as_ref().map_or(1.0, |w| w[i]);
-            for (k, &j) in self.free.iter().enumerate() {
-                cols[k * m + i] = w * grad[j];
-            }
-        }
+        let mut res = vec![0.0; self.t.len()];
+        self.fill(x, &mut res, jac);
     }
     /// One pass: the value and the gradient share their exponentials.
     fn residuals_and_jacobian(&self, x: &[f64], res: &mut [f64], jac: &mut DMatrix<f64>) -> bool {
+        self.fill(x, res, jac)
+    }
+}
+
+impl CurveProblem<'_> {
+    /// Writes residuals and Jacobian in one pass over the data, a block of
+    /// points at a time; `false` if a residual is not finite.
+    fn fill(&self, x: &[f64], res: &mut [f64], jac: &mut DMatrix<f64>) -> bool {
+        #[cfg(target_arch = "x86_64")]
+        if std::is_x86_feature_detected!("avx2") {
+            // SAFETY: the processor supports AVX2, checked just above.
+            return unsafe { self.fill_avx2(x, res, jac) };
+        }
+        self.fill_any(x, res, jac)
+    }
+
+    /// [`CurveProblem::fill`] compiled for AVX2 (see the crate docs).
+    #[cfg(target_arch = "x86_64")]
+    #[target_feature(enable = "avx2")]
+    fn fill_avx2(&self, x: &[f64], res: &mut [f64], jac: &mut DMatrix<f64>) -> bool {
+        self.fill_any(x, res, jac)
+    }
+
+    #[inline(always)]
+    fn fill_any(&self, x: &[f64], res: &mut [f64], jac: &mut DMatrix<f64>) -> bool {
         let c = self.curve(x);
         let m = self.t.len();
-        let cols = jac.as_mut_slice();
-        let mut grad = [0.0; MAX_PARAMS];
-        let mut ok = true;
-        for i in 0..m {
-            let f = c.value_grad(self.t[i], &mut grad);
-            let w = self.sqrt_w.as_ref().map_or(1.0, |w| w[i]);
-            let mut e = self.y[i] - f;
-            if self.sqrt_w.is_some() {
-                e *= w;
-            }
-            ok &= e.is_finite();
-            res[i] = e;
-            for (k, &j) in self.free.iter().enumerate() {
-                cols[k * m + i] = w * grad[j];
-            }
+        // The Jacobian's column of each free parameter, by parameter index;
+        // the derivatives of fixed parameters go to `spare`.
+        let mut cols: [&mut [f64]; MAX_PARAMS] = Default::default();
+        let mut is_free = [false; MAX_PARAMS];
+        let mut rest = jac.as_mut_slice();
+        for &j in &self.free {
+            let (col, tail) = std::mem::take(&mut rest).split_at_mut(m);
+            cols[j] = col;
+            is_free[j] = true;
+            rest = tail;
         }
-        ok
+        let mut spare = [[0.0; BLOCK]; MAX_PARAMS];
+        let mut finite = true;
+        let mut start = 0;
+        while start < m {
+            let end = (start + BLOCK).min(m);
+            let n = end - start;
+            let [c0, c1, c2, c3] = &mut cols;
+            let [s0, s1, s2, s3] = &mut spare;
+            let g = [
+                block_of(c0, s0, is_free[0], start, end),
+                block_of(c1, s1, is_free[1], start, end),
+                block_of(c2, s2, is_free[2], start, end),
+                block_of(c3, s3, is_free[3], start, end),
+            ];
+            let r = &mut res[start..end];
+            c.eval_block(&self.t[start..end], r, g);
+            let y = &self.y[start..end];
+            match &self.sqrt_w {
+                None => {
+                    for i in 0..n {
+                        let e = y[i] - r[i];
+                        finite &= e.is_finite();
+                        r[i] = e;
+                    }
+                }
+                Some(w) => {
+                    let w = &w[start..end];
+                    for i in 0..n {
+                        let e = (y[i] - r[i]) * w[i];
+                        finite &= e.is_finite();
+                        r[i] = e;
+                    }
+                    for &j in &self.free {
+                        let col = &mut cols[j][start..end];
+                        for i in 0..n {
+                            col[i] *= w[i];
+                        }
+                    }
+                }
+            }
+            start = end;
+        }
+        finite
+    }
+}
+
+/// Rows `start..end` of a Jacobian column, or the scratch block for a fixed
+/// parameter.
+fn block_of<'a>(
+    col: &'a mut [f64],
+    spare: &'a mut [f64; BLOCK],
+    free: bool,
+    start: usize,
+    end: usize,
+) -> &'a mut [f64] {
+    if free {
+        &mut col[start..end]
+    } else {
+        &mut spare[..end - start]
     }
 }
 
@@ -246,8 +316,9 @@ struct Solved {
     outcome: crate::solver::Outcome,
     /// Full parameter vector at the estimate (on the shifted axis).
     p: Vec<f64>,
-    /// Model Jacobian over the free parameters at the estimate.
-    jac: DMatrix<f64>,
+    /// Triangular factor `R` of the model Jacobian over the free parameters
+    /// at the estimate (`J = Q R`, column-major); empty when there is none.
+    r: Vec<f64>,
     fixed: Vec<Option<f64>>,
     free: Vec<usize>,
     /// The exponential's time origin (0 for the other models).
@@ -329,12 +400,13 @@ fn solve(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<Solved
         t
     };
 
-    let starts = starting_points(model, tt, y, &fixed, &user_start, opts)?;
+    let (starts, mut gompertz_pending) = starting_points(model, tt, y, &fixed, &user_start, opts)?;
     let solver = opts.solver.clone().unwrap_or_default();
     let free: Vec<usize> = (0..np).filter(|j| fixed[*j].is_none()).collect();
-    let mut best: Option<(crate::solver::Outcome, Vec<f64>, DMatrix<f64>)> = None;
-    let mut jac = DMatrix::zeros(n, free.len());
-    for p0 in starts {
+    let mut best: Option<(crate::solver::Outcome, Vec<f64>, Vec<f64>)> = None;
+    let mut r = Vec::new();
+    let mut queue: std::collections::VecDeque<Vec<f64>> = starts.into();
+    while let Some(p0) = queue.pop_front() {
         let problem = CurveProblem {
             model,
             t: tt,
@@ -344,7 +416,7 @@ fn solve(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<Solved
             free: free.clone(),
         };
         let x0: Vec<f64> = free.iter().map(|&j| p0[j]).collect();
-        let out = solver.minimize_with_jacobian(&problem, &x0, &mut jac);
+        let out = solver.minimize_factored(&problem, &x0, &mut r);
         let better = match &best {
             None => true,
             Some((b, _, _)) => {
@@ -356,15 +428,23 @@ fn solve(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<Solved
         };
         if better {
             let full = problem.full(&out.x);
-            // Keep the winner's Jacobian; the next start gets the old buffer.
-            let spare = match best.take() {
-                Some((_, _, j)) => j,
-                None => DMatrix::zeros(n, free.len()),
-            };
-            best = Some((out, full, std::mem::replace(&mut jac, spare)));
+            best = Some((out, full, std::mem::take(&mut r)));
+        }
+        // Richards from the logistic fit ended badly (no convergence, or ν
+        // at the edge of its range, towards the Gompertz limit or beyond
+        // the logistic): also start from the Gompertz fit, keep the better.
+        if queue.is_empty() && std::mem::take(&mut gompertz_pending) {
+            let bad = best.as_ref().is_none_or(|(b, p, _)| {
+                !b.converged() || (fixed[3].is_none() && !(1e-3..=1e3).contains(&p[3]))
+            });
+            if bad {
+                if let Ok(s) = richards_start(tt, y, Model::Gompertz, &fixed, opts) {
+                    queue.push_back(merge_start(&fixed, &user_start, &s));
+                }
+            }
         }
     }
-    let Some((outcome, p, jac)) = best else {
+    let Some((outcome, p, r)) = best else {
         return Err(error(FitErrorKind::NoStart, "no starting values"));
     };
     if outcome.termination == Termination::InvalidStart || !outcome.rss.is_finite() {
@@ -380,7 +460,7 @@ fn solve(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<Solved
     Ok(Solved {
         outcome,
         p,
-        jac,
+        r,
         fixed,
         free,
         t_ref,
@@ -392,7 +472,7 @@ fn statistics(t: &[f64], y: &[f64], model: Model, solved: Solved) -> Fit {
     let Solved {
         outcome,
         mut p,
-        jac,
+        r,
         fixed,
         free,
         t_ref,
@@ -401,11 +481,20 @@ fn statistics(t: &[f64], y: &[f64], model: Model, solved: Solved) -> Fit {
     let np = names.len();
     let n = t.len();
     // Statistics on the (possibly shifted) axis, from the solver's
-    // Jacobian at the estimate.
+    // factorisation of the Jacobian at the estimate.
     let dof = n - free.len();
     let rss = outcome.rss;
     let sigma2 = rss / dof as f64;
-    let cov = stats::covariance(&jac, sigma2);
+    let k = free.len();
+    let cov = if r.len() == k * k {
+        stats::covariance_from_triangle(&r, k, n, sigma2)
+    } else {
+        // No finite factorisation: nothing can be told apart.
+        stats::Covariance {
+            matrix: None,
+            condition_number: f64::INFINITY,
+        }
+    };
     let mut covariance = cov.matrix;
     let mut warnings = Vec::new();
 
@@ -458,7 +547,8 @@ fn statistics(t: &[f64], y: &[f64], model: Model, solved: Solved) -> Fit {
         })
         .collect();
 
-    let fitted: Vec<f64> = t.iter().map(|ti| model.eval(&p, *ti)).collect();
+    let mut fitted = vec![0.0; n];
+    Curve::new(model, &p).values(t, &mut fitted);
     let crit = stats::criteria(rss, n, free.len());
     let mut fit = Fit {
         model,
@@ -516,7 +606,9 @@ fn check_value(model: Model, j: usize, v: f64) -> Result<(), FitError> {
     Ok(())
 }
 
-/// Candidate full parameter vectors to start the solver from.
+/// Candidate full parameter vectors to start the solver from, and whether
+/// a Richards start from the Gompertz fit is still to be tried if these
+/// end badly (see [`solve`]).
 fn starting_points(
     model: Model,
     t: &[f64],
@@ -524,16 +616,11 @@ fn starting_points(
     fixed: &[Option<f64>],
     user: &[Option<f64>],
     opts: &FitOptions,
-) -> Result<Vec<Vec<f64>>, FitError> {
+) -> Result<(Vec<Vec<f64>>, bool), FitError> {
     let np = model.n_params();
-    // Fixed values and user starts override the self-start, entry by entry.
-    let merge = |auto: &[f64]| -> Vec<f64> {
-        (0..np)
-            .map(|j| fixed[j].or(user[j]).unwrap_or(auto[j]))
-            .collect()
-    };
+    let merge = |auto: &[f64]| merge_start(fixed, user, auto);
     if (0..np).all(|j| fixed[j].is_some() || user[j].is_some()) {
-        return Ok(vec![merge(&vec![0.0; np])]);
+        return Ok((vec![merge(&vec![0.0; np])], false));
     }
     let k_fixed = model.param_index("K").and_then(|j| fixed[j]);
     // The self-starts fail only without two usable values at different
@@ -555,6 +642,7 @@ fn starting_points(
         )
     };
     let mut starts = Vec::new();
+    let mut gompertz_pending = false;
     match model {
         Model::Logistic => starts.push(
             start::logistic(t, y, k_fixed)
@@ -585,44 +673,83 @@ fn starting_points(
         }
         Model::Richards => {
             // The logistic is Richards with ν = 1 and the Gompertz its ν → 0
-            // limit: fit both and start from each.
-            let sub = FitOptions {
-                fixed: opts
-                    .fixed
-                    .iter()
-                    .filter(|(n, _)| n.trim() != "nu")
-                    .cloned()
-                    .collect(),
-                weights: opts.weights.clone(),
-                solver: opts.solver.clone(),
-                start: Vec::new(),
-            };
-            let nu_fixed = fixed[3];
-            let mut sub_error = None;
-            for (m, nu) in [(Model::Logistic, 1.0), (Model::Gompertz, 0.1)] {
-                match fit_xy(t, y, m, &sub) {
-                    Ok(f) => {
-                        let v = f.values();
-                        starts.push(vec![v[0], v[1], v[2], nu_fixed.unwrap_or(nu)]);
-                    }
-                    Err(e) => sub_error = sub_error.or(Some(e)),
+            // limit. Start from the logistic fit; `solve` adds the start from
+            // the Gompertz fit when that one ends badly, and it is the start
+            // here when the logistic cannot be fitted at all.
+            match richards_start(t, y, Model::Logistic, fixed, opts) {
+                Ok(s) => {
+                    starts.push(s);
+                    gompertz_pending = true;
                 }
-            }
-            if let (true, Some(e)) = (starts.is_empty(), sub_error) {
-                return Err(error(
-                    e.kind,
-                    format!(
-                        "cannot derive starting values for the richards model from its logistic and gompertz fits: {}",
-                        e.message
-                    ),
-                ));
+                Err(e) => match richards_start(t, y, Model::Gompertz, fixed, opts) {
+                    Ok(s) => starts.push(s),
+                    Err(_) => {
+                        return Err(error(
+                            e.kind,
+                            format!(
+                                "cannot derive starting values for the richards model from its logistic and gompertz fits: {}",
+                                e.message
+                            ),
+                        ))
+                    }
+                },
             }
         }
     }
     if starts.is_empty() {
         return Err(no_start());
     }
-    Ok(starts.iter().map(|s| merge(s)).collect())
+    Ok((
+        starts.iter().map(|s| merge_start(fixed, user, s)).collect(),
+        gompertz_pending,
+    ))
+}
+
+/// Fixed values and user starts override the self-start, entry by entry.
+fn merge_start(fixed: &[Option<f64>], user: &[Option<f64>], auto: &[f64]) -> Vec<f64> {
+    (0..fixed.len())
+        .map(|j| fixed[j].or(user[j]).unwrap_or(auto[j]))
+        .collect()
+}
+
+/// A Richards start `[K, r, t0, ν]` from a fit of `sub` (the logistic,
+/// ν = 1, or the Gompertz curve, the ν → 0 limit, started at ν = 0.1)
+/// with the same fixed K, r or t0 and weights. ν is the fixed value if
+/// there is one.
+///
+/// The sub-fit only supplies a start, so it stops at relative tolerances
+/// of 1e-8 without the polish; the Richards fit itself converges fully.
+fn richards_start(
+    t: &[f64],
+    y: &[f64],
+    sub_model: Model,
+    fixed: &[Option<f64>],
+    opts: &FitOptions,
+) -> Result<Vec<f64>, FitError> {
+    let base = opts.solver.clone().unwrap_or_default();
+    let sub = FitOptions {
+        fixed: opts
+            .fixed
+            .iter()
+            .filter(|(n, _)| n.trim() != "nu")
+            .cloned()
+            .collect(),
+        weights: opts.weights.clone(),
+        solver: Some(Solver {
+            ftol: base.ftol.max(1e-8),
+            xtol: base.xtol.max(1e-8),
+            polish_steps: 0,
+            ..base
+        }),
+        start: Vec::new(),
+    };
+    let nu = if sub_model == Model::Logistic {
+        1.0
+    } else {
+        0.1
+    };
+    let v = solve(t, y, sub_model, &sub)?.p;
+    Ok(vec![v[0], v[1], v[2], fixed[3].unwrap_or(nu)])
 }
 
 /// Thresholds of [`diagnose`]. K counts as not identified when its relative
@@ -659,9 +786,8 @@ fn diagnose(fit: &mut Fit, t: &[f64], y: &[f64]) {
             ),
         ));
     }
-    let tmin = t.iter().cloned().fold(f64::INFINITY, f64::min);
-    let tmax = t.iter().cloned().fold(f64::NEG_INFINITY, f64::max);
-    let ymax = y.iter().cloned().fold(f64::NEG_INFINITY, f64::max);
+    let (tmin, tmax) = linalg::min_max(t);
+    let ymax = linalg::min_max(y).1;
     let span = (tmax - tmin).max(f64::MIN_POSITIVE);
     for (j, p) in fit.params.iter().enumerate() {
         if p.fixed || fit.model.domains()[j] != Domain::Positive {
@@ -731,3 +857,63 @@ fn diagnose(fit: &mut Fit, t: &[f64], y: &[f64]) {
 
 #[cfg(test)]
 mod tests;
+
+/// The AVX2 copies of the inner loops must give the scalar build's results
+/// to the last bit (the crate docs promise it).
+#[cfg(all(test, target_arch = "x86_64"))]
+mod avx2_tests {
+    use super::*;
+
+    #[test]
+    fn avx2_fill_is_bit_identical() {
+        if !std::is_x86_feature_detected!("avx2") {
+            return;
+        }
+        let params: [(Model, &[f64]); 5] = [
+            (Model::Logistic, &[1000.0, 0.8, 10.0]),
+            (Model::Logistic4, &[900.0, 0.6, 12.0, 100.0]),
+            (Model::Gompertz, &[50.0, 0.35, 8.0]),
+            (Model::Richards, &[2000.0, 0.5, 15.0, 0.4]),
+            (Model::Exponential, &[3.0, 0.25]),
+        ];
+        // 77 points: two full blocks and a partial one; times far into the
+        // tails too, where the exponentials leave their ordinary range.
+        let t: Vec<f64> = (0..77).map(|i| -400.0 + 11.0 * i as f64).collect();
+        let y: Vec<f64> = t.iter().map(|v| 500.0 + (v * 0.37).sin() * 300.0).collect();
+        let w: Vec<f64> = (0..77).map(|i| 0.5 + (i % 5) as f64).collect();
+        for (model, p) in params {
+            let np = p.len();
+            for (weights, free) in [
+                (None, (0..np).collect::<Vec<_>>()),
+                (Some(w.clone()), (1..np).collect()),
+            ] {
+                let problem = CurveProblem {
+                    model,
+                    t: &t,
+                    y: &y,
+                    sqrt_w: weights,
+                    base: p.to_vec(),
+                    free: free.clone(),
+                };
+                let x: Vec<f64> = free.iter().map(|&j| p[j] * 1.01).collect();
+                let (mut r1, mut r2) = (vec![0.0; 77], vec![0.0; 77]);
+                let (mut j1, mut j2) = (
+                    DMatrix::zeros(77, free.len()),
+                    DMatrix::zeros(77, free.len()),
+                );
+                let ok1 = problem.fill_any(&x, &mut r1, &mut j1);
+                // SAFETY: AVX2 is available (checked at the top).
+                let ok2 = unsafe { problem.fill_avx2(&x, &mut r2, &mut j2) };
+                assert_eq!(ok1, ok2, "{}", model.name());
+                let bits = |v: &[f64]| v.iter().map(|x| x.to_bits()).collect::<Vec<_>>();
+                assert_eq!(bits(&r1), bits(&r2), "{} residuals", model.name());
+                assert_eq!(
+                    bits(j1.as_slice()),
+                    bits(j2.as_slice()),
+                    "{} Jacobian",
+                    model.name()
+                );
+            }
+        }
+    }
+}

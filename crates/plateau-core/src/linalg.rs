@@ -11,17 +11,61 @@
 //! column by column (Higham 2002, thm. 19.4), so scaling the columns before
 //! or after the factorisation gives the same `R D⁻¹` up to rounding.
 
-/// Householder QR of the column-major `m × n` matrix `a` in place. The
-/// reflections are applied to `b` (length `m`) as well, giving `Qᵀ b`.
+/// Householder QR of the first `n` columns of the column-major matrix `a`
+/// (`m` rows, `n + extra` columns) in place; the reflections are applied to
+/// the `extra` columns and to `b` (length `m`, or empty) as well, which then
+/// hold `Qᵀ b` for each (the first `n` entries are the part that `R` can
+/// fit).
 ///
 /// On return `r` (column-major `n × n`) holds the upper-triangular factor
 /// (zero below the diagonal; rows past `m` stay zero when `m < n`). The
-/// contents of `a` are destroyed.
-pub(crate) fn householder_qr(a: &mut [f64], m: usize, n: usize, b: &mut [f64], r: &mut [f64]) {
-    debug_assert!(a.len() >= m * n && b.len() >= m && r.len() >= n * n);
+/// first `n` columns of `a` are destroyed.
+pub(crate) fn householder_qr(
+    a: &mut [f64],
+    m: usize,
+    n: usize,
+    extra: usize,
+    b: &mut [f64],
+    r: &mut [f64],
+) {
+    #[cfg(target_arch = "x86_64")]
+    if std::is_x86_feature_detected!("avx2") {
+        // SAFETY: the processor supports AVX2, checked just above.
+        return unsafe { householder_qr_avx2(a, m, n, extra, b, r) };
+    }
+    householder_qr_any(a, m, n, extra, b, r)
+}
+
+/// [`householder_qr`] compiled for AVX2 (see the crate docs).
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2")]
+fn householder_qr_avx2(
+    a: &mut [f64],
+    m: usize,
+    n: usize,
+    extra: usize,
+    b: &mut [f64],
+    r: &mut [f64],
+) {
+    householder_qr_any(a, m, n, extra, b, r)
+}
+
+#[inline(always)]
+fn householder_qr_any(
+    a: &mut [f64],
+    m: usize,
+    n: usize,
+    extra: usize,
+    b: &mut [f64],
+    r: &mut [f64],
+) {
+    debug_assert!(a.len() >= m * (n + extra) && (b.is_empty() || b.len() >= m));
+    debug_assert!(r.len() >= n * n);
     r[..n * n].iter_mut().for_each(|v| *v = 0.0);
+    let total = n + extra;
     for k in 0..n.min(m) {
         let (head, tail) = a.split_at_mut((k + 1) * m);
+        let tail = &mut tail[..(total - k - 1) * m];
         let col = &mut head[k * m + k..(k + 1) * m];
         let x0 = col[0];
         let norm = norm2(col);
@@ -43,11 +87,23 @@ pub(crate) fn householder_qr(a: &mut [f64], m: usize, n: usize, b: &mut [f64], r
         let tau = norm * (norm + x0.abs());
         col[0] = v0;
         let v: &[f64] = col;
-        for j in k + 1..n {
-            let cj = &mut tail[(j - k - 1) * m + k..(j - k) * m];
-            reflect(v, tau, cj);
+        // All later columns in two passes over the rows (their dot products
+        // with v, then the updates), not two passes per column.
+        match total - k - 1 {
+            0 => {}
+            1 => reflect_columns::<1>(v, tau, tail, m, k),
+            2 => reflect_columns::<2>(v, tau, tail, m, k),
+            3 => reflect_columns::<3>(v, tau, tail, m, k),
+            4 => reflect_columns::<4>(v, tau, tail, m, k),
+            _ => {
+                for cj in tail.chunks_exact_mut(m) {
+                    reflect(v, tau, &mut cj[k..]);
+                }
+            }
         }
-        reflect(v, tau, &mut b[k..m]);
+        if !b.is_empty() {
+            reflect(v, tau, &mut b[k..m]);
+        }
         // R's column k: entries above the diagonal were set by earlier
         // reflections and are final now.
         for i in 0..k {
@@ -64,8 +120,54 @@ pub(crate) fn householder_qr(a: &mut [f64], m: usize, n: usize, b: &mut [f64], r
     }
 }
 
+/// `c ← (I − v vᵀ / τ) c` for the `C` columns of `cols` (each `m` long),
+/// on their rows `k..m` (which `v` spans).
+#[inline(always)]
+fn reflect_columns<const C: usize>(v: &[f64], tau: f64, cols: &mut [f64], m: usize, k: usize) {
+    let len = m - k;
+    let v = &v[..len];
+    let mut it = cols.chunks_exact_mut(m);
+    let mut cs: [&mut [f64]; C] = std::array::from_fn(|_| {
+        let c = it.next().expect("C columns");
+        &mut c[k..m]
+    });
+    // Partial sums per column, as in `dot`.
+    let mut acc = [[0.0f64; LANES]; C];
+    let full = len - len % LANES;
+    for i in (0..full).step_by(LANES) {
+        let vi = &v[i..i + LANES];
+        for c in 0..C {
+            let col = &cs[c][i..i + LANES];
+            for l in 0..LANES {
+                acc[c][l] += vi[l] * col[l];
+            }
+        }
+    }
+    let mut scale = [0.0f64; C];
+    for c in 0..C {
+        let mut tail = 0.0;
+        for i in full..len {
+            tail += v[i] * cs[c][i];
+        }
+        scale[c] = (reduce(&acc[c]) + tail) / tau;
+    }
+    for (col, s) in cs.iter_mut().zip(scale) {
+        axpy(col, -s, v);
+    }
+}
+
+/// `y ← y + a x`.
+#[inline(always)]
+fn axpy(y: &mut [f64], a: f64, x: &[f64]) {
+    if a != 0.0 {
+        for (yi, xi) in y.iter_mut().zip(x) {
+            *yi += a * xi;
+        }
+    }
+}
+
 /// `c ← (I − v vᵀ / τ) c`.
-#[inline]
+#[inline(always)]
 fn reflect(v: &[f64], tau: f64, c: &mut [f64]) {
     let s = dot(v, c) / tau;
     if s != 0.0 {
@@ -75,31 +177,117 @@ fn reflect(v: &[f64], tau: f64, c: &mut [f64]) {
     }
 }
 
-/// `Σ a_i b_i`, with four independent partial sums so that the loop
+/// A vector of `f64` for the solver's small per-parameter arrays: held
+/// inline up to 16 entries (n² for up to 4 unknowns, the growth models'
+/// most), on the heap beyond, so that a solve allocates nothing for them.
+#[derive(Clone)]
+pub(crate) struct SmallVec {
+    inline: [f64; 16],
+    heap: Vec<f64>,
+    len: usize,
+}
+
+impl SmallVec {
+    pub(crate) fn zeros(len: usize) -> SmallVec {
+        SmallVec {
+            inline: [0.0; 16],
+            heap: if len > 16 { vec![0.0; len] } else { Vec::new() },
+            len,
+        }
+    }
+}
+
+impl std::ops::Deref for SmallVec {
+    type Target = [f64];
+    fn deref(&self) -> &[f64] {
+        if self.len > 16 {
+            &self.heap
+        } else {
+            &self.inline[..self.len]
+        }
+    }
+}
+
+impl std::ops::DerefMut for SmallVec {
+    fn deref_mut(&mut self) -> &mut [f64] {
+        if self.len > 16 {
+            &mut self.heap
+        } else {
+            &mut self.inline[..self.len]
+        }
+    }
+}
+
+/// `Σ a_i b_i`, with `LANES` independent partial sums so that the loop
 /// pipelines (and vectorises) instead of waiting on one accumulator.
-#[inline]
+#[inline(always)]
 pub(crate) fn dot(a: &[f64], b: &[f64]) -> f64 {
     let n = a.len().min(b.len());
     let (a, b) = (&a[..n], &b[..n]);
-    let mut acc = [0.0f64; 4];
-    let mut ca = a.chunks_exact(4);
-    let mut cb = b.chunks_exact(4);
+    let mut acc = [0.0f64; LANES];
+    let mut ca = a.chunks_exact(LANES);
+    let mut cb = b.chunks_exact(LANES);
     for (x, y) in (&mut ca).zip(&mut cb) {
-        acc[0] += x[0] * y[0];
-        acc[1] += x[1] * y[1];
-        acc[2] += x[2] * y[2];
-        acc[3] += x[3] * y[3];
+        for l in 0..LANES {
+            acc[l] += x[l] * y[l];
+        }
     }
     let mut tail = 0.0;
     for (x, y) in ca.remainder().iter().zip(cb.remainder()) {
         tail += x * y;
     }
+    reduce(&acc) + tail
+}
+
+/// Partial sums per reduction: enough independent additions in flight to
+/// hide their latency (two AVX registers, four SSE ones).
+const LANES: usize = 8;
+
+/// The sum of the partial sums, in a fixed pairwise order.
+#[inline(always)]
+fn reduce(acc: &[f64; LANES]) -> f64 {
+    ((acc[0] + acc[4]) + (acc[2] + acc[6])) + ((acc[1] + acc[5]) + (acc[3] + acc[7]))
+}
+
+/// `Σ f(a_i)` with four partial sums (as [`dot`]).
+#[inline(always)]
+pub(crate) fn sum_by(a: &[f64], f: impl Fn(f64) -> f64) -> f64 {
+    let mut acc = [0.0f64; 4];
+    let mut chunks = a.chunks_exact(4);
+    for c in &mut chunks {
+        for (s, v) in acc.iter_mut().zip(c) {
+            *s += f(*v);
+        }
+    }
+    let tail: f64 = chunks.remainder().iter().map(|v| f(*v)).sum();
     (acc[0] + acc[2]) + (acc[1] + acc[3]) + tail
+}
+
+/// `(min, max)` of `a` as `fold(±∞, f64::min / f64::max)` give them (NaN
+/// entries ignored), with four independent lanes.
+pub(crate) fn min_max(a: &[f64]) -> (f64, f64) {
+    let mut lo = [f64::INFINITY; 4];
+    let mut hi = [f64::NEG_INFINITY; 4];
+    let mut chunks = a.chunks_exact(4);
+    for c in &mut chunks {
+        for l in 0..4 {
+            lo[l] = lo[l].min(c[l]);
+            hi[l] = hi[l].max(c[l]);
+        }
+    }
+    for &v in chunks.remainder() {
+        lo[0] = lo[0].min(v);
+        hi[0] = hi[0].max(v);
+    }
+    (
+        lo[0].min(lo[1]).min(lo[2].min(lo[3])),
+        hi[0].max(hi[1]).max(hi[2].max(hi[3])),
+    )
 }
 
 /// Euclidean norm. Plain sum of squares, rescaled only when that
 /// overflows or underflows.
-#[inline]
+#[inline(always)]
 pub(crate) fn norm2(a: &[f64]) -> f64 {
     let ss = dot(a, a);
     if ss.is_finite() && ss > f64::MIN_POSITIVE {
@@ -124,12 +312,27 @@ pub(crate) fn norm2(a: &[f64]) -> f64 {
 /// of `v` (column-major `n × n`) the right singular vector, unsorted.
 /// Returns `false` on non-finite input.
 pub(crate) fn jacobi_svd(a: &mut [f64], n: usize, s: &mut [f64], v: &mut [f64]) -> bool {
+    // The sizes of the growth models, with the loops unrolled.
+    match n {
+        2 => jacobi_svd_fixed::<2>(a, s, v),
+        3 => jacobi_svd_fixed::<3>(a, s, v),
+        4 => jacobi_svd_fixed::<4>(a, s, v),
+        _ => jacobi_svd_general(a, n, s, v),
+    }
+}
+
+/// [`jacobi_svd`] for any size.
+fn jacobi_svd_general(a: &mut [f64], n: usize, s: &mut [f64], v: &mut [f64]) -> bool {
     v[..n * n].iter_mut().for_each(|x| *x = 0.0);
     for j in 0..n {
         v[j * n + j] = 1.0;
     }
+    // Columns count as orthogonal once their cosine is below `tol`
+    // (LAPACK's dgesvj uses √m ε; rounding keeps cosines of a few ε, so a
+    // bare ε would rotate on for many sweeps without gaining accuracy).
     // Converges quadratically; a few sweeps suffice for the sizes used here,
     // the cap only guards against rounding cycles.
+    let tol = f64::EPSILON * (n as f64).sqrt().max(2.0);
     for _sweep in 0..60 {
         let mut rotated = false;
         for p in 0..n {
@@ -137,9 +340,13 @@ pub(crate) fn jacobi_svd(a: &mut [f64], n: usize, s: &mut [f64], v: &mut [f64]) 
                 let (alpha, beta, gamma) = {
                     let ap = &a[p * n..(p + 1) * n];
                     let aq = &a[q * n..(q + 1) * n];
-                    (dot(ap, ap), dot(aq, aq), dot(ap, aq))
+                    ap.iter()
+                        .zip(aq)
+                        .fold((0.0, 0.0, 0.0), |(aa, bb, ab), (x, y)| {
+                            (aa + x * x, bb + y * y, ab + x * y)
+                        })
                 };
-                if gamma == 0.0 || gamma.abs() <= f64::EPSILON * (alpha * beta).sqrt() {
+                if gamma == 0.0 || gamma.abs() <= tol * (alpha * beta).sqrt() {
                     continue;
                 }
                 if !(alpha.is_finite() && beta.is_finite() && gamma.is_finite()) {
@@ -163,6 +370,59 @@ pub(crate) fn jacobi_svd(a: &mut [f64], n: usize, s: &mut [f64], v: &mut [f64]) 
         s[j] = norm2(&a[j * n..(j + 1) * n]);
     }
     s[..n].iter().all(|v| v.is_finite())
+}
+
+/// [`jacobi_svd`] for a compile-time size `N`: the same iteration on
+/// arrays, so that the short loops unroll.
+fn jacobi_svd_fixed<const N: usize>(a: &mut [f64], s: &mut [f64], v: &mut [f64]) -> bool {
+    let mut am = [[0.0f64; N]; N];
+    let mut vm = [[0.0f64; N]; N];
+    for j in 0..N {
+        am[j].copy_from_slice(&a[j * N..(j + 1) * N]);
+        vm[j][j] = 1.0;
+    }
+    let tol = f64::EPSILON * (N as f64).sqrt().max(2.0);
+    for _sweep in 0..60 {
+        let mut rotated = false;
+        for p in 0..N {
+            for q in p + 1..N {
+                let (mut alpha, mut beta, mut gamma) = (0.0, 0.0, 0.0);
+                for (x, y) in am[p].iter().zip(&am[q]) {
+                    alpha += x * x;
+                    beta += y * y;
+                    gamma += x * y;
+                }
+                if gamma == 0.0 || gamma.abs() <= tol * (alpha * beta).sqrt() {
+                    continue;
+                }
+                if !(alpha.is_finite() && beta.is_finite() && gamma.is_finite()) {
+                    return false;
+                }
+                rotated = true;
+                let zeta = (beta - alpha) / (2.0 * gamma);
+                let t = zeta.signum() / (zeta.abs() + (1.0 + zeta * zeta).sqrt());
+                let c = 1.0 / (1.0 + t * t).sqrt();
+                let sn = c * t;
+                for m in [&mut am, &mut vm] {
+                    let (lo, hi) = m.split_at_mut(q);
+                    for (x, y) in lo[p].iter_mut().zip(hi[0].iter_mut()) {
+                        let (xp, xq) = (*x, *y);
+                        *x = c * xp - sn * xq;
+                        *y = sn * xp + c * xq;
+                    }
+                }
+            }
+        }
+        if !rotated {
+            break;
+        }
+    }
+    for j in 0..N {
+        a[j * N..(j + 1) * N].copy_from_slice(&am[j]);
+        v[j * N..(j + 1) * N].copy_from_slice(&vm[j]);
+        s[j] = norm2(&am[j]);
+    }
+    s[..N].iter().all(|v| v.is_finite())
 }
 
 /// Columns `p < q` of the column-major `n × n` matrix `a`:
@@ -198,12 +458,16 @@ mod tests {
     #[test]
     fn qr_and_svd_agree_with_definitions() {
         let (m, n) = (7, 3);
-        let a = mat(m, n, |i, j| ((i * 3 + j * 5) % 7) as f64 - 2.5 + 0.1 * (i * j) as f64);
+        let a = mat(m, n, |i, j| {
+            ((i * 3 + j * 5) % 7) as f64 - 2.5 + 0.1 * (i * j) as f64
+        });
         let b: Vec<f64> = (0..m).map(|i| (i as f64).sin()).collect();
+        // b as an extra column.
         let mut work = a.clone();
-        let mut qtb = b.clone();
+        work.extend_from_slice(&b);
         let mut r = vec![0.0; n * n];
-        householder_qr(&mut work, m, n, &mut qtb, &mut r);
+        householder_qr(&mut work, m, n, 1, &mut [], &mut r);
+        let qtb = work[n * m..].to_vec();
         for p in 0..n {
             for q in 0..n {
                 let ata: f64 = (0..m).map(|i| a[p * m + i] * a[q * m + i]).sum();
@@ -236,6 +500,50 @@ mod tests {
         got.sort_by(|x, y| y.total_cmp(x));
         for (g, w) in got.iter().zip([5.0, 2.0, 1e-3]) {
             assert!((g - w).abs() <= 1e-14 * w, "{g} vs {w}");
+        }
+    }
+
+    /// The unrolled sizes and the general loop give the same factorisation.
+    #[test]
+    fn fixed_and_general_jacobi_agree() {
+        let a0: Vec<f64> = (0..16).map(|k| ((k * 7 % 11) as f64 - 5.0) / 3.0).collect();
+        let mut a1 = a0.clone();
+        let mut a2 = a0.clone();
+        let (mut s1, mut s2) = ([0.0; 4], [0.0; 4]);
+        let (mut v1, mut v2) = ([0.0; 16], [0.0; 16]);
+        assert!(jacobi_svd_fixed::<4>(&mut a1, &mut s1, &mut v1));
+        assert!(jacobi_svd_general(&mut a2, 4, &mut s2, &mut v2));
+        let n = 4;
+        for j in 0..n {
+            assert!(
+                (s1[j] - s2[j]).abs() <= 1e-14 * s1[j].max(1.0),
+                "{s1:?} {s2:?}"
+            );
+        }
+    }
+
+    /// The AVX2 copy of the QR gives the same bits (see the crate docs).
+    #[cfg(target_arch = "x86_64")]
+    #[test]
+    fn avx2_qr_is_bit_identical() {
+        if !std::is_x86_feature_detected!("avx2") {
+            return;
+        }
+        for (m, n, extra) in [(1003, 4, 1), (50, 3, 1), (7, 2, 0), (37, 4, 0)] {
+            let a0 = mat(m, n + extra, |i, j| {
+                ((i * 7 + j * 13) % 17) as f64 - 8.0 + 1e-3 * i as f64
+            });
+            let b0: Vec<f64> = (0..m).map(|i| (i as f64 * 0.3).cos()).collect();
+            let (mut a1, mut a2) = (a0.clone(), a0.clone());
+            let (mut b1, mut b2) = (b0.clone(), b0.clone());
+            let (mut r1, mut r2) = (vec![0.0; n * n], vec![0.0; n * n]);
+            householder_qr_any(&mut a1, m, n, extra, &mut b1, &mut r1);
+            // SAFETY: AVX2 is available (checked at the top).
+            unsafe { householder_qr_avx2(&mut a2, m, n, extra, &mut b2, &mut r2) };
+            let bits = |v: &[f64]| v.iter().map(|x| x.to_bits()).collect::<Vec<_>>();
+            assert_eq!(bits(&a1), bits(&a2));
+            assert_eq!(bits(&b1), bits(&b2));
+            assert_eq!(bits(&r1), bits(&r2));
         }
     }
 

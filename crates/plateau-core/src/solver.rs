@@ -13,23 +13,30 @@
 //!
 //! where `res = y − f(x)` and `J = ∂f/∂x`, and `D` holds the largest column
 //! norms of `J` seen so far (Moré 1978), which makes the iteration invariant
-//! to the units of the parameters. The damped system is solved from the
-//! SVD of `R D⁻¹`, where `J = Q R` is a Householder QR: the normal
-//! equations `JᵀJ` are never formed, so their squared condition number
-//! never costs precision. λ follows Nielsen's (1999) update from the gain
-//! ratio.
+//! to the units of the parameters. The damped system is solved from
+//! `R D⁻¹`, where `J = Q R` is a Householder QR computed once per point
+//! (every λ trial then costs only O(n²) or O(n³) work on the small
+//! triangle): through its SVD at the first point and whenever the triangle
+//! is not safely well-conditioned, else by Givens rotations of
+//! `[R D⁻¹; √λ I]` (see `Linearisation`). The normal equations `JᵀJ` are
+//! never formed, so their squared condition number never costs precision.
+//! λ follows Nielsen's (1999) update from the gain ratio. Trial points are
+//! evaluated with their Jacobian in one pass
+//! ([`LeastSquares::residuals_and_jacobian`]); a step whose predicted
+//! reduction is below the rounding of the sum of squares is not evaluated.
 //!
 //! Feasibility (for example K > 0) is kept by rejecting infeasible trial
 //! steps as if they had increased the sum of squares: the damping grows and
 //! the step shrinks towards the feasible region, so no parameter is ever
 //! clipped to a bound.
 //!
-//! After LM stops, undamped Gauss–Newton steps (a truncated-SVD solve) are
-//! taken while they keep lowering the sum of squares: near the minimum they
-//! converge quadratically, which brings the estimates to full double
-//! precision at little cost.
+//! After LM stops, undamped Gauss–Newton steps (a truncated-SVD or
+//! triangular solve) are taken while they make progress: while they lower
+//! the sum of squares, or, where its differences are rounding noise, while
+//! they at least halve the gradient (see `Solver::polish`). This brings the
+//! estimates to full double precision at little cost.
 
-use crate::linalg;
+use crate::linalg::{self, SmallVec};
 use nalgebra::DMatrix;
 
 /// A nonlinear least-squares problem: minimise `Σ res_i(x)²`.
@@ -63,7 +70,8 @@ pub trait LeastSquares {
 #[non_exhaustive]
 pub enum Termination {
     /// Both the actual and the predicted relative reduction of the sum of
-    /// squares fell below `ftol`.
+    /// squares fell below `ftol` (or the predicted one fell below the sum's
+    /// rounding, where the actual one cannot be measured).
     SmallReduction,
     /// The scaled step fell below `xtol` relative to the scaled parameters.
     SmallStep,
@@ -161,40 +169,56 @@ impl Outcome {
     }
 }
 
-/// The SVD of `R D⁻¹` and the rotated residual, from which damped and
-/// undamped steps are cheap for any λ. All buffers are allocated once per
-/// solve and reused at every point.
+/// The factorisation of the Jacobian at one point, from which the step for
+/// any damping λ is cheap. All buffers are allocated once per solve and
+/// reused at every point.
+///
+/// `J = Q R` (Householder) gives the scaled triangle `R D⁻¹` and `Qᵀ res`.
+/// Its SVD `R D⁻¹ = U S Vᵀ` is taken at the first point (λ starts from the
+/// largest singular value) and whenever `R D⁻¹` is not safely
+/// well-conditioned; steps then come from the truncated SVD, which drops
+/// directions below rounding. Otherwise no singular value can fall below
+/// the truncation threshold, the truncated and the full solution coincide,
+/// and the step is solved from the triangle directly: by back-substitution
+/// for λ = 0, and for λ > 0 by Givens rotations of `[R D⁻¹; √λ I]` to
+/// triangular form (as MINPACK's `qrsolv`), which costs a fraction of an SVD.
 struct Linearisation {
     m: usize,
     n: usize,
-    /// `R` (column-major `n × n`), then `R D⁻¹`, then the columns
-    /// `s_j u_j` of its one-sided Jacobi SVD.
-    r: Vec<f64>,
-    /// Singular values of `R D⁻¹`.
-    s: Vec<f64>,
+    /// `R` itself, upper triangular (column-major `n × n`).
+    r_raw: SmallVec,
+    /// `R D⁻¹`.
+    r: SmallVec,
+    /// The first `n` entries of `Qᵀ res`.
+    qtr: SmallVec,
+    /// Whether the SVD below belongs to this point.
+    has_svd: bool,
+    /// The columns `s_j u_j` of the SVD (scratch of the Jacobi iteration).
+    us: SmallVec,
+    /// Singular values of `R D⁻¹` (of the last point that had an SVD).
+    s: SmallVec,
     /// `V` of the SVD (scaled coordinates), column-major.
-    v: Vec<f64>,
+    v: SmallVec,
     /// `g = Uᵀ Qᵀ res`.
-    g: Vec<f64>,
-    /// Column norms of the current Jacobian.
-    col_norm: Vec<f64>,
+    g: SmallVec,
+    /// Scratch of the Givens solve: the rotated triangle, row and right side.
+    work: SmallVec,
+    row: SmallVec,
+    rhs: SmallVec,
     /// The largest |cosine| between the residual and a Jacobian column.
     max_cos: f64,
 }
 
 /// Scratch space of [`Linearisation::factor`].
 struct Scratch {
-    /// Copy of the Jacobian, overwritten by its QR factorisation.
-    work: Vec<f64>,
-    /// `Qᵀ res`; its first `n` entries are the part `R` can fit.
+    /// `res`, overwritten by `Qᵀ res`.
     qtr: Vec<f64>,
 }
 
 impl Scratch {
-    fn new(m: usize, n: usize) -> Scratch {
+    fn new(m: usize) -> Scratch {
         Scratch {
-            work: vec![0.0; m * n],
-            qtr: vec![0.0; m.max(n)],
+            qtr: Vec::with_capacity(m),
         }
     }
 }
@@ -204,102 +228,210 @@ impl Linearisation {
         Linearisation {
             m,
             n,
-            r: vec![0.0; n * n],
-            s: vec![0.0; n],
-            v: vec![0.0; n * n],
-            g: vec![0.0; n],
-            col_norm: vec![0.0; n],
+            r_raw: SmallVec::zeros(n * n),
+            r: SmallVec::zeros(n * n),
+            qtr: SmallVec::zeros(n),
+            has_svd: false,
+            us: SmallVec::zeros(n * n),
+            s: SmallVec::zeros(n),
+            v: SmallVec::zeros(n * n),
+            g: SmallVec::zeros(n),
+            work: SmallVec::zeros(n * n),
+            row: SmallVec::zeros(n),
+            rhs: SmallVec::zeros(n),
             max_cos: 0.0,
         }
     }
 
-    /// Factorises `jac` (the Jacobian at the point with residuals `res` and
-    /// sum of squares `rss`): one Householder QR `J = Q R`, then the SVD of
-    /// the small triangle `R D⁻¹` (`D` column scaling, as `J D⁻¹ = Q R D⁻¹`).
+    /// Factorises `jac` in place (the Jacobian at the point with residuals
+    /// `res` and sum of squares `rss`; its contents are destroyed): one
+    /// Householder QR `J = Q R`, scaled to
+    /// `R D⁻¹` (`D` column scaling, as `J D⁻¹ = Q R D⁻¹`), and its SVD when
+    /// `want_svd` or when it may be needed (see the type's docs).
     ///
     /// With `update_d`, `D` first takes the larger of its entries and the
     /// current column norms (Moré's scaling); otherwise only zero entries
     /// are filled. Returns `false` when the factorisation is not finite.
+    #[allow(clippy::too_many_arguments)]
     fn factor(
         &mut self,
         sc: &mut Scratch,
-        jac: &DMatrix<f64>,
+        jac: &mut DMatrix<f64>,
         res: &[f64],
         rss: f64,
         d: &mut [f64],
         update_d: bool,
+        want_svd: bool,
     ) -> bool {
         let (m, n) = (self.m, self.n);
-        sc.work.copy_from_slice(jac.as_slice());
-        sc.qtr[..m].copy_from_slice(res);
-        sc.qtr[m..].iter_mut().for_each(|v| *v = 0.0);
-        linalg::householder_qr(&mut sc.work, m, n, &mut sc.qtr, &mut self.r);
+        sc.qtr.clear();
+        sc.qtr.extend_from_slice(res);
+        linalg::householder_qr(jac.as_mut_slice(), m, n, 0, &mut sc.qtr, &mut self.r_raw);
+        for (i, q) in self.qtr.iter_mut().enumerate() {
+            // Rows past m (when m < n) are zero.
+            *q = sc.qtr.get(i).copied().unwrap_or(0.0);
+        }
+        self.r.copy_from_slice(&self.r_raw);
         // ‖J_j‖ = ‖R_j‖ (Q is orthogonal), and Jᵀ res = Rᵀ (Qᵀ res)[..n].
         let res_norm = rss.sqrt();
         self.max_cos = 0.0;
-        for j in 0..n {
+        for (j, dj) in d.iter_mut().enumerate().take(n) {
             let col = &self.r[j * n..j * n + j + 1];
             let norm = linalg::norm2(col);
-            self.col_norm[j] = norm;
             if norm > 0.0 && res_norm > 0.0 {
-                let dot = linalg::dot(col, &sc.qtr[..j + 1]);
+                let dot = linalg::dot(col, &self.qtr[..j + 1]);
                 self.max_cos = self.max_cos.max(dot.abs() / (norm * res_norm));
             }
             if update_d {
-                d[j] = d[j].max(norm);
-            } else if d[j] == 0.0 {
-                d[j] = norm;
+                *dj = dj.max(norm);
+            } else if *dj == 0.0 {
+                *dj = norm;
             }
-            if d[j] == 0.0 {
-                d[j] = 1.0;
+            if *dj == 0.0 {
+                *dj = 1.0;
             }
-            self.r[j * n..(j + 1) * n]
-                .iter_mut()
-                .for_each(|v| *v /= d[j]);
+            let dj = *dj;
+            self.r[j * n..(j + 1) * n].iter_mut().for_each(|v| *v /= dj);
         }
-        if !linalg::jacobi_svd(&mut self.r, n, &mut self.s, &mut self.v) {
+        if !(self.max_cos.is_finite() && self.qtr.iter().all(|v| v.is_finite())) {
             return false;
         }
-        // Column j of r is s_j u_j, so g_j = u_jᵀ (Qᵀ res) = (s_j u_j)ᵀ qtr / s_j.
-        for j in 0..n {
-            let su = linalg::dot(&self.r[j * n..(j + 1) * n], &sc.qtr[..n]);
-            self.g[j] = if self.s[j] > 0.0 { su / self.s[j] } else { 0.0 };
+        self.has_svd = false;
+        if want_svd || !self.safely_conditioned() {
+            self.us.copy_from_slice(&self.r);
+            if !linalg::jacobi_svd(&mut self.us, n, &mut self.s, &mut self.v) {
+                return false;
+            }
+            // Column j of us is s_j u_j, so g_j = u_jᵀ (Qᵀ res).
+            for j in 0..n {
+                let su = linalg::dot(&self.us[j * n..(j + 1) * n], &self.qtr);
+                self.g[j] = if self.s[j] > 0.0 { su / self.s[j] } else { 0.0 };
+            }
+            self.has_svd = true;
+            return self.g.iter().all(|v| v.is_finite());
         }
-        self.max_cos.is_finite() && self.g.iter().all(|v| v.is_finite())
+        true
+    }
+
+    /// Whether no singular value of `R D⁻¹` can be below the truncation
+    /// threshold `s_max ε max(m, n)`: the 1-norm condition number of the
+    /// triangle (from its explicit inverse, n³/6 operations) bounds the
+    /// 2-norm one, `κ₂ ≤ n κ₁`, and is kept a factor 1000 inside the
+    /// threshold so that rounding in the estimate cannot matter.
+    fn safely_conditioned(&self) -> bool {
+        let n = self.n;
+        let r = &self.r;
+        if n > 4 {
+            return false;
+        }
+        // X = R⁻¹, upper triangular, column by column.
+        let mut x = [0.0f64; 16];
+        let (mut norm_r, mut norm_x) = (0.0f64, 0.0f64);
+        for j in 0..n {
+            x[j * n + j] = 1.0 / r[j * n + j];
+            for i in (0..j).rev() {
+                let mut acc = 0.0;
+                for k in i + 1..=j {
+                    acc += r[k * n + i] * x[j * n + k];
+                }
+                x[j * n + i] = -acc / r[i * n + i];
+            }
+            norm_r = norm_r.max((0..=j).map(|i| r[j * n + i].abs()).sum());
+            norm_x = norm_x.max((0..=j).map(|i| x[j * n + i].abs()).sum());
+        }
+        let kappa = n as f64 * norm_r * norm_x;
+        kappa.is_finite() && kappa * f64::EPSILON * (self.m.max(n) as f64) < 1e-3
     }
 
     /// The LM step in original coordinates for damping λ, written into
     /// `step`; returns the predicted reduction of the sum of squares.
-    fn step(&self, lambda: f64, d: &[f64], cutoff: f64, step: &mut [f64]) -> f64 {
+    fn step(&mut self, lambda: f64, d: &[f64], step: &mut [f64]) -> f64 {
         let n = self.n;
         step.iter_mut().for_each(|v| *v = 0.0);
-        let mut predicted = 0.0;
-        for i in 0..n {
-            let s = self.s[i];
-            if s <= cutoff {
-                continue;
+        let predicted = if self.has_svd {
+            let cutoff = self.max_singular() * f64::EPSILON * (self.m.max(n) as f64);
+            let mut predicted = 0.0;
+            for i in 0..n {
+                let s = self.s[i];
+                if s <= cutoff {
+                    continue;
+                }
+                let g = self.g[i];
+                let c = s * g / (s * s + lambda);
+                let fitted = s * c;
+                predicted += g * g - (g - fitted) * (g - fitted);
+                for (z, vi) in step.iter_mut().zip(&self.v[i * n..(i + 1) * n]) {
+                    *z += c * vi;
+                }
             }
-            let g = self.g[i];
-            let c = s * g / (s * s + lambda);
-            let fitted = s * c;
-            predicted += g * g - (g - fitted) * (g - fitted);
-            for (z, vi) in step.iter_mut().zip(&self.v[i * n..(i + 1) * n]) {
-                *z += c * vi;
+            predicted
+        } else {
+            self.solve_triangle(lambda, step);
+            // ‖Qᵀres‖² − ‖Qᵀres − R D⁻¹ z‖² over the first n rows.
+            let mut predicted = 0.0;
+            for i in 0..n {
+                let fitted: f64 = (i..n).map(|j| self.r[j * n + i] * step[j]).sum();
+                let g = self.qtr[i];
+                predicted += g * g - (g - fitted) * (g - fitted);
             }
-        }
+            predicted
+        };
         for (z, dj) in step.iter_mut().zip(d) {
             *z /= dj;
         }
         predicted
     }
 
-    fn max_singular(&self) -> f64 {
-        self.s.iter().cloned().fold(0.0, f64::max)
+    /// `z` minimising `‖R D⁻¹ z − (Qᵀres)[..n]‖² + λ ‖z‖²`, for a
+    /// nonsingular triangle.
+    fn solve_triangle(&mut self, lambda: f64, z: &mut [f64]) {
+        let n = self.n;
+        let (w, b) = (&mut self.work, &mut self.rhs);
+        w.copy_from_slice(&self.r);
+        b.copy_from_slice(&self.qtr);
+        if lambda > 0.0 {
+            // Rotate each row √λ eⱼᵀ of the damping block into the triangle.
+            let sq = lambda.sqrt();
+            for j in 0..n {
+                let row = &mut self.row;
+                row.iter_mut().for_each(|v| *v = 0.0);
+                row[j] = sq;
+                let mut extra = 0.0;
+                for k in j..n {
+                    if row[k] == 0.0 {
+                        continue;
+                    }
+                    // The rotation that zeroes row[k] against w[k][k],
+                    // without overflow (MINPACK's form).
+                    let (a, bk) = (w[k * n + k], row[k]);
+                    let (c, s) = if a.abs() < bk.abs() {
+                        let cot = a / bk;
+                        let s = 0.5 / (0.25 + 0.25 * cot * cot).sqrt();
+                        (s * cot, s)
+                    } else {
+                        let tan = bk / a;
+                        let c = 0.5 / (0.25 + 0.25 * tan * tan).sqrt();
+                        (c, c * tan)
+                    };
+                    for l in k..n {
+                        let (x, y) = (w[l * n + k], row[l]);
+                        w[l * n + k] = c * x + s * y;
+                        row[l] = -s * x + c * y;
+                    }
+                    let (x, y) = (b[k], extra);
+                    b[k] = c * x + s * y;
+                    extra = -s * x + c * y;
+                }
+            }
+        }
+        for i in (0..n).rev() {
+            let acc: f64 = (i + 1..n).map(|j| w[j * n + i] * z[j]).sum();
+            z[i] = (b[i] - acc) / w[i * n + i];
+        }
     }
 
-    /// Singular values at or below this count as zero (truncated SVD).
-    fn cutoff(&self) -> f64 {
-        self.max_singular() * f64::EPSILON * (self.m.max(self.n) as f64)
+    fn max_singular(&self) -> f64 {
+        self.s.iter().cloned().fold(0.0, f64::max)
     }
 }
 
@@ -323,28 +455,29 @@ impl Solver {
 
     /// Minimises the problem's sum of squares from `x0`.
     pub fn minimize<P: LeastSquares>(&self, problem: &P, x0: &[f64]) -> Outcome {
-        let mut jac = DMatrix::zeros(problem.n_residuals(), problem.n_unknowns());
-        self.minimize_with_jacobian(problem, x0, &mut jac)
+        self.minimize_factored(problem, x0, &mut Vec::new())
     }
 
-    /// [`Solver::minimize`], leaving the Jacobian at the returned `x` in
-    /// `jac` (`m × n`) unless the start was invalid, so that the caller's
-    /// statistics need not evaluate it again.
-    pub fn minimize_with_jacobian<P: LeastSquares>(
+    /// [`Solver::minimize`], also writing the triangular factor `R` of the
+    /// Jacobian at the returned `x` (`J = Q R`, column-major `n × n`) into
+    /// `r`, so that the caller's statistics need neither the Jacobian nor
+    /// its factorisation again; `r` is left empty when there is none (an
+    /// invalid start, or a factorisation that was not finite).
+    pub(crate) fn minimize_factored<P: LeastSquares>(
         &self,
         problem: &P,
         x0: &[f64],
-        jac: &mut DMatrix<f64>,
+        r: &mut Vec<f64>,
     ) -> Outcome {
+        r.clear();
         let m = problem.n_residuals();
         let n = problem.n_unknowns();
         let mut x = x0.to_vec();
         let mut res = vec![0.0; m];
         let mut trial_res = vec![0.0; m];
         let mut evaluations = 1;
-        if jac.shape() != (m, n) {
-            *jac = DMatrix::zeros(m, n);
-        }
+        let mut jac_buf = DMatrix::zeros(m, n);
+        let jac = &mut jac_buf;
         if x.len() != n
             || !problem.feasible(&x)
             || !problem.residuals_and_jacobian(&x, &mut res, jac)
@@ -357,22 +490,25 @@ impl Solver {
                 evaluations,
             };
         }
-        // Invariant from here on: `jac` is the Jacobian at `x`. Trial points
-        // are evaluated together with their Jacobian (one pass over the
-        // data, sharing the exponentials); it is swapped in on acceptance.
+        // Invariant from here on: `jac` is the Jacobian at `x`, or `lin`
+        // holds its factorisation (which overwrote it). Trial points are
+        // evaluated together with their Jacobian (one pass over the data,
+        // sharing the exponentials); it is swapped in on acceptance.
         let mut trial_jac = DMatrix::zeros(m, n);
         let mut rss = sum_sq(&res);
-        let mut d = vec![0.0f64; n];
+        let mut d = SmallVec::zeros(n);
         let mut lambda = -1.0;
         let mut nu = 2.0;
         let mut iterations = 0;
         let mut termination = Termination::MaxIterations;
         let mut new_point = true;
         let mut lin = Linearisation::new(m, n);
-        let mut scratch = Scratch::new(m, n);
-        // Whether `lin` holds the factorisation at the current `x`.
+        let mut scratch = Scratch::new(m);
+        // Whether `lin` holds the factorisation at the current `x`, and
+        // whether `jac` still holds the Jacobian (factor overwrites it).
         let mut lin_current = false;
-        let mut step = vec![0.0; n];
+        let mut jac_intact = true;
+        let mut step = SmallVec::zeros(n);
         let mut trial = vec![0.0; n];
 
         'outer: while iterations < self.max_iterations {
@@ -381,7 +517,8 @@ impl Solver {
                 break;
             }
             if new_point {
-                lin_current = lin.factor(&mut scratch, jac, &res, rss, &mut d, true);
+                jac_intact = false;
+                lin_current = lin.factor(&mut scratch, jac, &res, rss, &mut d, true, lambda < 0.0);
                 if !lin_current {
                     termination = Termination::NoProgress;
                     break;
@@ -398,11 +535,18 @@ impl Solver {
                 }
                 new_point = false;
             }
-            let cutoff = lin.cutoff();
             loop {
                 iterations += 1;
-                let predicted = lin.step(lambda, &d, cutoff, &mut step);
-                for ((t, a), b) in trial.iter_mut().zip(&x).zip(&step) {
+                let predicted = lin.step(lambda, &d, &mut step);
+                if predicted.abs() <= f64::EPSILON * rss && predicted <= self.ftol * rss {
+                    // The step can change the sum of squares by less than
+                    // its last digit: the acceptance test would judge
+                    // rounding noise. Converged as far as the sum of squares
+                    // can tell; the polish continues on the gradient.
+                    termination = Termination::SmallReduction;
+                    break 'outer;
+                }
+                for ((t, a), b) in trial.iter_mut().zip(&x).zip(step.iter()) {
                     *t = a + b;
                 }
                 let scaled_step = scaled_norm(&step, &d);
@@ -425,6 +569,7 @@ impl Solver {
                             std::mem::swap(&mut res, &mut trial_res);
                             std::mem::swap(jac, &mut trial_jac);
                             lin_current = false;
+                            jac_intact = true;
                             rss = trial_rss;
                             lambda *= (1.0f64 / 3.0).max(1.0 - (2.0 * rho - 1.0).powi(3));
                             nu = 2.0;
@@ -433,6 +578,15 @@ impl Solver {
                                 termination = Termination::SmallReduction;
                                 break 'outer;
                             }
+                        } else if actual.abs() <= self.ftol * rss && predicted <= self.ftol * rss {
+                            // A rejected step whose predicted and actual
+                            // changes are both below ftol (as in MINPACK's
+                            // test, which takes |actual|): the sum of
+                            // squares cannot be lowered measurably any more,
+                            // and more damping would only spend evaluations
+                            // on rounding noise.
+                            termination = Termination::SmallReduction;
+                            break 'outer;
                         }
                     }
                 }
@@ -455,21 +609,34 @@ impl Solver {
             }
         }
 
-        if std::env::var("DBG").is_ok() { eprintln!("LM end {:?} it {} x {:?} rss {:e}", termination, iterations, x, rss); }
         let mut state = PolishState {
             x: &mut x,
             res: &mut res,
             rss: &mut rss,
             jac,
+            jac_intact: &mut jac_intact,
             trial_res: &mut trial_res,
             trial_jac: &mut trial_jac,
         };
-        let polished = self.polish(problem, &mut state, &mut lin, &mut scratch, lin_current, &mut d);
+        let (polished, mut lin_current) = self.polish(
+            problem,
+            &mut state,
+            &mut lin,
+            &mut scratch,
+            lin_current,
+            &mut d,
+        );
         evaluations += polished;
         iterations += polished;
+        if !lin_current && jac_intact {
+            lin_current = lin.factor(&mut scratch, jac, &res, rss, &mut d, false, false);
+        }
+        if lin_current {
+            r.extend_from_slice(&lin.r_raw);
+        }
         // NoProgress right at the minimum (every step is below rounding) is
         // convergence; confirm it with the gradient test at a looser level.
-        if termination == Termination::NoProgress && max_cosine(jac, &res, rss) <= 1e-8 {
+        if termination == Termination::NoProgress && lin_current && lin.max_cos <= 1e-8 {
             termination = Termination::SmallGradient;
         }
         Outcome {
@@ -483,7 +650,8 @@ impl Solver {
 
     /// Undamped Gauss–Newton steps while they make progress.
     /// `lin_current` says whether `lin` already holds the factorisation at
-    /// the current point. Returns the number of evaluations spent.
+    /// the current point. Returns the number of evaluations spent and
+    /// whether `lin` holds the factorisation at the final point.
     ///
     /// A step is taken when it lowers the sum of squares. Close to the
     /// minimum the sum of squares changes only to second order in the step
@@ -503,23 +671,31 @@ impl Solver {
         scratch: &mut Scratch,
         mut lin_current: bool,
         d: &mut [f64],
-    ) -> usize {
+    ) -> (usize, bool) {
         let m = problem.n_residuals();
         let n = problem.n_unknowns();
-        let mut step = vec![0.0; n];
+        let mut step = SmallVec::zeros(n);
         let mut trial = vec![0.0; n];
         let mut trial_lin: Option<Linearisation> = None;
         let mut spent = 0;
         for _ in 0..self.polish_steps {
-            if !lin_current && !lin.factor(scratch, st.jac, st.res, *st.rss, d, false) {
-                break;
+            if !lin_current {
+                if !*st.jac_intact {
+                    break;
+                }
+                *st.jac_intact = false;
+                if !lin.factor(scratch, st.jac, st.res, *st.rss, d, false, false) {
+                    break;
+                }
+                lin_current = true;
             }
-            let cutoff = lin.cutoff();
-            lin.step(0.0, d, cutoff, &mut step);
-            for ((t, a), b) in trial.iter_mut().zip(st.x.iter()).zip(&step) {
+            lin.step(0.0, d, &mut step);
+            for ((t, a), b) in trial.iter_mut().zip(st.x.iter()).zip(step.iter()) {
                 *t = a + b;
             }
-            if trial == *st.x || !problem.feasible(&trial) {
+            let rel_step = scaled_norm(&step, d) / scaled_norm(st.x, d).max(f64::MIN_POSITIVE);
+            // A correction below rounding: the estimate is final.
+            if rel_step < 4.0 * f64::EPSILON || trial == *st.x || !problem.feasible(&trial) {
                 break;
             }
             spent += 1;
@@ -527,34 +703,39 @@ impl Solver {
                 break;
             }
             let trial_rss = sum_sq(st.trial_res);
-            if std::env::var("DBG").is_ok() { eprintln!("polish x {:?} step {:?} rss {:e} trial {:e} cos {:e}", st.x, step, *st.rss, trial_rss, lin.max_cos); }
             let mut trial_factored = false;
             if trial_rss > *st.rss {
                 if trial_rss > *st.rss * (1.0 + POLISH_RSS_SLACK) {
                     break;
                 }
                 let tl = trial_lin.get_or_insert_with(|| Linearisation::new(m, n));
-                if !tl.factor(scratch, st.trial_jac, st.trial_res, trial_rss, d, false)
-                    || tl.max_cos > 0.5 * lin.max_cos
+                if !tl.factor(
+                    scratch,
+                    st.trial_jac,
+                    st.trial_res,
+                    trial_rss,
+                    d,
+                    false,
+                    false,
+                ) || tl.max_cos > 0.5 * lin.max_cos
                 {
                     break;
                 }
                 trial_factored = true;
             }
-            let rel_step = scaled_norm(&step, d) / scaled_norm(st.x, d).max(f64::MIN_POSITIVE);
             std::mem::swap(st.x, &mut trial);
             std::mem::swap(st.res, st.trial_res);
             std::mem::swap(st.jac, st.trial_jac);
+            // The trial's Jacobian is intact unless the gradient test just
+            // factorised it (and then `lin` below holds that factorisation).
+            *st.jac_intact = !trial_factored;
             *st.rss = trial_rss;
             lin_current = trial_factored;
             if let (true, Some(tl)) = (trial_factored, trial_lin.as_mut()) {
                 std::mem::swap(lin, tl);
             }
-            if rel_step < 4.0 * f64::EPSILON {
-                break;
-            }
         }
-        spent
+        (spent, lin_current)
     }
 }
 
@@ -570,29 +751,13 @@ struct PolishState<'a> {
     res: &'a mut Vec<f64>,
     rss: &'a mut f64,
     jac: &'a mut DMatrix<f64>,
+    jac_intact: &'a mut bool,
     trial_res: &'a mut Vec<f64>,
     trial_jac: &'a mut DMatrix<f64>,
 }
 
-/// The largest |cosine| between the residual vector and a column of `jac`.
-fn max_cosine(jac: &DMatrix<f64>, res: &[f64], rss: f64) -> f64 {
-    let res_norm = rss.sqrt();
-    if res_norm == 0.0 {
-        return 0.0;
-    }
-    let mut max_cos: f64 = 0.0;
-    for j in 0..jac.ncols() {
-        let col_norm = jac.column(j).norm();
-        if col_norm > 0.0 {
-            let dot: f64 = jac.column(j).iter().zip(res).map(|(a, b)| a * b).sum();
-            max_cos = max_cos.max(dot.abs() / (col_norm * res_norm));
-        }
-    }
-    max_cos
-}
-
 fn sum_sq(v: &[f64]) -> f64 {
-    v.iter().map(|r| r * r).sum()
+    linalg::dot(v, v)
 }
 
 fn scaled_norm(v: &[f64], d: &[f64]) -> f64 {

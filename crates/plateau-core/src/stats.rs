@@ -18,10 +18,13 @@
 //! ```
 //!
 //! `(JᵀJ)⁻¹` is never formed from `JᵀJ`: it is `D⁻¹ V S⁻² Vᵀ D⁻¹` from the
-//! SVD `J D⁻¹ = U S Vᵀ`, with `D` the column norms of `J`. The condition
+//! SVD `J D⁻¹ = U S Vᵀ`, with `D` the column norms of `J` (the SVD of the
+//! tall `J D⁻¹` is taken as its Householder QR followed by the SVD of the
+//! small triangle, as LAPACK does for tall matrices). The condition
 //! number reported is `s_max / s_min` of that column-equilibrated `J D⁻¹`,
 //! which does not depend on the parameters' units.
 
+use crate::linalg;
 use nalgebra::DMatrix;
 use statrs::distribution::{ContinuousCDF, StudentsT};
 
@@ -39,29 +42,45 @@ pub struct Covariance {
 }
 
 /// Computes the covariance `sigma2 · (JᵀJ)⁻¹` through the SVD of the
-/// column-scaled Jacobian.
+/// column-scaled Jacobian (taken as a Householder QR and the SVD of its
+/// small triangular factor, see `linalg`).
 pub fn covariance(jac: &DMatrix<f64>, sigma2: f64) -> Covariance {
     let (m, p) = jac.shape();
+    let mut work = jac.as_slice().to_vec();
+    let mut r = vec![0.0; p * p];
+    linalg::householder_qr(&mut work, m, p, 0, &mut [], &mut r);
+    covariance_from_triangle(&r, p, m, sigma2)
+}
+
+/// [`covariance`] from the triangular factor `R` (column-major `p × p`) of
+/// a QR factorisation `J = Q R` of the `m × p` Jacobian: `J D⁻¹ = Q (R D⁻¹)`
+/// has the singular values and right singular vectors of `R D⁻¹`, and `D`
+/// (the column norms of `J`) are those of `R`. Householder QR is backward
+/// stable column by column, so scaling before or after it is the same.
+pub(crate) fn covariance_from_triangle(r: &[f64], p: usize, m: usize, sigma2: f64) -> Covariance {
     if p == 0 {
         return Covariance {
             matrix: Some(DMatrix::zeros(0, 0)),
             condition_number: 1.0,
         };
     }
-    let mut scaled = jac.clone();
+    let mut scaled = r[..p * p].to_vec();
     let mut d = vec![1.0; p];
     for (j, dj) in d.iter_mut().enumerate() {
-        let norm = jac.column(j).norm();
+        let col = &mut scaled[j * p..(j + 1) * p];
+        let norm = linalg::norm2(col);
         if norm > 0.0 && norm.is_finite() {
             *dj = norm;
-            scaled.column_mut(j).unscale_mut(norm);
+            col.iter_mut().for_each(|v| *v /= norm);
         }
     }
-    let svd = scaled.svd(false, true);
-    let s = &svd.singular_values;
+    // R D⁻¹ = U S Vᵀ.
+    let mut s = vec![0.0; p];
+    let mut v = vec![0.0; p * p];
+    let finite = linalg::jacobi_svd(&mut scaled, p, &mut s, &mut v);
     let smax = s.iter().cloned().fold(0.0, f64::max);
     let smin = s.iter().cloned().fold(f64::INFINITY, f64::min);
-    let condition_number = if smin > 0.0 {
+    let condition_number = if finite && smin > 0.0 {
         smax / smin
     } else {
         f64::INFINITY
@@ -70,22 +89,15 @@ pub fn covariance(jac: &DMatrix<f64>, sigma2: f64) -> Covariance {
     // Singular unless smin > rank_tol; a NaN on either side counts as singular.
     let singular = smin.partial_cmp(&rank_tol) != Some(std::cmp::Ordering::Greater)
         || !condition_number.is_finite();
-    let matrix = match (&svd.v_t, singular) {
-        (Some(v_t), false) => {
-            let mut cov = DMatrix::zeros(p, p);
-            for a in 0..p {
-                for b in 0..p {
-                    let mut acc = 0.0;
-                    for (k, sk) in s.iter().enumerate() {
-                        acc += v_t[(k, a)] * v_t[(k, b)] / (sk * sk);
-                    }
-                    cov[(a, b)] = sigma2 * acc / (d[a] * d[b]);
-                }
-            }
-            Some(cov)
-        }
-        _ => None,
-    };
+    let matrix = (!singular).then(|| {
+        DMatrix::from_fn(p, p, |a, b| {
+            // V is column-major: V[a][k] = v[k p + a].
+            let acc: f64 = (0..p)
+                .map(|k| v[k * p + a] * v[k * p + b] / (s[k] * s[k]))
+                .sum();
+            sigma2 * acc / (d[a] * d[b])
+        })
+    });
     Covariance {
         matrix,
         condition_number,
@@ -98,11 +110,69 @@ pub fn t_quantile(level: f64, dof: usize) -> f64 {
     if dof == 0 {
         return f64::INFINITY;
     }
+    // The 95 % intervals of every fit need this; the usual degrees of
+    // freedom come from the table (statrs' own values, see the test), the
+    // rest from statrs' iterative inversion.
+    if level == 0.95 && dof <= T95.len() {
+        return T95[dof - 1];
+    }
+    t_quantile_statrs(level, dof)
+}
+
+/// [`t_quantile`] from statrs, for `dof > 0`.
+fn t_quantile_statrs(level: f64, dof: usize) -> f64 {
     match StudentsT::new(0.0, 1.0, dof as f64) {
         Ok(t) => t.inverse_cdf(0.5 + level / 2.0),
         Err(_) => f64::NAN,
     }
 }
+
+/// `t_quantile(0.95, dof)` for `dof = 1..=120` as statrs computes it
+/// (`StudentsT::inverse_cdf`, statrs 0.19, in this crate's release build;
+/// other builds of statrs differ from these in the last few bits).
+#[rustfmt::skip]
+const T95: [f64; 120] = [
+    12.70620473617469, 4.302652729749467, 3.1824463052837046,
+    2.776445105197795, 2.570581835636315, 2.4469118511449652,
+    2.364624251592785, 2.3060041352041707, 2.2621571627982036,
+    2.2281388519862744, 2.200985160091634, 2.1788128296672054,
+    2.1603686564628095, 2.1447866879177897, 2.131449545559734,
+    2.1199052992212404, 2.109815577833272, 2.1009220402409565,
+    2.0930240544082417, 2.0859634472657946, 2.0796138447275436,
+    2.0738730679038766, 2.068657610418929, 2.0638985616278602,
+    2.059538552753143, 2.0555294386426555, 2.0518305164800905,
+    2.048407141795102, 2.0452296421323903, 2.042272456301077,
+    2.039513446396162, 2.036933343459848, 2.034515297449029,
+    2.0322445093174224, 2.0301079282501253, 2.0280940009801527,
+    2.0261924630287873, 2.0243941639117082, 2.022690920036388,
+    2.021075390305952, 2.019540970441052, 2.018081702818092,
+    2.0166921992275086, 2.0153675744433777, 2.0141033888805735,
+    2.0128955989190587, 2.0117405137293503, 2.0106347576239343,
+    2.0095752371287796, 2.008559112100458, 2.007583770315455,
+    2.006646805061305, 2.0057459953174694, 2.0048792881877437,
+    2.0040447832887116, 2.0032407188474544, 2.0024654592905926,
+    2.001717484144878, 2.000995378087846, 2.000297822013847,
+    1.9996235849945365, 1.9989715170330102, 1.9983405425202192,
+    1.9977296543172944, 1.9971379083916718, 1.996564418951833,
+    1.9960083540249391, 1.9954689314292693, 1.9949454151068418,
+    1.9944371117708188, 1.9939433678452052, 1.9934635666614329,
+    1.9929971258893768, 1.9925434951805556, 1.9921021540017638,
+    1.9916726096442225, 1.9912543953879938, 1.9908470688112163,
+    1.990450210229703, 1.990063421253937, 1.98968632345646,
+    1.989318557136158, 1.988959780174769, 1.9886096669751716,
+    1.9882679074768672, 1.9879342062385705, 1.9876082815885148,
+    1.9872898648307815, 1.9869786995058272, 1.9866745407033068,
+    1.9863771544180795, 1.9860863169507514, 1.98580181434533,
+    1.9855234418661645, 1.9852510035050335, 1.9849843115219719,
+    1.9847231860135324, 1.9844674545081167, 1.984216951585909,
+    1.9839715185230007, 1.9837310029552149, 1.9834952585623886,
+    1.983264144772886, 1.983037526483354, 1.982815273794566,
+    1.9825972617650174, 1.9823833701752787, 1.9821734833072224,
+    1.981967489736024, 1.9817652821318557, 1.9815667570745144,
+    1.9813718148757546, 1.981180359414233, 1.9809922979754242,
+    1.9808075411033819, 1.9806260024585243, 1.980447598682956,
+    1.9802722492725855, 1.980099876456417, 1.9799304050819853,
+];
 
 /// Information criteria for a Gaussian least-squares fit of `p` parameters
 /// (σ is counted as one more, see the module docs).
@@ -139,8 +209,8 @@ pub fn criteria(rss: f64, n: usize, p: usize) -> Criteria {
 /// `1 − RSS / TSS`, with TSS the sum of squares about the mean of `y`.
 pub fn r_squared(rss: f64, y: &[f64]) -> f64 {
     let n = y.len() as f64;
-    let mean = y.iter().sum::<f64>() / n;
-    let tss: f64 = y.iter().map(|v| (v - mean) * (v - mean)).sum();
+    let mean = linalg::sum_by(y, |v| v) / n;
+    let tss = linalg::sum_by(y, |v| (v - mean) * (v - mean));
     if tss > 0.0 {
         1.0 - rss / tss
     } else {
@@ -160,6 +230,22 @@ mod tests {
             let got = t_quantile(0.95, dof);
             assert!((got - want).abs() < 1e-3, "dof {dof}: {got} vs {want}");
         }
+    }
+
+    /// The 95 % table holds the values statrs computes.
+    #[test]
+    fn t95_table_is_statrs() {
+        // statrs' iteration itself is good to about 1e-15 and its last bits
+        // vary between builds (inlining changes its rounding).
+        for (i, &t) in T95.iter().enumerate() {
+            let want = t_quantile_statrs(0.95, i + 1);
+            assert!(
+                (t - want).abs() <= 1e-14 * want,
+                "dof {}: {t} vs {want}",
+                i + 1
+            );
+        }
+        assert_eq!(t_quantile(0.95, 121), t_quantile_statrs(0.95, 121));
     }
 
     /// Linear regression y = a + b x has the textbook covariance

@@ -183,6 +183,38 @@ pub fn wrap(text: &str, width: usize) -> Vec<String> {
     lines
 }
 
+/// The forecast part of a fitted curve: dashed, labelled "forecast" in the
+/// legend, in one style for every chart.
+pub fn forecast_line<'a, DB: DrawingBackend + 'a, I>(
+    chart: &mut Chart<'a, '_, DB>,
+    points: I,
+    stroke: ShapeStyle,
+    scale: Scale,
+) -> Result<(), ChartError>
+where
+    I: IntoIterator<Item = (f64, f64)>,
+    I::IntoIter: Clone,
+{
+    chart
+        .draw_series(DashedLineSeries::new(
+            points,
+            scale.px(9.0),
+            scale.px(6.0),
+            stroke,
+        ))?
+        .label("forecast")
+        .legend(move |(x, y)| {
+            let dash = scale.pxi(7.0);
+            EmptyElement::at((x, y))
+                + PathElement::new([(0, 0), (dash, 0)], stroke)
+                + PathElement::new(
+                    [(dash + scale.pxi(5.0), 0), (2 * dash + scale.pxi(5.0), 0)],
+                    stroke,
+                )
+        });
+    Ok(())
+}
+
 /// The legend box, in one style for every chart.
 pub fn legend<'a, DB: DrawingBackend + 'a>(
     chart: &mut Chart<'a, '_, DB>,

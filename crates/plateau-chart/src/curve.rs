@@ -145,23 +145,12 @@ pub fn draw_curve<DB: DrawingBackend>(
         .label(format!("fitted {}", model.name()))
         .legend(move |(x, y)| PathElement::new([(x, y), (x + scale.pxi(20.0), y)], line));
     if forecast.len() >= 2 {
-        chart
-            .draw_series(DashedLineSeries::new(
-                forecast.iter().map(|s| (s.t, clamp(s.fit))),
-                scale.px(9.0),
-                scale.px(6.0),
-                line,
-            ))?
-            .label("forecast")
-            .legend(move |(x, y)| {
-                let dash = scale.pxi(7.0);
-                EmptyElement::at((x, y))
-                    + PathElement::new([(0, 0), (dash, 0)], line)
-                    + PathElement::new(
-                        [(dash + scale.pxi(5.0), 0), (2 * dash + scale.pxi(5.0), 0)],
-                        line,
-                    )
-            });
+        common::forecast_line(
+            &mut chart,
+            forecast.iter().map(|s| (s.t, clamp(s.fit))),
+            line,
+            scale,
+        )?;
     }
 
     // Midpoint (logistic) or inflection point, if it lies on the chart.

@@ -120,23 +120,7 @@ pub fn draw_rate<DB: DrawingBackend>(
         .label(format!("fitted {} dy/dt", model.name()))
         .legend(move |(x, y)| PathElement::new([(x, y), (x + scale.pxi(20.0), y)], stroke));
     if forecast.len() >= 2 {
-        chart
-            .draw_series(DashedLineSeries::new(
-                forecast,
-                scale.px(9.0),
-                scale.px(6.0),
-                stroke,
-            ))?
-            .label("forecast")
-            .legend(move |(x, y)| {
-                let dash = scale.pxi(7.0);
-                EmptyElement::at((x, y))
-                    + PathElement::new([(0, 0), (dash, 0)], stroke)
-                    + PathElement::new(
-                        [(dash + scale.pxi(5.0), 0), (2 * dash + scale.pxi(5.0), 0)],
-                        stroke,
-                    )
-            });
+        common::forecast_line(&mut chart, forecast, stroke, scale)?;
     }
 
     if let Some((tc, rc)) = peak {

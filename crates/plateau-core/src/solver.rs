@@ -137,6 +137,12 @@ pub struct Solver {
     pub gtol: f64,
     pub max_iterations: usize,
     pub polish_steps: usize,
+    /// The first damping, relative to the largest squared singular value
+    /// of the scaled Jacobian at the start: `λ₀ = initial_damping · s_max²`.
+    /// The usual 10⁻³ is cautious far from the minimum; a start known to
+    /// be close (see `fit`'s presolve) takes a smaller value, so that the
+    /// first steps are nearly Gauss–Newton steps.
+    pub initial_damping: f64,
 }
 
 impl Default for Solver {
@@ -147,6 +153,7 @@ impl Default for Solver {
             gtol: 1e-12,
             max_iterations: 500,
             polish_steps: 20,
+            initial_damping: 1e-3,
         }
     }
 }
@@ -452,6 +459,10 @@ impl Solver {
         self.max_iterations = v;
         self
     }
+    pub fn with_initial_damping(mut self, v: f64) -> Self {
+        self.initial_damping = v;
+        self
+    }
 
     /// Minimises the problem's sum of squares from `x0`.
     pub fn minimize<P: LeastSquares>(&self, problem: &P, x0: &[f64]) -> Outcome {
@@ -531,7 +542,7 @@ impl Solver {
                 }
                 if lambda < 0.0 {
                     let smax = lin.max_singular();
-                    lambda = 1e-3 * smax * smax;
+                    lambda = self.initial_damping * smax * smax;
                 }
                 new_point = false;
             }

@@ -19,11 +19,15 @@
 //! a [`fit::Fit`]; [`compare::compare`] ranks every model by AICc.
 
 pub mod analysis;
+pub mod bootstrap;
 pub mod compare;
 pub mod data;
+pub mod drift;
 pub mod fit;
+pub mod forecast;
 mod linalg;
 mod mathfn;
+pub mod milestones;
 pub mod model;
 pub mod report;
 pub mod solver;

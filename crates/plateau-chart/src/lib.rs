@@ -6,7 +6,8 @@
 //! [`ChartKind`], the five drawing functions [`draw_curve`],
 //! [`draw_residuals`], [`draw_symmetry`], [`draw_linear`] and [`draw_rate`]
 //! (plus the dispatcher [`draw`]), the straight-line transform
-//! [`linearise`], [`render_svg`], and [`ChartError`].
+//! [`linearise`], [`render_svg`], and [`ChartError`]. The drift chart
+//! ([`draw_drift`], [`render_drift_svg`]) has its own input, [`DriftInput`].
 //!
 //! No fonts are loaded: text goes through plotters' built-in font handling
 //! (no `ttf` feature), which on SVG emits `<text>` elements for the viewer
@@ -19,6 +20,7 @@
 
 mod common;
 mod curve;
+mod drift;
 mod linear;
 pub mod palette;
 mod rate;
@@ -33,6 +35,7 @@ use std::fmt;
 
 pub use common::{format_value, plain_time};
 pub use curve::draw_curve;
+pub use drift::{draw_drift, render_drift_svg, DriftInput};
 pub use linear::{draw_linear, linearise};
 pub use rate::draw_rate;
 pub use residuals::draw_residuals;

@@ -25,6 +25,7 @@ pub mod data;
 pub mod drift;
 pub mod fit;
 pub mod forecast;
+pub mod forecast_report;
 mod linalg;
 mod mathfn;
 pub mod milestones;

@@ -67,9 +67,13 @@ impl Target {
     }
 }
 
-/// Shares of up to six significant digits without trailing zeros.
+/// `x` to six significant digits, without trailing zeros.
 fn trim(x: f64) -> String {
-    let s = format!("{}", (x * 1e6).round() / 1e6);
+    if x == 0.0 || !x.is_finite() {
+        return format!("{x}");
+    }
+    let m = 10f64.powi(5 - x.abs().log10().floor() as i32);
+    let s = format!("{}", (x * m).round() / m);
     s.strip_suffix(".0").map(str::to_string).unwrap_or(s)
 }
 

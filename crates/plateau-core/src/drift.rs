@@ -91,13 +91,42 @@ fn n_free(model: Model, opts: &FitOptions) -> usize {
 /// Refits `model` on every prefix of `(t, y)` from `n_free + 1` points to
 /// all of them, in time order. See the module docs.
 pub fn drift(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Vec<DriftRow> {
+    drift_sampled(t, y, model, opts, usize::MAX)
+}
+
+/// [`drift`] on at most `max_rows` prefixes, evenly spread from the
+/// smallest to all the data (the last one always included): for long
+/// series on the page, where a chart cannot show a thousand bars anyway.
+pub fn drift_sampled(
+    t: &[f64],
+    y: &[f64],
+    model: Model,
+    opts: &FitOptions,
+    max_rows: usize,
+) -> Vec<DriftRow> {
     let order = time_order(t);
     let ts: Vec<f64> = order.iter().map(|&i| t[i]).collect();
     let ys: Vec<f64> = order.iter().map(|&i| y[i]).collect();
     let first = n_free(model, opts) + 1;
+    let n = ts.len();
+    if n < first || max_rows == 0 {
+        return Vec::new();
+    }
+    let count = n - first + 1;
+    let sizes: Vec<usize> = if count <= max_rows {
+        (first..=n).collect()
+    } else if max_rows == 1 {
+        vec![n]
+    } else {
+        let mut v: Vec<usize> = (0..max_rows)
+            .map(|i| first + (i * (count - 1) + (max_rows - 1) / 2) / (max_rows - 1))
+            .collect();
+        v.dedup();
+        v
+    };
     let mut prev: Option<Fit> = None;
     let mut rows = Vec::new();
-    for m in first..=ts.len() {
+    for m in sizes {
         let result = warm_fit(&ts[..m], &ys[..m], model, opts, prev.as_ref());
         let row = DriftRow {
             m,

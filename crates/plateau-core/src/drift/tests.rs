@@ -123,3 +123,16 @@ fn backtest_scores_are_the_errors_of_the_forecasts_made() {
     let mape = sum_pct / count as f64;
     assert!((s.mape.unwrap() - mape).abs() < 1e-4 * mape);
 }
+
+#[test]
+fn sampled_drift_keeps_the_ends_and_matches_the_full_rows() {
+    let (t, y) = logistic_exact(60);
+    let full = drift(&t, &y, Model::Logistic, &FitOptions::default());
+    let some = drift_sampled(&t, &y, Model::Logistic, &FitOptions::default(), 10);
+    assert_eq!(some.len(), 10);
+    assert_eq!(some[0].m, 4);
+    assert_eq!(some[9].m, 60);
+    assert!(some.windows(2).all(|w| w[0].m < w[1].m));
+    let k = |r: &DriftRow| r.result.as_ref().unwrap().params[0].estimate;
+    assert!((k(&some[9]) - k(full.last().unwrap())).abs() < 1e-6);
+}

@@ -26,6 +26,9 @@ pub struct DriftInput<'a> {
 /// at the frame, so early prefixes with huge intervals do not flatten the rest.
 const BAR_OVERSHOOT: f64 = 0.5;
 
+/// One fitted prefix: cutoff, estimate and its interval.
+type Prefix = (f64, f64, Option<(f64, f64)>);
+
 /// Draws the drift chart of `rows` (from [`plateau_core::drift::drift`]).
 pub fn draw_drift<DB: DrawingBackend>(
     area: &DrawingArea<DB, Shift>,
@@ -41,7 +44,7 @@ pub fn draw_drift<DB: DrawingBackend>(
     };
     let title = format!("{name} as the data arrived ({})", input.model.name());
     // (cutoff, estimate, interval) of every prefix that was fitted.
-    let pts: Vec<(f64, f64, Option<(f64, f64)>)> = rows
+    let pts: Vec<Prefix> = rows
         .iter()
         .filter_map(|r| {
             let f = r.result.as_ref().ok()?;
@@ -69,8 +72,13 @@ pub fn draw_drift<DB: DrawingBackend>(
     // ones and the bars up to BAR_OVERSHOOT of that spread.
     let late = &pts[pts.len() / 2..];
     let core = common::extent(late.iter().map(|p| p.1)).unwrap_or((0.0, 1.0));
-    let span = (core.1 - core.0).max(core.1.abs() * 0.05).max(f64::MIN_POSITIVE);
-    let lim = (core.0 - BAR_OVERSHOOT * span * 4.0, core.1 + BAR_OVERSHOOT * span * 4.0);
+    let span = (core.1 - core.0)
+        .max(core.1.abs() * 0.05)
+        .max(f64::MIN_POSITIVE);
+    let lim = (
+        core.0 - BAR_OVERSHOOT * span * 4.0,
+        core.1 + BAR_OVERSHOOT * span * 4.0,
+    );
     let all = common::extent(
         pts.iter()
             .flat_map(|p| [Some(p.1), p.2.map(|c| c.0), p.2.map(|c| c.1)])
@@ -121,7 +129,13 @@ pub fn draw_drift<DB: DrawingBackend>(
         )?
         .label("95% interval")
         .legend(move |(x, y)| {
-            PathElement::new([(x + scale.pxi(10.0), y - scale.pxi(6.0)), (x + scale.pxi(10.0), y + scale.pxi(6.0))], bar)
+            PathElement::new(
+                [
+                    (x + scale.pxi(10.0), y - scale.pxi(6.0)),
+                    (x + scale.pxi(10.0), y + scale.pxi(6.0)),
+                ],
+                bar,
+            )
         });
 
     let last = pts[pts.len() - 1].1;
@@ -141,10 +155,7 @@ pub fn draw_drift<DB: DrawingBackend>(
         });
 
     let line = ShapeStyle::from(INK).stroke_width(scale.px(1.5));
-    chart.draw_series(LineSeries::new(
-        pts.iter().map(|p| (p.0, clamp(p.1))),
-        line,
-    ))?;
+    chart.draw_series(LineSeries::new(pts.iter().map(|p| (p.0, clamp(p.1))), line))?;
     let r = scale.px(3.5);
     chart
         .draw_series(

@@ -14,8 +14,8 @@ mod table;
 use anyhow::{Context, Result};
 use clap::Parser;
 use cli::{Cli, Command};
-use plateau_core::compare::compare;
 use plateau_core::bootstrap::Bootstrap;
+use plateau_core::compare::compare;
 use plateau_core::data::TimeKind;
 use plateau_core::forecast_report::{BacktestReport, DriftReport, ForecastReport};
 use plateau_core::report::{CompareReport, FitReport};
@@ -162,11 +162,8 @@ fn run(cli: Cli) -> Result<(), Failure> {
                 &future,
                 boot.as_ref(),
             );
-            let targets = milestones::standard_targets(
-                settings.model,
-                &settings.shares,
-                &settings.levels,
-            );
+            let targets =
+                milestones::standard_targets(settings.model, &settings.shares, &settings.levels);
             let assessed: Vec<_> = targets
                 .iter()
                 .map(|&t| milestones::assess(&result, t, first, last, boot.as_ref()))

@@ -16,7 +16,11 @@ fn pair(x: Option<[f64; 2]>) -> String {
 pub fn forecast(name: &str, r: &ForecastReport, boot: Option<&Bootstrap>) -> String {
     let mut s = String::new();
     let _ = writeln!(s, "model      {}    {}", r.model, r.formula);
-    let _ = writeln!(s, "data       {name}: {} points; forecast to {}", r.n, r.until_text);
+    let _ = writeln!(
+        s,
+        "data       {name}: {} points; forecast to {}",
+        r.n, r.until_text
+    );
     match (&r.bootstrap, boot) {
         (Some(b), Some(_)) => {
             let _ = writeln!(
@@ -26,7 +30,10 @@ pub fn forecast(name: &str, r: &ForecastReport, boot: Option<&Bootstrap>) -> Str
             );
         }
         _ => {
-            let _ = writeln!(s, "bootstrap  not run (add --bootstrap for bootstrap intervals)");
+            let _ = writeln!(
+                s,
+                "bootstrap  not run (add --bootstrap for bootstrap intervals)"
+            );
         }
     }
     let _ = writeln!(s);
@@ -41,7 +48,11 @@ pub fn forecast(name: &str, r: &ForecastReport, boot: Option<&Bootstrap>) -> Str
             "{:<6} {:>14}  {:<31} {:<31}",
             n,
             num(p.estimate),
-            if p.fixed { "fixed".into() } else { pair(p.ci95) },
+            if p.fixed {
+                "fixed".into()
+            } else {
+                pair(p.ci95)
+            },
             pair(p.bootstrap_ci95)
         );
     }
@@ -158,7 +169,11 @@ pub fn backtest(name: &str, horizon: usize, rows: &[ModelBacktest]) -> String {
             m.origins,
             m.failed
         );
-        let _ = writeln!(s, "  {:>3} {:>6} {:>14} {:>10}", "h", "count", "MAE", "MAPE %");
+        let _ = writeln!(
+            s,
+            "  {:>3} {:>6} {:>14} {:>10}",
+            "h", "count", "MAE", "MAPE %"
+        );
         for h in &m.by_horizon {
             let _ = writeln!(
                 s,

@@ -2,8 +2,8 @@
 //! options, with a message naming the flag when one is wrong.
 
 use crate::cli::{BacktestArgs, CompareArgs, DriftArgs, FitArgs, ForecastArgs, InputArgs};
-use plateau_core::bootstrap::{BootstrapOptions, Resampling, DEFAULT_SEED};
 use anyhow::{anyhow, bail, Result};
+use plateau_core::bootstrap::{BootstrapOptions, Resampling, DEFAULT_SEED};
 use plateau_core::data::ColumnRef;
 use plateau_core::{FitOptions, Model, ParseOptions};
 

@@ -51,7 +51,14 @@ fn drift_bench(c: &mut Criterion) {
     let mut group = c.benchmark_group("drift");
     group.sample_size(20);
     group.bench_function("logistic_n200", |b| {
-        b.iter(|| drift(black_box(&t), black_box(&y), Model::Logistic, &FitOptions::default()))
+        b.iter(|| {
+            drift(
+                black_box(&t),
+                black_box(&y),
+                Model::Logistic,
+                &FitOptions::default(),
+            )
+        })
     });
     group.finish();
 }

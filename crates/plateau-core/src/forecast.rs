@@ -27,7 +27,11 @@ pub fn prediction_band(fit: &Fit, t: f64, level: f64) -> Option<(f64, f64)> {
     let tq = t_quantile(level, fit.dof);
     let y = fit.predict(t);
     // The confidence band's half-width is tq · sd_mean.
-    let sd_mean = if tq > 0.0 { (hi - lo) / (2.0 * tq) } else { 0.0 };
+    let sd_mean = if tq > 0.0 {
+        (hi - lo) / (2.0 * tq)
+    } else {
+        0.0
+    };
     let half = tq * (sd_mean * sd_mean + fit.sigma * fit.sigma).sqrt();
     (half.is_finite() && y.is_finite()).then_some((y - half, y + half))
 }

@@ -154,10 +154,13 @@ impl MilestoneReport {
             verdict: a.verdict.as_str(),
             note: a.note.clone(),
             estimate: a.estimate,
-            time_text: a
-                .estimate
-                .filter(|_| a.verdict.shows_time())
-                .map(|t| if is_duration { format!("{t:.4}") } else { text(t) }),
+            time_text: a.estimate.filter(|_| a.verdict.shows_time()).map(|t| {
+                if is_duration {
+                    format!("{t:.4}")
+                } else {
+                    text(t)
+                }
+            }),
             delta95: a.delta.map(|(x, y)| [x, y]),
             bootstrap95: a.bootstrap.map(|q| [q.lo, q.hi]),
             bootstrap_reached: a.bootstrap.map(|q| q.share_existing()),

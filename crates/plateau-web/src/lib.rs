@@ -11,9 +11,9 @@
 pub mod session;
 
 use plateau_chart::{ChartInput, ChartKind};
+use plateau_core::bootstrap::Bootstrap;
 use plotters::prelude::IntoDrawingArea;
 use plotters_canvas::CanvasBackend;
-use plateau_core::bootstrap::Bootstrap;
 use session::{Analysis, Settings};
 use wasm_bindgen::prelude::*;
 use web_sys::HtmlCanvasElement;

@@ -8,11 +8,11 @@
 
 use plateau_core::analysis;
 use plateau_core::bootstrap::{Bootstrap, BootstrapOptions, Resampling, DEFAULT_SEED};
-use plateau_core::drift::{drift_sampled, DriftRow};
-use plateau_core::milestones::{self, Assessment, Target};
 use plateau_core::compare::compare;
 use plateau_core::data::{cumulate, decline_warning, ColumnRef, DataError, TimeKind};
+use plateau_core::drift::{drift_sampled, DriftRow};
 use plateau_core::fit::{fit_xy, Fit, FitOptions};
+use plateau_core::milestones::{self, Assessment, Target};
 use plateau_core::report::{FitReport, CAUTION};
 use plateau_core::{parse_series, Model, ParseOptions, Series, Warning};
 use serde::{Deserialize, Serialize};
@@ -385,8 +385,15 @@ fn milestone_rows(
     fmt_t: &dyn Fn(f64) -> String,
 ) -> Vec<MilestoneRow> {
     let share = settings.share / 100.0;
-    let shares: Vec<f64> = (share > 0.0 && share < 1.0).then_some(share).into_iter().collect();
-    let levels: Vec<f64> = settings.level.filter(|l| l.is_finite()).into_iter().collect();
+    let shares: Vec<f64> = (share > 0.0 && share < 1.0)
+        .then_some(share)
+        .into_iter()
+        .collect();
+    let levels: Vec<f64> = settings
+        .level
+        .filter(|l| l.is_finite())
+        .into_iter()
+        .collect();
     milestones::standard_targets(fit.model, &shares, &levels)
         .into_iter()
         .map(|t| milestones::assess(fit, t, t_first, t_last, boot))

@@ -241,8 +241,19 @@ fn per_period_counts_are_summed_before_fitting() {
 fn forecast_json_has_bands_milestones_and_a_reproducible_bootstrap() {
     let file = demo("fenwick_vale_subscribers.csv");
     let args = [
-        "forecast", &file, "--until", "50", "--bootstrap", "200", "--seed", "5", "--level",
-        "9000", "--share", "75", "--json",
+        "forecast",
+        &file,
+        "--until",
+        "50",
+        "--bootstrap",
+        "200",
+        "--seed",
+        "5",
+        "--level",
+        "9000",
+        "--share",
+        "75",
+        "--json",
     ];
     let v = json(&plateau(&args, None));
     let again = json(&plateau(&args, None));
@@ -292,14 +303,25 @@ fn forecast_json_has_bands_milestones_and_a_reproducible_bootstrap() {
     let mut other = args.to_vec();
     other[7] = "6";
     let w = json(&plateau(&other, None));
-    assert_ne!(v["params"]["K"]["bootstrap_ci95"], w["params"]["K"]["bootstrap_ci95"]);
+    assert_ne!(
+        v["params"]["K"]["bootstrap_ci95"],
+        w["params"]["K"]["bootstrap_ci95"]
+    );
 }
 
 #[test]
 fn forecast_reads_until_in_the_data_time_format_and_refuses_bad_values() {
     let file = demo("tariff_share_monthly.csv");
     let v = json(&plateau(
-        &["forecast", &file, "-m", "logistic4", "--until", "2026-06-01", "--json"],
+        &[
+            "forecast",
+            &file,
+            "-m",
+            "logistic4",
+            "--until",
+            "2026-06-01",
+            "--json",
+        ],
         None,
     ));
     assert_eq!(v["until_text"], "2026-06-01");
@@ -307,16 +329,25 @@ fn forecast_reads_until_in_the_data_time_format_and_refuses_bad_values() {
     let out = plateau(&["forecast", &file, "--until", "2026Q9"], None);
     assert_eq!(out.status.code(), Some(2));
     let err = String::from_utf8_lossy(&out.stderr);
-    assert!(err.contains("--until") && err.contains("YYYY-MM-DD"), "{err}");
+    assert!(
+        err.contains("--until") && err.contains("YYYY-MM-DD"),
+        "{err}"
+    );
     let out = plateau(&["forecast", &file, "--until", "2019-06-01"], None);
     assert_eq!(out.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&out.stderr).contains("after the last observation"));
     let out = plateau(&["forecast", &file, "--until", "2030", "--seed", "3"], None);
     assert_eq!(out.status.code(), Some(2));
-    let out = plateau(&["forecast", &file, "--until", "2030", "--share", "100"], None);
+    let out = plateau(
+        &["forecast", &file, "--until", "2030", "--share", "100"],
+        None,
+    );
     assert_eq!(out.status.code(), Some(2));
     // Tables for people carry the caution.
-    let out = plateau(&["forecast", &file, "-m", "logistic4", "--until", "2026"], None);
+    let out = plateau(
+        &["forecast", &file, "-m", "logistic4", "--until", "2026"],
+        None,
+    );
     assert!(out.status.success());
     assert!(String::from_utf8_lossy(&out.stdout).contains("Forecasts are extrapolations"));
 }
@@ -331,7 +362,9 @@ fn drift_reports_every_prefix_and_writes_its_chart() {
     assert_eq!(rows.last().unwrap()["m"], 30);
     // The last prefix is all the data: the same K as `plateau fit`.
     let fit = json(&plateau(&["fit", &file, "--json"], None));
-    let k = rows.last().unwrap()["params"]["K"]["estimate"].as_f64().unwrap();
+    let k = rows.last().unwrap()["params"]["K"]["estimate"]
+        .as_f64()
+        .unwrap();
     let k_fit = fit["params"]["K"]["estimate"].as_f64().unwrap();
     assert!((k - k_fit).abs() < 1e-6 * k_fit);
     let dir = std::env::temp_dir().join(format!("plateau-drift-{}", std::process::id()));

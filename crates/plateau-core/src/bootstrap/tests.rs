@@ -17,7 +17,11 @@ fn noisy_logistic(n: usize, seed: u64) -> (Vec<f64>, Vec<f64>) {
     (t, y)
 }
 
-fn setup(resampling: Resampling, b: usize, seed: u64) -> (Vec<f64>, Vec<f64>, Fit, BootstrapOptions) {
+fn setup(
+    resampling: Resampling,
+    b: usize,
+    seed: u64,
+) -> (Vec<f64>, Vec<f64>, Fit, BootstrapOptions) {
     let (t, y) = noisy_logistic(25, 7);
     let f = fit_xy(&t, &y, Model::Logistic, &FitOptions::default()).unwrap();
     let opts = BootstrapOptions {
@@ -148,11 +152,7 @@ fn unsuitable_fits_are_refused_with_a_reason() {
     };
     assert!(Bootstrap::new(&f, &t, &y, &zero).is_err());
     let fixed = FitOptions {
-        fixed: vec![
-            ("K".into(), 1000.0),
-            ("r".into(), 0.5),
-            ("t0".into(), 12.0),
-        ],
+        fixed: vec![("K".into(), 1000.0), ("r".into(), 0.5), ("t0".into(), 12.0)],
         ..FitOptions::default()
     };
     let all_fixed = fit_xy(&t, &y, Model::Logistic, &fixed).unwrap();

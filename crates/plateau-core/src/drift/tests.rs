@@ -42,7 +42,13 @@ fn drift_warm_starts_agree_with_self_starts_and_input_order_does_not_matter() {
     let y: Vec<f64> = y0.iter().map(|v| v + noise()).collect();
     let rows = drift(&t, &y, Model::Logistic, &FitOptions::default());
     for r in rows.iter().filter(|r| r.m >= 18) {
-        let cold = fit_xy(&t[..r.m], &y[..r.m], Model::Logistic, &FitOptions::default()).unwrap();
+        let cold = fit_xy(
+            &t[..r.m],
+            &y[..r.m],
+            Model::Logistic,
+            &FitOptions::default(),
+        )
+        .unwrap();
         let warm = r.result.as_ref().unwrap();
         for (a, b) in warm.params.iter().zip(&cold.params) {
             assert!(
@@ -119,7 +125,11 @@ fn backtest_scores_are_the_errors_of_the_forecasts_made() {
     let s = &g.by_horizon[1];
     assert_eq!(s.count, count);
     let mae = sum / count as f64;
-    assert!((s.mae.unwrap() - mae).abs() < 1e-4 * mae, "{} vs {mae}", s.mae.unwrap());
+    assert!(
+        (s.mae.unwrap() - mae).abs() < 1e-4 * mae,
+        "{} vs {mae}",
+        s.mae.unwrap()
+    );
     let mape = sum_pct / count as f64;
     assert!((s.mape.unwrap() - mape).abs() < 1e-4 * mape);
 }

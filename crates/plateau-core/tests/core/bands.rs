@@ -51,7 +51,10 @@ fn confidence_and_prediction_bands_match_scipy() {
         for p in points {
             let ti = p["t"].as_f64().unwrap();
             let f = p["fit"].as_f64().unwrap();
-            assert!((fit.predict(ti) - f).abs() < 1e-6 * f.abs(), "{id} t={ti}: fit");
+            assert!(
+                (fit.predict(ti) - f).abs() < 1e-6 * f.abs(),
+                "{id} t={ti}: fit"
+            );
             for (what, ours) in [
                 ("confidence95", band(&fit, ti, 0.95).unwrap()),
                 ("prediction95", prediction_band(&fit, ti, 0.95).unwrap()),

@@ -171,7 +171,12 @@ fn unreachable_levels_say_so_and_drift_rows_are_there() {
         },
     )
     .unwrap();
-    let row = a.view.milestones.iter().find(|m| m.label == "level 1000000000").unwrap();
+    let row = a
+        .view
+        .milestones
+        .iter()
+        .find(|m| m.label == "level 1000000000")
+        .unwrap();
     assert_eq!(row.verdict, "not_reached");
     assert_eq!(row.time_text, "not reached");
     assert!(row.ci95_text.is_none() && row.note.contains("never reaches"));

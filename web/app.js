@@ -172,6 +172,16 @@ function showView(v) {
     return tr;
   }));
 
+  fillBody("backtest", v.backtest.map((b) => {
+    const tr = document.createElement("tr");
+    tr.dataset.model = b.model;
+    if (b.model === v.model) tr.className = "chosen";
+    cell(tr, b.model);
+    cell(tr, b.failed ? `${b.origins} (${b.failed} without a fit)` : String(b.origins));
+    for (const m of b.mape) cell(tr, m == null ? "–" : `${m.toFixed(2)}%`, "mape");
+    return tr;
+  }));
+
   $("symmetry-note").textContent = !v.symmetry
     ? "not available for this model."
     : v.symmetry.rmsRatio == null

@@ -119,6 +119,45 @@ pub struct Analysis {
     pub drift: Vec<DriftRow>,
 }
 
+/// Horizons of the page's backtest: 1 to this many observations ahead.
+pub const BACKTEST_HORIZON: usize = 4;
+
+/// Origins of the page's backtest, at most (the latest ones), so that
+/// long series stay quick; `plateau backtest` uses every origin from half
+/// the data on.
+pub const BACKTEST_ORIGINS: usize = 40;
+
+/// One model's backtest on the page.
+#[derive(Debug, Clone, Serialize, PartialEq)]
+#[serde(rename_all = "camelCase")]
+pub struct BacktestRow {
+    pub model: &'static str,
+    pub origins: usize,
+    pub failed: usize,
+    /// Mean absolute percentage error for h = 1..=BACKTEST_HORIZON.
+    pub mape: Vec<Option<f64>>,
+    /// Mean absolute error for h = 1..=BACKTEST_HORIZON.
+    pub mae: Vec<Option<f64>>,
+}
+
+fn page_backtest(t: &[f64], y: &[f64], opts: &FitOptions) -> Vec<BacktestRow> {
+    let n = t.len();
+    let bt = plateau_core::drift::BacktestOptions {
+        horizon: BACKTEST_HORIZON,
+        min_train: Some(n.div_ceil(2).max(n.saturating_sub(BACKTEST_ORIGINS))),
+    };
+    plateau_core::drift::backtest(t, y, &Model::ALL, opts, &bt)
+        .into_iter()
+        .map(|m| BacktestRow {
+            model: m.model.name(),
+            origins: m.origins,
+            failed: m.failed,
+            mape: m.by_horizon.iter().map(|h| h.mape).collect(),
+            mae: m.by_horizon.iter().map(|h| h.mae).collect(),
+        })
+        .collect()
+}
+
 /// Prefixes the page refits for its drift chart, at most.
 pub const DRIFT_ROWS: usize = 120;
 
@@ -149,6 +188,8 @@ pub struct View {
     pub duration_10_90: Option<f64>,
     pub symmetry: Option<SymmetryRow>,
     pub comparison: Vec<CompareRow>,
+    /// Rolling-origin backtest of every model (see [`BACKTEST_HORIZON`]).
+    pub backtest: Vec<BacktestRow>,
     pub caution: &'static str,
     pub time_unit: &'static str,
 }
@@ -308,6 +349,7 @@ pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError>
         rms_ratio: s.rms_ratio,
         meaning: s.meaning,
     });
+    let backtest = page_backtest(&series.times, &values, &fit_opts);
     let comparison = entries
         .iter()
         .map(|e| CompareRow {
@@ -359,6 +401,7 @@ pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError>
         duration_10_90: analysis::duration_10_90(&fit).map(|m| m.time),
         symmetry,
         comparison,
+        backtest,
         caution: CAUTION,
         time_unit: kind.unit(),
     };

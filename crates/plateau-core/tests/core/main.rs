@@ -1,6 +1,8 @@
 //! Integration tests of the core against outside references: NIST StRD
 //! certified values, analytic facts, known-parameter recovery and scipy.
 
+mod calibration;
 mod nist;
+mod profile;
 mod recovery;
 mod scipy;

@@ -2,6 +2,7 @@
 //! certified values, analytic facts, known-parameter recovery and scipy.
 
 mod calibration;
+mod error_models;
 mod nist;
 mod profile;
 mod recovery;

@@ -80,7 +80,7 @@ pub struct RunsTest {
 /// ```text
 /// μ = 1 + 2 n₊ n₋ / n
 /// σ² = 2 n₊ n₋ (2 n₊ n₋ − n) / (n² (n − 1))
-/// z = (R − μ ∓ c) / σ,  c = 0.5 toward μ when n < 50, else 0
+/// z = sign(R − μ) · max(|R − μ| − c, 0) / σ,  c = 0.5 when n < 50, else 0
 /// p = 2 (1 − Φ(|z|))
 /// ```
 ///
@@ -108,14 +108,9 @@ pub fn runs_test(res: &[f64]) -> Option<RunsTest> {
     let r = runs as f64;
     let corrected = n < RUNS_CORRECTION_BELOW;
     let diff = r - expected;
+    // Shrink |R − μ| by 0.5 without crossing zero.
     let diff = if corrected {
-        if diff > 0.0 {
-            diff - 0.5
-        } else if diff < 0.0 {
-            diff + 0.5
-        } else {
-            0.0
-        }
+        diff.signum() * (diff.abs() - 0.5).max(0.0)
     } else {
         diff
     };

@@ -5,3 +5,4 @@ mod diagnostics;
 mod nist;
 mod recovery;
 mod scipy;
+mod symmetry;

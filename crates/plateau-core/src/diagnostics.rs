@@ -367,7 +367,7 @@ fn runs_verdict(runs: Option<&RunsTest>) -> Verdict {
             "runs_streaks",
             true,
             format!(
-                "residuals run in long streaks ({} runs where about {:.1} are expected, p = {}): \
+                "residuals run in long streaks ({} runs where about {:.1} are expected, p {}): \
                  the model misses a pattern, and its intervals are too narrow",
                 r.runs,
                 r.expected,
@@ -379,7 +379,7 @@ fn runs_verdict(runs: Option<&RunsTest>) -> Verdict {
             true,
             format!(
                 "residual signs alternate more often than chance ({} runs where about {:.1} are \
-                 expected, p = {}): look for a saw-tooth in the data, such as reporting rhythm",
+                 expected, p {}): look for a saw-tooth in the data, such as reporting rhythm",
                 r.runs,
                 r.expected,
                 fmt_p(r.p_value)
@@ -389,7 +389,7 @@ fn runs_verdict(runs: Option<&RunsTest>) -> Verdict {
             "runs_ok",
             false,
             format!(
-                "residual signs mix as chance would ({} runs, about {:.1} expected, p = {})",
+                "residual signs mix as chance would ({} runs, about {:.1} expected, p {})",
                 r.runs,
                 r.expected,
                 fmt_p(r.p_value)
@@ -442,7 +442,7 @@ fn normality_verdict(jb: Option<&JarqueBera>) -> Verdict {
             true,
             format!(
                 "the residuals are not normal-looking (skewness {:.2}, kurtosis {:.2}, Jarque–Bera \
-                 p = {}): the t intervals assume normal errors; check the Q-Q chart for outliers",
+                 p {}): the t intervals assume normal errors; check the Q-Q chart for outliers",
                 j.skewness,
                 j.kurtosis,
                 fmt_p(j.p_value)
@@ -452,21 +452,22 @@ fn normality_verdict(jb: Option<&JarqueBera>) -> Verdict {
             "normal",
             false,
             format!(
-                "the residuals are consistent with normal errors (Jarque–Bera p = {})",
+                "the residuals are consistent with normal errors (Jarque–Bera p {})",
                 fmt_p(j.p_value)
             ),
         ),
     }
 }
 
-/// A p-value for reading: three significant digits, `< 0.0001` below that.
+/// A p-value for reading after "p": `= 0.0123` (four decimals), or
+/// `< 0.0001` below that.
 pub fn fmt_p(p: f64) -> String {
     if !p.is_finite() {
         "–".into()
     } else if p < 1e-4 {
         "< 0.0001".into()
     } else {
-        format!("{}", (p * 1e4).round() / 1e4)
+        format!("= {}", (p * 1e4).round() / 1e4)
     }
 }
 
@@ -574,7 +575,7 @@ pub fn symmetry_test_of(
     let mut evidence = Vec::new();
     if let (Some(nu), Some((_, p))) = (nu, lr) {
         evidence.push(format!(
-            "Richards ν = {nu:.3}, likelihood-ratio p = {}",
+            "Richards ν = {nu:.3}, likelihood-ratio p {}",
             fmt_p(p)
         ));
     }
@@ -785,7 +786,7 @@ pub fn fisher_pry(t: &[f64], y: &[f64], k: f64) -> Option<FisherPry> {
             "curved",
             true,
             format!(
-                "the Fisher–Pry points bend {} (curvature p = {}): curvature means the logistic \
+                "the Fisher–Pry points bend {} (curvature p {}): curvature means the logistic \
                  with K = {} is the wrong shape — {}",
                 if c < 0.0 { "downward" } else { "upward" },
                 fmt_p(p),
@@ -801,7 +802,7 @@ pub fn fisher_pry(t: &[f64], y: &[f64], k: f64) -> Option<FisherPry> {
             "straight",
             false,
             format!(
-                "the Fisher–Pry points lie on a straight line (curvature p = {}): consistent \
+                "the Fisher–Pry points lie on a straight line (curvature p {}): consistent \
                  with a logistic with K = {}",
                 fmt_p(p),
                 k

@@ -232,3 +232,38 @@ fn fisher_pry_curvature_matches_statsmodels_wls() {
         );
     }
 }
+
+/// The recommendation on demo files with a known generating model
+/// (demo-data/README.md): it must name that model, give reasons, and test
+/// both nested pairs where they were fitted.
+#[test]
+fn recommendation_names_the_generating_model() {
+    use plateau_core::compare::{compare, recommend};
+    for (file, dates, truth) in [
+        (
+            "demo-data/aldermoor_subscribers.csv",
+            false,
+            Model::Logistic,
+        ),
+        (
+            "demo-data/fenwick_vale_subscribers.csv",
+            false,
+            Model::Logistic,
+        ),
+        (
+            "demo-data/harrow_fields_capacity.csv",
+            false,
+            Model::Gompertz,
+        ),
+        ("demo-data/tariff_share_monthly.csv", true, Model::Logistic4),
+    ] {
+        let (t, y) = load(file, dates);
+        let entries = compare(&t, &y, &Model::ALL, &FitOptions::default());
+        let rec = recommend(&entries, &t, &y);
+        println!("{file}: {:?}\n  {}", rec.model, rec.reasons.join("\n  "));
+        assert_eq!(rec.model, Some(truth), "{file}: {:?}", rec.reasons);
+        assert!(rec.reasons.len() >= 3);
+        let tests = plateau_core::compare::nested_tests(&entries);
+        assert!(!tests.is_empty(), "{file}");
+    }
+}

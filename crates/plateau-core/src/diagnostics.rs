@@ -430,6 +430,19 @@ fn dw_verdict(dw: Option<f64>, r1: Option<f64>) -> Verdict {
     }
 }
 
+/// The normality verdict of residuals `res` alone (Jarque–Bera), as in
+/// [`ResidualDiagnostics::verdicts`].
+pub fn normality_verdict_of(res: &[f64]) -> Verdict {
+    if res.len() < MIN_RESIDUALS {
+        return verdict(
+            "too_few",
+            false,
+            format!("only {} residuals: too few to judge normality", res.len()),
+        );
+    }
+    normality_verdict(jarque_bera(res).as_ref())
+}
+
 fn normality_verdict(jb: Option<&JarqueBera>) -> Verdict {
     match jb {
         None => verdict(

@@ -106,9 +106,8 @@ pub struct LrTest {
 fn restriction_note(general: Model) -> &'static str {
     match general {
         Model::Logistic4 => {
-            "L = 0; L may take any sign, so 0 is inside its range and χ²(1) applies. \
-             If the data cannot go below zero the floor is effectively one-sided and the \
-             test is conservative."
+            "L = 0; L may take any sign, so 0 is inside its range (not a boundary) and \
+             χ²(1) applies."
         }
         Model::Richards => {
             "ν = 1, inside ν's range (ν > 0), so χ²(1) applies. The Gompertz curve is the \

@@ -484,6 +484,20 @@ pub fn fmt_p(p: f64) -> String {
     }
 }
 
+/// `x` to six significant digits, without trailing zeros.
+fn sig6(x: f64) -> String {
+    if !x.is_finite() || x == 0.0 {
+        return format!("{x}");
+    }
+    let digits = (5 - x.abs().log10().floor() as i32).clamp(0, 17) as usize;
+    let s = format!("{x:.digits$}");
+    if s.contains('.') {
+        s.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        s
+    }
+}
+
 /// Likelihood-ratio test of a model against a more general one that
 /// contains it with one more free parameter.
 ///
@@ -742,7 +756,10 @@ pub fn fisher_pry(t: &[f64], y: &[f64], k: f64) -> Option<FisherPry> {
             verdict: verdict(
                 "curvature_unknown",
                 false,
-                format!("too few values between 0 and K = {k} for a straight-line view"),
+                format!(
+                    "too few values between 0 and K = {} for a straight-line view",
+                    sig6(k)
+                ),
             ),
         });
     }
@@ -803,7 +820,7 @@ pub fn fisher_pry(t: &[f64], y: &[f64], k: f64) -> Option<FisherPry> {
                  with K = {} is the wrong shape — {}",
                 if c < 0.0 { "downward" } else { "upward" },
                 fmt_p(p),
-                k,
+                sig6(k),
                 if c < 0.0 {
                     "growth slows sooner than it allows (K set too high, or a Gompertz-like late phase)"
                 } else {
@@ -818,15 +835,16 @@ pub fn fisher_pry(t: &[f64], y: &[f64], k: f64) -> Option<FisherPry> {
                 "the Fisher–Pry points lie on a straight line (curvature p {}): consistent \
                  with a logistic with K = {}",
                 fmt_p(p),
-                k
+                sig6(k)
             ),
         ),
         _ => verdict(
             "curvature_unknown",
             false,
             format!(
-                "too few values between 0 and K = {k} to test for curvature (at least \
-                 {FISHER_PRY_MIN_POINTS} needed)"
+                "too few values between 0 and K = {} to test for curvature (at least \
+                 {FISHER_PRY_MIN_POINTS} needed)",
+                sig6(k)
             ),
         ),
     };

@@ -98,15 +98,15 @@ pub fn draw_fisher_pry<DB: DrawingBackend>(
     }
     if fp.dropped > 0 {
         chart.draw_series(std::iter::once(
-            EmptyElement::at((x.1, y.0))
+            EmptyElement::at((x.0, y.0))
                 + Text::new(
                     format!(
                         "{} point{} outside 0 < y < K not shown",
                         fp.dropped,
                         if fp.dropped == 1 { "" } else { "s" }
                     ),
-                    (-scale.pxi(10.0), -scale.pxi(8.0)),
-                    scale.text(13.0).pos(Pos::new(HPos::Right, VPos::Bottom)),
+                    (scale.pxi(10.0), -scale.pxi(8.0)),
+                    scale.text(13.0).pos(Pos::new(HPos::Left, VPos::Bottom)),
                 ),
         ))?;
     }

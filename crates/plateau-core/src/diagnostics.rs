@@ -549,6 +549,9 @@ pub struct SymmetryTest {
     pub verdict: Verdict,
 }
 
+/// A Richards ν below this is read as the Gompertz limit (ν → 0).
+pub const NU_GOMPERTZ_LIMIT: f64 = 1e-3;
+
 /// ΔAICc below which the Gompertz fallback calls the data asymmetric.
 pub const GOMPERTZ_FALLBACK_DELTA: f64 = -2.0;
 
@@ -601,8 +604,13 @@ pub fn symmetry_test_of(
     };
     let mut evidence = Vec::new();
     if let (Some(nu), Some((_, p))) = (nu, lr) {
+        let limit = if nu < NU_GOMPERTZ_LIMIT {
+            " (at its lower limit: the Gompertz shape)"
+        } else {
+            ""
+        };
         evidence.push(format!(
-            "Richards ν = {nu:.3}, likelihood-ratio p {}",
+            "Richards ν = {nu:.3}{limit}, likelihood-ratio p {}",
             fmt_p(p)
         ));
     }

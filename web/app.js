@@ -357,6 +357,8 @@ function wire() {
     download("plateau-table.csv", new Blob([bench.tableCsv()], { type: "text/csv" })));
   $("export-json").addEventListener("click", () =>
     download("plateau-report.json", new Blob([bench.reportJson()], { type: "application/json" })));
+  $("export-checks").addEventListener("click", () =>
+    download("plateau-checks.json", new Blob([bench.diagnoseJson()], { type: "application/json" })));
   let resizeTimer = 0;
   window.addEventListener("resize", () => {
     clearTimeout(resizeTimer);

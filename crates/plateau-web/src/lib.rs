@@ -117,6 +117,12 @@ impl Workbench {
         Ok(self.analysis()?.report_json())
     }
 
+    /// The checks as JSON, the schema of `plateau diagnose --json`.
+    #[wasm_bindgen(js_name = diagnoseJson)]
+    pub fn diagnose_json(&self) -> Result<String, JsError> {
+        Ok(self.analysis()?.diagnose_json())
+    }
+
     /// Observed, fitted, forecast and 95% band as CSV.
     #[wasm_bindgen(js_name = tableCsv)]
     pub fn table_csv(&self) -> Result<String, JsError> {

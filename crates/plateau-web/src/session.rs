@@ -481,6 +481,26 @@ impl Analysis {
         serde_json::to_string_pretty(&report).unwrap_or_else(|e| format!("{{\"error\":\"{e}\"}}"))
     }
 
+    /// `plateau diagnose --json`'s report for this fit: residual
+    /// diagnostics, the symmetry test and the Fisher–Pry check (entered K,
+    /// else the fitted K).
+    pub fn diagnose_json(&self) -> String {
+        let (t, y) = (&self.series.times, &self.values);
+        let fisher_pry = self
+            .settings
+            .fisher_pry_k
+            .or_else(|| self.fit.param("K").map(|p| p.estimate))
+            .and_then(|k| diagnostics::fisher_pry(t, y, k));
+        let report = plateau_core::report::DiagnoseReport::new(
+            &self.fit,
+            &self.series.warnings,
+            diagnostics::residual_diagnostics(&self.fit, t, y),
+            self.view.symmetry_test.clone(),
+            fisher_pry,
+        );
+        serde_json::to_string_pretty(&report).unwrap_or_else(|e| format!("{{\"error\":\"{e}\"}}"))
+    }
+
     /// One row per observation (time, observed, fitted, 95% band), then one
     /// row per period of the forecast (time, forecast, band).
     pub fn table_csv(&self) -> String {

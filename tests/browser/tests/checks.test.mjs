@@ -84,6 +84,14 @@ test("Fisher–Pry view with an entered K: the curvature verdict follows the K, 
   await dl.saveAs(file);
   const svg = readFileSync(file, "utf8");
   assert.match(svg, /K = 14k \(entered\)/);
+  // The checks export is `plateau diagnose --json` with the entered K.
+  const [dj] = await Promise.all([page.waitForEvent("download"), page.click("#export-checks")]);
+  const jfile = path.join(OUT, "checks-" + dj.suggestedFilename());
+  await dj.saveAs(jfile);
+  const checks = JSON.parse(readFileSync(jfile, "utf8"));
+  assert.deepEqual(Object.keys(checks), Object.keys(entered), "same keys in the same order as the CLI");
+  assert.deepEqual(checks.verdicts, entered.verdicts);
+  assert.equal(checks.fisher_pry.k, 14000);
   // The entered K survives a reload (it is part of the stored settings).
   await page.reload();
   await waitReady(page, 1);

@@ -3,6 +3,7 @@
 //! scipy is in `tests/core/diagnostics.rs`.
 
 use super::*;
+use crate::fit::{fit_xy, FitOptions};
 use crate::model::Model;
 
 #[test]
@@ -114,4 +115,62 @@ fn fisher_pry_of_exact_logistic_data_is_straight() {
     let fp = fisher_pry(&t, &y, 900.0).unwrap();
     assert!(fp.dropped > 0);
     assert_eq!(fp.points.len() + fp.dropped, 25);
+}
+
+fn noisy(model: Model, p: &[f64], sd: f64, seed: u64) -> (Vec<f64>, Vec<f64>) {
+    use rand::SeedableRng;
+    use rand_distr::{Distribution, Normal};
+    let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(seed);
+    let normal = Normal::new(0.0, sd).unwrap();
+    let t: Vec<f64> = (0..30).map(f64::from).collect();
+    let y = t
+        .iter()
+        .map(|&ti| model.eval(p, ti) + normal.sample(&mut rng))
+        .collect();
+    (t, y)
+}
+
+/// Without a Richards fit the Gompertz ΔAICc decides alone.
+#[test]
+fn symmetry_falls_back_to_the_gompertz_aicc() {
+    let (t, y) = noisy(Model::Gompertz, &[1000.0, 0.2, 10.0], 10.0, 3);
+    let o = FitOptions::default();
+    let l = fit_xy(&t, &y, Model::Logistic, &o).unwrap();
+    let g = fit_xy(&t, &y, Model::Gompertz, &o).unwrap();
+    let s = symmetry_test_of(&l, None, Some(&g));
+    assert_eq!(s.decided_by, Some("gompertz_aicc"));
+    assert_eq!(s.asymmetric, Some(true));
+    assert_eq!(s.direction, Some(Asymmetry::LateSlower));
+    assert!(s.verdict.text.contains("late phase is slower"));
+    let none = symmetry_test_of(&l, None, None);
+    assert_eq!(none.asymmetric, None);
+    assert_eq!(none.verdict.code, "symmetry_unknown");
+}
+
+/// Parsimony: when Richards wins on AICc by a little but the likelihood
+/// ratio does not reject ν = 1, the logistic is recommended, and the reason
+/// says so. The seed is the first of 1..=300 whose logistic data give that
+/// situation (LR between about 2.9 and 3.84 at n = 30).
+#[test]
+fn recommendation_prefers_the_nested_logistic_when_lr_does_not_reject() {
+    use crate::compare::{compare, nested_tests, recommend};
+    let models = [Model::Logistic, Model::Richards];
+    let found = (1..=300).find_map(|seed| {
+        let (t, y) = noisy(Model::Logistic, &[1000.0, 0.3, 14.5], 20.0, seed);
+        let entries = compare(&t, &y, &models, &FitOptions::default());
+        let rich_first = entries[0].model == Model::Richards
+            && entries[0]
+                .result
+                .as_ref()
+                .is_ok_and(|f| f.warnings.is_empty());
+        let lr = nested_tests(&entries);
+        (rich_first && lr.len() == 1 && lr[0].p_value >= ALPHA).then(|| (t, y, entries))
+    });
+    let (t, y, entries) = found.expect("a seed with Richards ahead on AICc but LR p ≥ 0.05");
+    let rec = recommend(&entries, &t, &y);
+    assert_eq!(rec.model, Some(Model::Logistic), "{:?}", rec.reasons);
+    assert!(rec
+        .reasons
+        .iter()
+        .any(|r| r.contains("does not reject the simpler logistic")));
 }

@@ -167,7 +167,7 @@ fn diagnostics_match_the_core_and_take_the_entered_k() {
         },
     )
     .unwrap();
-    let fp2 = entered.view.fisher_pry.unwrap();
+    let fp2 = entered.view.fisher_pry.clone().unwrap();
     assert!(fp2.entered);
     // K twice the fitted saturation level: the points bend.
     assert_eq!(fp2.verdict.code, "curved");
@@ -180,4 +180,18 @@ fn diagnostics_match_the_core_and_take_the_entered_k() {
     )
     .unwrap_err();
     assert!(bad.message.contains("Fisher–Pry K"));
+    // The checks export has the CLI's diagnose shape and the entered K.
+    let v: serde_json::Value = serde_json::from_str(&entered.diagnose_json()).unwrap();
+    let mut keys: Vec<&str> = v.as_object().unwrap().keys().map(String::as_str).collect();
+    keys.sort_unstable();
+    let want = [
+        "caution",
+        "fisher_pry",
+        "fit",
+        "residuals",
+        "symmetry_test",
+        "verdicts",
+    ];
+    assert_eq!(keys, want);
+    assert_eq!(v["fisher_pry"]["k"], 2.0 * fp.k);
 }

@@ -19,8 +19,13 @@ pub struct Cli {
 pub enum Command {
     /// Fit one model and print its parameters, intervals and statistics.
     Fit(FitArgs),
-    /// Fit every model and rank them by AICc, with ΔAICc and Akaike weights.
+    /// Fit every model and rank them by AICc, with ΔAICc, Akaike weights, BIC,
+    /// likelihood-ratio tests of nested models and a recommendation.
     Compare(CompareArgs),
+    /// Check a fit: residual runs, autocorrelation and normality, the
+    /// logistic's symmetry against Richards and Gompertz, and the Fisher–Pry
+    /// straight-line test, each with a one-line verdict.
+    Diagnose(DiagnoseArgs),
     /// List the models, their formulas and parameter names.
     Models,
 }
@@ -106,4 +111,28 @@ pub struct ErrorArgs {
     /// earlier error forward, which makes intervals too narrow.
     #[arg(long)]
     pub increments: bool,
+}
+
+#[derive(Args, Debug)]
+pub struct DiagnoseArgs {
+    #[command(flatten)]
+    pub input: InputArgs,
+    /// Model whose residuals are checked: logistic, logistic4, gompertz, richards, exponential.
+    #[arg(long, short, default_value = "logistic")]
+    pub model: String,
+    /// Hold a parameter at a known value, e.g. --fix K=2500000 (repeatable).
+    #[arg(long, value_name = "NAME=VALUE")]
+    pub fix: Vec<String>,
+    /// Saturation level for the Fisher–Pry check (default: the fitted K).
+    #[arg(long, value_name = "K")]
+    pub fisher_pry_k: Option<f64>,
+    /// Print the JSON report instead of a table.
+    #[arg(long)]
+    pub json: bool,
+    /// Also write the normal Q-Q chart of the residuals as SVG to FILE.
+    #[arg(long, value_name = "FILE")]
+    pub qq_svg: Option<String>,
+    /// Also write the Fisher–Pry chart as SVG to FILE.
+    #[arg(long, value_name = "FILE")]
+    pub fisher_pry_svg: Option<String>,
 }

@@ -1,7 +1,7 @@
 //! Validated settings: the raw flags of [`crate::cli`] turned into core
 //! options, with a message naming the flag when one is wrong.
 
-use crate::cli::{CompareArgs, ErrorArgs, FitArgs, InputArgs};
+use crate::cli::{CompareArgs, DiagnoseArgs, ErrorArgs, FitArgs, InputArgs};
 use anyhow::{anyhow, bail, Result};
 use plateau_core::data::ColumnRef;
 use plateau_core::{ErrorModel, FitOptions, IntervalMethod, Model, ParseOptions};
@@ -71,6 +71,30 @@ pub fn compare(args: &CompareArgs) -> Result<CompareSettings> {
             increments: args.errors.increments,
             ..FitOptions::default()
         },
+    })
+}
+
+pub struct DiagnoseSettings {
+    pub parse: ParseOptions,
+    pub model: Model,
+    pub fit: FitOptions,
+    pub fisher_pry_k: Option<f64>,
+}
+
+pub fn diagnose(args: &DiagnoseArgs) -> Result<DiagnoseSettings> {
+    if let Some(k) = args.fisher_pry_k {
+        if !(k.is_finite() && k > 0.0) {
+            bail!("--fisher-pry-k: expected a positive number, found {k}");
+        }
+    }
+    Ok(DiagnoseSettings {
+        parse: parse_options(&args.input)?,
+        model: model(&args.model)?,
+        fit: FitOptions {
+            fixed: assignments("--fix", &args.fix)?,
+            ..FitOptions::default()
+        },
+        fisher_pry_k: args.fisher_pry_k,
     })
 }
 

@@ -16,11 +16,13 @@
 //!
 //! Main entry points: [`data::parse_series`] turns pasted or file text into
 //! a [`data::Series`]; [`fit::fit`] fits a [`model::Model`] to it and returns
-//! a [`fit::Fit`]; [`compare::compare`] ranks every model by AICc.
+//! a [`fit::Fit`]; [`compare::compare`] ranks every model by AICc;
+//! [`diagnostics`] reads the residuals and tests the curve's symmetry.
 
 pub mod analysis;
 pub mod compare;
 pub mod data;
+pub mod diagnostics;
 pub mod fit;
 mod linalg;
 mod mathfn;

@@ -82,7 +82,7 @@ impl Workbench {
         Ok(view)
     }
 
-    /// Draws chart `chart` ("curve", "residuals" or "symmetry") on the
+    /// Draws chart `chart` (a `ChartKind` name: "curve", "qq", "fisher-pry", …) on the
     /// canvas at its current pixel size (the page sets it for the device
     /// pixel ratio).
     pub fn draw(&self, chart: &str, canvas: HtmlCanvasElement) -> Result<(), JsError> {
@@ -90,16 +90,23 @@ impl Workbench {
         let backend = CanvasBackend::with_canvas_object(canvas)
             .ok_or_else(|| JsError::new("the canvas has no 2D context"))?;
         let area = backend.into_drawing_area();
-        with_input(analysis, |input| plateau_chart::draw(kind, &area, input))
-            .map_err(|e| JsError::new(&e.to_string()))?;
+        let k = analysis.settings.fisher_pry_k;
+        with_input(analysis, |input| match kind {
+            // The Fisher–Pry view takes the K entered on the page.
+            ChartKind::FisherPry => plateau_chart::draw_fisher_pry(&area, input, k),
+            _ => plateau_chart::draw(kind, &area, input),
+        })
+        .map_err(|e| JsError::new(&e.to_string()))?;
         area.present().map_err(|e| JsError::new(&e.to_string()))
     }
 
     /// The same chart as an SVG document.
     pub fn svg(&self, chart: &str, width: u32, height: u32) -> Result<String, JsError> {
         let (analysis, kind) = self.target(chart)?;
-        with_input(analysis, |input| {
-            plateau_chart::render_svg(kind, input, width, height)
+        let k = analysis.settings.fisher_pry_k;
+        with_input(analysis, |input| match kind {
+            ChartKind::FisherPry => plateau_chart::render_fisher_pry_svg(input, k, width, height),
+            _ => plateau_chart::render_svg(kind, input, width, height),
         })
         .map_err(|e| JsError::new(&e.to_string()))
     }
@@ -108,6 +115,12 @@ impl Workbench {
     #[wasm_bindgen(js_name = reportJson)]
     pub fn report_json(&self) -> Result<String, JsError> {
         Ok(self.analysis()?.report_json())
+    }
+
+    /// The checks as JSON, the schema of `plateau diagnose --json`.
+    #[wasm_bindgen(js_name = diagnoseJson)]
+    pub fn diagnose_json(&self) -> Result<String, JsError> {
+        Ok(self.analysis()?.diagnose_json())
     }
 
     /// Observed, fitted, forecast and 95% band as CSV.

@@ -183,7 +183,7 @@ test("every chart downloads as PNG and as SVG", async () => {
     return readFileSync(file);
   };
   const charts = await page.$$eval("canvas.chart", (cs) => cs.map((c) => c.dataset.chart));
-  assert.equal(charts.length, 5, charts.join());
+  assert.equal(charts.length, 7, charts.join());
   for (const chart of charts) {
     const png = await grab(`button[data-png="${chart}"]`);
     assert.deepEqual([...png.subarray(0, 4)], [0x89, 0x50, 0x4e, 0x47], `${chart} PNG signature`);

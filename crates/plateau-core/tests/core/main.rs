@@ -2,8 +2,10 @@
 //! certified values, analytic facts, known-parameter recovery and scipy.
 
 mod calibration;
+mod diagnostics;
 mod error_models;
 mod nist;
 mod profile;
 mod recovery;
 mod scipy;
+mod symmetry;

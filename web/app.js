@@ -19,7 +19,7 @@ const bench = new Workbench();
 
 const DEFAULTS = {
   model: "logistic", fixedK: null, horizon: 12, perPeriod: false,
-  timeColumn: null, valueColumn: null, share: 95, level: null,
+  timeColumn: null, valueColumn: null, share: 95, level: null, fisherPryK: null,
   bootstrap: false, resampling: "residual", replicates: 1000, seed: 20240601,
 };
 
@@ -63,6 +63,7 @@ function readControls() {
   s.horizon = numberOrNull($("horizon")) ?? 0;
   s.share = numberOrNull($("share")) ?? 95;
   s.level = numberOrNull($("level"));
+  s.fisherPryK = numberOrNull($("fisher-pry-k"));
   s.perPeriod = $("accum-per-period").checked;
   s.bootstrap = $("bootstrap").checked;
   s.resampling = $("resampling").value;
@@ -82,6 +83,7 @@ function writeControls() {
   $("horizon").value = s.horizon;
   $("share").value = s.share;
   $("level").value = s.level ?? "";
+  $("fisher-pry-k").value = s.fisherPryK ?? "";
   $("accum-per-period").checked = !!s.perPeriod;
   $("accum-cumulative").checked = !s.perPeriod;
   $("bootstrap").checked = !!s.bootstrap;
@@ -163,11 +165,11 @@ function showView(v) {
     cell(tr, c.model);
     if (c.error) {
       const td = document.createElement("td");
-      td.colSpan = 4;
+      td.colSpan = 5;
       td.textContent = c.error;
       tr.appendChild(td);
     } else {
-      cell(tr, fmt(c.aicc)); cell(tr, fmt(c.deltaAicc)); cell(tr, fmt(c.weight)); cell(tr, fmt(c.k));
+      cell(tr, fmt(c.aicc)); cell(tr, fmt(c.deltaAicc)); cell(tr, fmt(c.weight)); cell(tr, fmt(c.bic)); cell(tr, fmt(c.k));
     }
     return tr;
   }));
@@ -187,6 +189,8 @@ function showView(v) {
     : v.symmetry.rmsRatio == null
       ? "no summary yet: too few reflected points fall inside the observed time range."
       : `RMS mismatch ${fmt(v.symmetry.rmsRatio)} × the noise level. ${v.symmetry.meaning}`;
+
+  showChecks(v);
 
   const cols = v.columns;
   $("columns").hidden = cols.length <= 2;
@@ -273,6 +277,57 @@ function showBootstrap(bv) {
     `${bv.failed} refit${bv.failed === 1 ? "" : "s"} failed and left out; percentile intervals.`;
 }
 
+function verdictItem(tag, verdict) {
+  const el = document.createElement(tag);
+  el.textContent = verdict.text;
+  el.dataset.code = verdict.code;
+  el.className = verdict.flagged ? "flagged" : "";
+  return el;
+}
+
+function showVerdict(id, verdict) {
+  const el = $(id);
+  el.textContent = verdict ? verdict.text : "";
+  el.dataset.code = verdict ? verdict.code : "";
+  el.className = "verdict" + (verdict && verdict.flagged ? " flagged" : "");
+}
+
+// The checks panel, the symmetry test beside the mirror chart and the
+// recommendation beside the comparison table; every sentence comes from Rust.
+function showChecks(v) {
+  const d = v.diagnostics;
+  const all = [...d.verdicts];
+  if (v.symmetryTest) all.push(v.symmetryTest.verdict);
+  if (v.fisherPry) all.push(v.fisherPry.verdict);
+  $("verdicts").replaceChildren(...all.map((x) => verdictItem("li", x)));
+  const rows = [
+    ["residuals", d.n],
+    ["runs (expected)", d.runs == null ? "–" : `${d.runs} (${fmt(d.runsExpected)})`],
+    ["runs test p", fmt(d.runsP)],
+    ["Durbin–Watson", fmt(d.durbinWatson)],
+    ["lag-1 autocorrelation", fmt(d.lag1Autocorrelation)],
+    ["Q-Q correlation", fmt(d.qqCorrelation)],
+    ["Jarque–Bera p", fmt(d.jarqueBeraP)],
+  ];
+  fillBody("diag-stats", rows.map(([k, x]) => {
+    const tr = document.createElement("tr");
+    tr.dataset.stat = k;
+    cell(tr, k);
+    cell(tr, String(x));
+    return tr;
+  }));
+  showVerdict("symmetry-test", v.symmetryTest && v.symmetryTest.verdict);
+  showVerdict("fisher-pry-verdict", v.fisherPry && v.fisherPry.verdict);
+  const rec = v.recommendation;
+  $("recommended-model").textContent = rec.model ?? "none";
+  $("recommendation-reasons").replaceChildren(...rec.reasons.map((r) => {
+    const li = document.createElement("li");
+    li.textContent = r;
+    return li;
+  }));
+  $("lr-tests").textContent = v.lrTests.map((t) => t.note ? `${t.nested} within ${t.general}: ${t.note}` : "").join(" ");
+}
+
 function drawCharts() {
   for (const canvas of document.querySelectorAll("canvas.chart")) {
     const dpr = window.devicePixelRatio || 1;
@@ -348,7 +403,7 @@ function loadText(text) {
 
 function wire() {
   $("data").addEventListener("input", () => changed({ text: true }));
-  for (const id of ["model", "fixed-k", "horizon", "share", "level", "bootstrap", "resampling", "replicates", "seed", "time-col", "value-col", "accum-cumulative", "accum-per-period"]) {
+  for (const id of ["model", "fixed-k", "fisher-pry-k", "horizon", "share", "level", "bootstrap", "resampling", "replicates", "seed", "time-col", "value-col", "accum-cumulative", "accum-per-period"]) {
     $(id).addEventListener("change", () => changed({ immediate: true }));
   }
   $("file").addEventListener("change", async (ev) => {
@@ -394,6 +449,8 @@ function wire() {
     download("plateau-table.csv", new Blob([bench.tableCsv()], { type: "text/csv" })));
   $("export-json").addEventListener("click", () =>
     download("plateau-report.json", new Blob([bench.reportJson()], { type: "application/json" })));
+  $("export-checks").addEventListener("click", () =>
+    download("plateau-checks.json", new Blob([bench.diagnoseJson()], { type: "application/json" })));
   let resizeTimer = 0;
   window.addEventListener("resize", () => {
     clearTimeout(resizeTimer);

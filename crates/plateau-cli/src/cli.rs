@@ -19,8 +19,13 @@ pub struct Cli {
 pub enum Command {
     /// Fit one model and print its parameters, intervals and statistics.
     Fit(FitArgs),
-    /// Fit every model and rank them by AICc, with ΔAICc and Akaike weights.
+    /// Fit every model and rank them by AICc, with ΔAICc, Akaike weights, BIC,
+    /// likelihood-ratio tests of nested models and a recommendation.
     Compare(CompareArgs),
+    /// Check a fit: residual runs, autocorrelation and normality, the
+    /// logistic's symmetry against Richards and Gompertz, and the Fisher–Pry
+    /// straight-line test, each with a one-line verdict.
+    Diagnose(DiagnoseArgs),
     /// Forecast to a time with confidence and prediction bands, and milestones with intervals.
     Forecast(ForecastArgs),
     /// Refit on every prefix of the data: how K, r and t0 moved as data arrived.
@@ -66,6 +71,12 @@ pub struct FitArgs {
     /// Start a parameter from this value instead of the self-start (repeatable).
     #[arg(long, value_name = "NAME=VALUE")]
     pub start: Vec<String>,
+    #[command(flatten)]
+    pub errors: ErrorArgs,
+    /// 95% intervals: profile (profile likelihood, the default) or asymptotic
+    /// (estimate ± t·se, no refits).
+    #[arg(long, value_name = "METHOD", default_value = "profile")]
+    pub intervals: String,
     /// Print the JSON report instead of a table.
     #[arg(long)]
     pub json: bool,
@@ -85,9 +96,51 @@ pub struct CompareArgs {
     /// Hold a parameter at a known value in every model that has it (repeatable).
     #[arg(long, value_name = "NAME=VALUE")]
     pub fix: Vec<String>,
+    #[command(flatten)]
+    pub errors: ErrorArgs,
     /// Print the JSON report instead of a table.
     #[arg(long)]
     pub json: bool,
+}
+
+/// How the observations scatter about the curve, and what is fitted.
+#[derive(Args, Debug)]
+pub struct ErrorArgs {
+    /// Error model: additive (same scatter at every level), relative (scatter
+    /// proportional to the curve; weights 1/fitted², reweighted), log (fit
+    /// ln y − ln f; values must be positive) or count (variance proportional
+    /// to the curve; weights 1/fitted, reweighted).
+    #[arg(long, value_name = "MODEL", default_value = "additive")]
+    pub errors: String,
+    /// Fit the per-period increments of the curve to the differences of the
+    /// running totals instead of the totals themselves: totals carry every
+    /// earlier error forward, which makes intervals too narrow.
+    #[arg(long)]
+    pub increments: bool,
+}
+
+#[derive(Args, Debug)]
+pub struct DiagnoseArgs {
+    #[command(flatten)]
+    pub input: InputArgs,
+    /// Model whose residuals are checked: logistic, logistic4, gompertz, richards, exponential.
+    #[arg(long, short, default_value = "logistic")]
+    pub model: String,
+    /// Hold a parameter at a known value, e.g. --fix K=2500000 (repeatable).
+    #[arg(long, value_name = "NAME=VALUE")]
+    pub fix: Vec<String>,
+    /// Saturation level for the Fisher–Pry check (default: the fitted K).
+    #[arg(long, value_name = "K")]
+    pub fisher_pry_k: Option<f64>,
+    /// Print the JSON report instead of a table.
+    #[arg(long)]
+    pub json: bool,
+    /// Also write the normal Q-Q chart of the residuals as SVG to FILE.
+    #[arg(long, value_name = "FILE")]
+    pub qq_svg: Option<String>,
+    /// Also write the Fisher–Pry chart as SVG to FILE.
+    #[arg(long, value_name = "FILE")]
+    pub fisher_pry_svg: Option<String>,
 }
 
 #[derive(Args, Debug)]

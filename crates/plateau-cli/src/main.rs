@@ -17,8 +17,9 @@ use cli::{Cli, Command};
 use plateau_core::bootstrap::Bootstrap;
 use plateau_core::compare::compare;
 use plateau_core::data::TimeKind;
+use plateau_core::diagnostics;
 use plateau_core::forecast_report::{BacktestReport, DriftReport, ForecastReport};
-use plateau_core::report::{CompareReport, FitReport};
+use plateau_core::report::{CompareReport, DiagnoseReport, FitReport};
 use plateau_core::{drift, forecast, milestones};
 use plateau_core::{fit, parse_series, Model, Series};
 use std::io::Read;
@@ -115,10 +116,70 @@ fn run(cli: Cli) -> Result<(), Failure> {
                     reasons.join("\n  ")
                 )));
             }
+            let report =
+                CompareReport::with_data(&entries, &series.warnings, &series.times, &series.values);
             if args.json {
-                print_json(&CompareReport::new(&entries, &series.warnings));
+                print_json(&report);
             } else {
-                print!("{}", table::compare(&name, &series, &entries));
+                print!("{}", table::compare(&name, &series, &entries, &report));
+            }
+            Ok(())
+        }
+        Command::Diagnose(args) => {
+            let settings = settings::diagnose(&args).map_err(Failure::Input)?;
+            let (name, series) = read_series(&args.input, &settings.parse)?;
+            let (t, y) = (&series.times, &series.values);
+            let result = fit(&series, settings.model, &settings.fit)
+                .with_context(|| {
+                    format!("{}: cannot fit the {} model", name, settings.model.name())
+                })
+                .map_err(Failure::Fit)?;
+            let residuals = diagnostics::residual_diagnostics(&result, t, y);
+            let symmetry = diagnostics::symmetry_test(t, y, &settings.fit).ok();
+            let k = settings
+                .fisher_pry_k
+                .or_else(|| result.param("K").map(|p| p.estimate));
+            let fisher_pry = k.and_then(|k| diagnostics::fisher_pry(t, y, k));
+            let kind = series.time_kind;
+            let format_time = |v: f64| kind.format(v);
+            let input = plateau_chart::ChartInput {
+                times: t,
+                values: y,
+                fit: &result,
+                horizon: None,
+                format_time: &format_time,
+                time_caption: &series.time_name,
+                value_caption: &series.value_name,
+            };
+            let write = |path: &str, svg: Result<String, plateau_chart::ChartError>| {
+                svg.map_err(anyhow::Error::from)
+                    .and_then(|svg| {
+                        std::fs::write(path, svg)
+                            .with_context(|| format!("cannot write the chart to {path}"))
+                    })
+                    .map_err(Failure::Input)
+            };
+            if let Some(path) = &args.qq_svg {
+                write(
+                    path,
+                    plateau_chart::render_svg(plateau_chart::ChartKind::Qq, &input, 800, 560),
+                )?;
+            }
+            if let Some(path) = &args.fisher_pry_svg {
+                write(
+                    path,
+                    plateau_chart::render_fisher_pry_svg(&input, settings.fisher_pry_k, 900, 560),
+                )?;
+            }
+            let report =
+                DiagnoseReport::new(&result, &series.warnings, residuals, symmetry, fisher_pry);
+            if args.json {
+                print_json(&report);
+            } else {
+                print!(
+                    "{}",
+                    table::diagnose(&name, &series, &report, settings.fisher_pry_k.is_some())
+                );
             }
             Ok(())
         }

@@ -1,11 +1,13 @@
 //! Validated settings: the raw flags of [`crate::cli`] turned into core
 //! options, with a message naming the flag when one is wrong.
 
-use crate::cli::{BacktestArgs, CompareArgs, DriftArgs, FitArgs, ForecastArgs, InputArgs};
+use crate::cli::{
+    BacktestArgs, CompareArgs, DiagnoseArgs, DriftArgs, ErrorArgs, FitArgs, ForecastArgs, InputArgs,
+};
 use anyhow::{anyhow, bail, Result};
 use plateau_core::bootstrap::{BootstrapOptions, Resampling, DEFAULT_SEED};
 use plateau_core::data::ColumnRef;
-use plateau_core::{FitOptions, Model, ParseOptions};
+use plateau_core::{ErrorModel, FitOptions, IntervalMethod, Model, ParseOptions};
 
 pub struct FitSettings {
     pub parse: ParseOptions,
@@ -26,17 +28,33 @@ pub fn fit(args: &FitArgs) -> Result<FitSettings> {
         fit: FitOptions {
             fixed: assignments("--fix", &args.fix)?,
             start: assignments("--start", &args.start)?,
+            error_model: error_model(&args.errors)?,
+            increments: args.errors.increments,
+            intervals: intervals(&args.intervals)?,
             ..FitOptions::default()
         },
     })
 }
 
-pub fn compare(args: &CompareArgs) -> Result<CompareSettings> {
-    compare_like(&args.input, args.models.as_deref(), &args.fix)
+fn error_model(args: &ErrorArgs) -> Result<ErrorModel> {
+    ErrorModel::from_name(&args.errors).ok_or_else(|| {
+        anyhow!(
+            "--errors: expected additive, relative, log or count, found {:?}",
+            args.errors
+        )
+    })
 }
 
-fn compare_like(input: &InputArgs, list: Option<&str>, fix: &[String]) -> Result<CompareSettings> {
-    let models = match list {
+fn intervals(s: &str) -> Result<IntervalMethod> {
+    match s.trim() {
+        "profile" => Ok(IntervalMethod::Profile),
+        "asymptotic" => Ok(IntervalMethod::Asymptotic),
+        other => bail!("--intervals: expected profile or asymptotic, found {other:?}"),
+    }
+}
+
+pub fn compare(args: &CompareArgs) -> Result<CompareSettings> {
+    let models = match &args.models {
         None => Model::ALL.to_vec(),
         Some(list) => list
             .split(',')
@@ -48,12 +66,38 @@ fn compare_like(input: &InputArgs, list: Option<&str>, fix: &[String]) -> Result
         bail!("--models: expected a comma-separated list of model names");
     }
     Ok(CompareSettings {
-        parse: parse_options(input)?,
+        parse: parse_options(&args.input)?,
         models,
         fit: FitOptions {
-            fixed: assignments("--fix", fix)?,
+            fixed: assignments("--fix", &args.fix)?,
+            error_model: error_model(&args.errors)?,
+            increments: args.errors.increments,
             ..FitOptions::default()
         },
+    })
+}
+
+pub struct DiagnoseSettings {
+    pub parse: ParseOptions,
+    pub model: Model,
+    pub fit: FitOptions,
+    pub fisher_pry_k: Option<f64>,
+}
+
+pub fn diagnose(args: &DiagnoseArgs) -> Result<DiagnoseSettings> {
+    if let Some(k) = args.fisher_pry_k {
+        if !(k.is_finite() && k > 0.0) {
+            bail!("--fisher-pry-k: expected a positive number, found {k}");
+        }
+    }
+    Ok(DiagnoseSettings {
+        parse: parse_options(&args.input)?,
+        model: model(&args.model)?,
+        fit: FitOptions {
+            fixed: assignments("--fix", &args.fix)?,
+            ..FitOptions::default()
+        },
+        fisher_pry_k: args.fisher_pry_k,
     })
 }
 
@@ -143,7 +187,27 @@ pub fn backtest(args: &BacktestArgs) -> Result<CompareSettings> {
     if args.min_train == Some(0) {
         bail!("--min-train: expected a positive number of points");
     }
-    compare_like(&args.input, args.models.as_deref(), &args.fix)
+    let models = match &args.models {
+        None => Model::ALL.to_vec(),
+        Some(list) => list
+            .split(',')
+            .filter(|s| !s.trim().is_empty())
+            .map(model)
+            .collect::<Result<Vec<_>>>()?,
+    };
+    if models.is_empty() {
+        bail!("--models: expected a comma-separated list of model names");
+    }
+    Ok(CompareSettings {
+        parse: parse_options(&args.input)?,
+        models,
+        fit: FitOptions {
+            fixed: assignments("--fix", &args.fix)?,
+            // The backtest scores point forecasts: no intervals needed.
+            intervals: IntervalMethod::Asymptotic,
+            ..FitOptions::default()
+        },
+    })
 }
 
 fn model(name: &str) -> Result<Model> {

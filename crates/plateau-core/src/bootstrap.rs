@@ -29,7 +29,7 @@
 //! running them at once. No clock, no thread: the caller decides how much
 //! work to do per call (the page runs slices between frames).
 
-use crate::fit::{CurveProblem, Fit};
+use crate::fit::{CurveProblem, ErrorModel, Fit, Scale};
 use crate::model::{Domain, Model};
 use crate::solver::{LeastSquares, Solver};
 use rand_chacha::rand_core::SeedableRng;
@@ -154,6 +154,17 @@ impl Bootstrap {
                 "the fit has no residual degrees of freedom, so no noise to resample".into(),
             ));
         }
+        if fit.error_model != ErrorModel::Additive || fit.increments {
+            return Err(BootstrapError(format!(
+                "the bootstrap resamples additive errors of the totals; this fit uses {}{}",
+                fit.error_model.name(),
+                if fit.increments {
+                    " errors on the increments"
+                } else {
+                    " errors"
+                }
+            )));
+        }
         if opts.replicates == 0 {
             return Err(BootstrapError(
                 "the number of bootstrap replicates must be at least 1".into(),
@@ -247,6 +258,7 @@ impl Bootstrap {
             sqrt_w: None,
             base: self.start.clone(),
             free: self.free.clone(),
+            scale: Scale::default(),
         };
         let x0: Vec<f64> = self.free.iter().map(|&j| self.start[j]).collect();
         let out = self.solver.minimize(&problem, &x0);

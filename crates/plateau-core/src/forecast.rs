@@ -16,13 +16,21 @@
 
 use crate::analysis;
 use crate::bootstrap::Bootstrap;
-use crate::fit::Fit;
+use crate::fit::{ErrorModel, Fit};
 use crate::stats::t_quantile;
 
 /// Pointwise prediction interval for a new observation at `t`:
-/// `f(t) ± t(level, dof) · sqrt(var_mean(t) + σ̂²)`. `None` when the fit has
-/// no covariance or the band is not finite.
+/// `f(t) ± t(level, dof) · sqrt(var_mean(t) + v(t))`, with the noise
+/// variance `v` of the fit's error model: `σ̂²` (additive), `σ̂² f²`
+/// (relative), `σ̂² f` (count); for log-scale errors the interval is
+/// `f · exp(± t · sqrt(var_mean / f² + σ̂²))` (delta method for ln f). `None`
+/// when the fit has no covariance, the band is not finite, or the fit was
+/// to increments (a new *total* then carries every earlier period's error,
+/// which that fit does not model).
 pub fn prediction_band(fit: &Fit, t: f64, level: f64) -> Option<(f64, f64)> {
+    if fit.increments {
+        return None;
+    }
     let (lo, hi) = analysis::band(fit, t, level)?;
     let tq = t_quantile(level, fit.dof);
     let y = fit.predict(t);
@@ -32,8 +40,29 @@ pub fn prediction_band(fit: &Fit, t: f64, level: f64) -> Option<(f64, f64)> {
     } else {
         0.0
     };
-    let half = tq * (sd_mean * sd_mean + fit.sigma * fit.sigma).sqrt();
-    (half.is_finite() && y.is_finite()).then_some((y - half, y + half))
+    let s2 = fit.sigma * fit.sigma;
+    let band = match fit.error_model {
+        ErrorModel::Additive => {
+            let half = tq * (sd_mean * sd_mean + s2).sqrt();
+            (y - half, y + half)
+        }
+        ErrorModel::Relative => {
+            let half = tq * (sd_mean * sd_mean + s2 * y * y).sqrt();
+            (y - half, y + half)
+        }
+        ErrorModel::Count => {
+            let half = tq * (sd_mean * sd_mean + s2 * y.max(0.0)).sqrt();
+            (y - half, y + half)
+        }
+        ErrorModel::Log => {
+            if y <= 0.0 {
+                return None;
+            }
+            let half = tq * ((sd_mean / y).powi(2) + s2).sqrt();
+            (y * (-half).exp(), y * half.exp())
+        }
+    };
+    (band.0.is_finite() && band.1.is_finite()).then_some(band)
 }
 
 /// One forecast time.

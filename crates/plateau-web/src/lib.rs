@@ -119,7 +119,8 @@ impl Workbench {
             .map_err(|e| JsError::new(&e.to_string()))
     }
 
-    /// Draws chart `chart` ("curve", "residuals" or "symmetry") on the
+    /// Draws chart `chart` (a `ChartKind` name: "curve", "qq", "fisher-pry",
+    /// …, or "drift") on the
     /// canvas at its current pixel size (the page sets it for the device
     /// pixel ratio).
     pub fn draw(&self, chart: &str, canvas: HtmlCanvasElement) -> Result<(), JsError> {
@@ -135,8 +136,13 @@ impl Workbench {
             return area.present().map_err(|e| JsError::new(&e.to_string()));
         }
         let (analysis, kind) = self.target(chart)?;
-        with_input(analysis, |input| plateau_chart::draw(kind, &area, input))
-            .map_err(|e| JsError::new(&e.to_string()))?;
+        let k = analysis.settings.fisher_pry_k;
+        with_input(analysis, |input| match kind {
+            // The Fisher–Pry view takes the K entered on the page.
+            ChartKind::FisherPry => plateau_chart::draw_fisher_pry(&area, input, k),
+            _ => plateau_chart::draw(kind, &area, input),
+        })
+        .map_err(|e| JsError::new(&e.to_string()))?;
         area.present().map_err(|e| JsError::new(&e.to_string()))
     }
 
@@ -150,8 +156,10 @@ impl Workbench {
             .map_err(|e| JsError::new(&e.to_string()));
         }
         let (analysis, kind) = self.target(chart)?;
-        with_input(analysis, |input| {
-            plateau_chart::render_svg(kind, input, width, height)
+        let k = analysis.settings.fisher_pry_k;
+        with_input(analysis, |input| match kind {
+            ChartKind::FisherPry => plateau_chart::render_fisher_pry_svg(input, k, width, height),
+            _ => plateau_chart::render_svg(kind, input, width, height),
         })
         .map_err(|e| JsError::new(&e.to_string()))
     }
@@ -160,6 +168,12 @@ impl Workbench {
     #[wasm_bindgen(js_name = reportJson)]
     pub fn report_json(&self) -> Result<String, JsError> {
         Ok(self.analysis()?.report_json())
+    }
+
+    /// The checks as JSON, the schema of `plateau diagnose --json`.
+    #[wasm_bindgen(js_name = diagnoseJson)]
+    pub fn diagnose_json(&self) -> Result<String, JsError> {
+        Ok(self.analysis()?.diagnose_json())
     }
 
     /// Observed, fitted, forecast and 95% band as CSV.

@@ -8,8 +8,9 @@
 
 use plateau_core::analysis;
 use plateau_core::bootstrap::{Bootstrap, BootstrapOptions, Resampling, DEFAULT_SEED};
-use plateau_core::compare::compare;
+use plateau_core::compare::{compare, nested_tests, recommend};
 use plateau_core::data::{cumulate, decline_warning, ColumnRef, DataError, TimeKind};
+use plateau_core::diagnostics::{self, Verdict};
 use plateau_core::drift::{drift_sampled, DriftRow};
 use plateau_core::fit::{fit_xy, Fit, FitOptions};
 use plateau_core::milestones::{self, Assessment, Target};
@@ -52,6 +53,8 @@ pub struct Settings {
     pub replicates: usize,
     /// Seed of the bootstrap's random numbers.
     pub seed: u64,
+    /// K for the Fisher–Pry view; `None` uses the fitted K.
+    pub fisher_pry_k: Option<f64>,
 }
 
 impl Default for Settings {
@@ -69,6 +72,7 @@ impl Default for Settings {
             resampling: "residual".into(),
             replicates: plateau_core::bootstrap::DEFAULT_REPLICATES,
             seed: DEFAULT_SEED,
+            fisher_pry_k: None,
         }
     }
 }
@@ -190,6 +194,16 @@ pub struct View {
     pub comparison: Vec<CompareRow>,
     /// Rolling-origin backtest of every model (see [`BACKTEST_HORIZON`]).
     pub backtest: Vec<BacktestRow>,
+    /// The residual diagnostics of the chosen fit.
+    pub diagnostics: DiagnosticsRow,
+    /// Logistic against Richards (likelihood ratio) and Gompertz (ΔAICc).
+    pub symmetry_test: Option<diagnostics::SymmetryTest>,
+    /// The Fisher–Pry check for the entered K, else the fitted K.
+    pub fisher_pry: Option<FisherPryRow>,
+    /// Likelihood-ratio tests of the nested pairs.
+    pub lr_tests: Vec<plateau_core::compare::LrTest>,
+    /// Which model to use and why.
+    pub recommendation: plateau_core::compare::Recommendation,
     pub caution: &'static str,
     pub time_unit: &'static str,
 }
@@ -264,11 +278,38 @@ pub struct SymmetryRow {
     pub meaning: &'static str,
 }
 
+/// The residual diagnostics as the page shows them (the Q-Q points are
+/// drawn in Rust and not sent).
+#[derive(Debug, Clone, Serialize, PartialEq)]
+#[serde(rename_all = "camelCase")]
+pub struct DiagnosticsRow {
+    pub n: usize,
+    pub runs: Option<usize>,
+    pub runs_expected: Option<f64>,
+    pub runs_p: Option<f64>,
+    pub durbin_watson: Option<f64>,
+    pub lag1_autocorrelation: Option<f64>,
+    pub qq_correlation: Option<f64>,
+    pub jarque_bera_p: Option<f64>,
+    pub verdicts: Vec<Verdict>,
+}
+
+#[derive(Debug, Clone, Serialize, PartialEq)]
+#[serde(rename_all = "camelCase")]
+pub struct FisherPryRow {
+    pub k: f64,
+    /// Whether K was entered (else it is the fitted K).
+    pub entered: bool,
+    pub curvature_p: Option<f64>,
+    pub verdict: Verdict,
+}
+
 #[derive(Debug, Clone, Serialize, PartialEq)]
 #[serde(rename_all = "camelCase")]
 pub struct CompareRow {
     pub model: &'static str,
     pub aicc: Option<f64>,
+    pub bic: Option<f64>,
     pub delta_aicc: Option<f64>,
     pub weight: Option<f64>,
     pub k: Option<f64>,
@@ -355,6 +396,7 @@ pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError>
         .map(|e| CompareRow {
             model: e.model.name(),
             aicc: e.result.as_ref().ok().map(|f| f.aicc),
+            bic: e.result.as_ref().ok().map(|f| f.bic),
             delta_aicc: e.delta_aicc,
             weight: e.akaike_weight,
             k: e.result
@@ -365,6 +407,45 @@ pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError>
             error: e.result.as_ref().err().map(|err| err.to_string()),
         })
         .collect();
+
+    let diag = diagnostics::residual_diagnostics(&fit, &series.times, &values);
+    let diagnostics_row = DiagnosticsRow {
+        n: diag.n,
+        runs: diag.runs.as_ref().map(|r| r.runs),
+        runs_expected: diag.runs.as_ref().map(|r| r.expected),
+        runs_p: diag.runs.as_ref().map(|r| r.p_value),
+        durbin_watson: diag.durbin_watson,
+        lag1_autocorrelation: diag.lag1_autocorrelation,
+        qq_correlation: diag.qq.as_ref().map(|q| q.correlation),
+        jarque_bera_p: diag.jarque_bera.map(|j| j.p_value),
+        verdicts: diag.verdicts,
+    };
+    let fitted_of = |m: Model| {
+        entries
+            .iter()
+            .find(|e| e.model == m)
+            .and_then(|e| e.result.as_ref().ok())
+    };
+    let symmetry_test = fitted_of(Model::Logistic).map(|l| {
+        diagnostics::symmetry_test_of(l, fitted_of(Model::Richards), fitted_of(Model::Gompertz))
+    });
+    if let Some(k) = settings.fisher_pry_k {
+        if !(k.is_finite() && k > 0.0) {
+            return Err(setting_error("Fisher–Pry K: expected a positive number"));
+        }
+    }
+    let fisher_pry = settings
+        .fisher_pry_k
+        .or_else(|| fit.param("K").map(|p| p.estimate))
+        .and_then(|k| diagnostics::fisher_pry(&series.times, &values, k))
+        .map(|f| FisherPryRow {
+            k: f.k,
+            entered: settings.fisher_pry_k.is_some(),
+            curvature_p: f.curvature_p,
+            verdict: f.verdict,
+        });
+    let lr_tests = nested_tests(&entries);
+    let recommendation = recommend(&entries, &series.times, &values);
 
     let view = View {
         model: model.name(),
@@ -402,6 +483,11 @@ pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError>
         symmetry,
         comparison,
         backtest,
+        diagnostics: diagnostics_row,
+        symmetry_test,
+        fisher_pry,
+        lr_tests,
+        recommendation,
         caution: CAUTION,
         time_unit: kind.unit(),
     };
@@ -578,6 +664,26 @@ impl Analysis {
     /// `plateau fit --json`'s report for this fit.
     pub fn report_json(&self) -> String {
         let report = FitReport::new(&self.fit, &self.series.warnings);
+        serde_json::to_string_pretty(&report).unwrap_or_else(|e| format!("{{\"error\":\"{e}\"}}"))
+    }
+
+    /// `plateau diagnose --json`'s report for this fit: residual
+    /// diagnostics, the symmetry test and the Fisher–Pry check (entered K,
+    /// else the fitted K).
+    pub fn diagnose_json(&self) -> String {
+        let (t, y) = (&self.series.times, &self.values);
+        let fisher_pry = self
+            .settings
+            .fisher_pry_k
+            .or_else(|| self.fit.param("K").map(|p| p.estimate))
+            .and_then(|k| diagnostics::fisher_pry(t, y, k));
+        let report = plateau_core::report::DiagnoseReport::new(
+            &self.fit,
+            &self.series.warnings,
+            diagnostics::residual_diagnostics(&self.fit, t, y),
+            self.view.symmetry_test.clone(),
+            fisher_pry,
+        );
         serde_json::to_string_pretty(&report).unwrap_or_else(|e| format!("{{\"error\":\"{e}\"}}"))
     }
 

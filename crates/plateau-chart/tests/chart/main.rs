@@ -4,8 +4,8 @@
 //! or a chart but never to panic.
 
 use plateau_chart::{
-    draw, format_value, linearise, plain_time, render_svg, ChartError, ChartInput, ChartKind,
-    NOT_AVAILABLE_EXPONENTIAL,
+    draw, format_value, linearise, plain_time, render_fisher_pry_svg, render_svg, ChartError,
+    ChartInput, ChartKind, NOT_AVAILABLE_EXPONENTIAL,
 };
 use plateau_core::analysis::symmetry;
 use plateau_core::fit::{fit_xy, Fit, FitOptions};
@@ -348,7 +348,15 @@ fn chart_names_include_the_new_views() {
     let names: Vec<&str> = ChartKind::ALL.iter().map(|k| k.name()).collect();
     assert_eq!(
         names,
-        ["curve", "residuals", "symmetry", "linear", "rate"],
+        [
+            "curve",
+            "residuals",
+            "symmetry",
+            "linear",
+            "rate",
+            "qq",
+            "fisher-pry"
+        ],
         "names the page looks charts up by"
     );
 }
@@ -573,4 +581,55 @@ fn drift_chart_shows_one_marker_and_bar_per_prefix() {
     let svg = render_drift_svg(&rows[..1], &input, W, H).unwrap();
     assert!(svg.contains("Too few prefixes"));
     assert!(render_drift_svg(&rows, &input, 1, 1).is_err());
+}
+
+/// The Q-Q chart: one marker per residual (plus the legend's), its
+/// theoretical quantiles symmetric about zero, and the correlation printed.
+#[test]
+fn qq_chart_has_one_marker_per_residual_and_the_verdict() {
+    for case in [logistic(), gompertz(), exponential()] {
+        let svg = render_text(ChartKind::Qq, &case.input());
+        let name = case.fit.model.name();
+        assert_eq!(count(&svg, "<circle"), case.t.len() + 1, "{name}");
+        for text in [
+            "normal Q-Q plot",
+            "standard normal quantile",
+            "Q-Q correlation",
+            "least-squares line",
+        ] {
+            assert!(svg.contains(text), "{name}: missing {text:?}");
+        }
+        assert!(
+            svg.contains("Jarque–Bera") || svg.contains("too few"),
+            "{name}"
+        );
+    }
+}
+
+/// The Fisher–Pry chart with an entered K: logistic data with their true K
+/// read as straight, the same data with K set 40% too high as curved (an
+/// analytic fact of the transform: K too high bends the late points down).
+#[test]
+fn fisher_pry_chart_with_an_entered_k() {
+    let case = logistic();
+    let svg = render_fisher_pry_svg(&case.input(), Some(2.5e6), W, H)
+        .unwrap()
+        .replace("&apos;", "'");
+    assert!(svg.contains("Fisher–Pry view, K = 2.5M (entered)"), "{svg}");
+    assert!(svg.contains("straight line"), "logistic data, true K");
+    let svg = render_fisher_pry_svg(&case.input(), Some(3.5e6), W, H).unwrap();
+    assert!(svg.contains("bend downward"), "K too high");
+    // Through the dispatcher: the fitted K.
+    let svg = render_text(ChartKind::FisherPry, &case.input());
+    assert!(svg.contains("(fitted)"));
+    // K below the data: the dropped points are counted.
+    let svg = render_fisher_pry_svg(&case.input(), Some(1.5e6), W, H).unwrap();
+    assert!(
+        svg.contains("outside 0 &lt; y &lt; K not shown")
+            || svg.contains("outside 0 < y < K not shown")
+    );
+    // The exponential has no K: a message, unless one is entered.
+    let exp = exponential();
+    let svg = render_text(ChartKind::FisherPry, &exp.input());
+    assert!(svg.contains("needs a saturation level K"));
 }

@@ -2,7 +2,12 @@
 //! certified values, analytic facts, known-parameter recovery and scipy.
 
 mod bands;
+mod bootstrap_calibration;
 mod calibration;
+mod diagnostics;
+mod error_models;
 mod nist;
+mod profile;
 mod recovery;
 mod scipy;
+mod symmetry;

@@ -135,6 +135,67 @@ fn derived_times_on_period_axes_are_shown_as_dates() {
     assert!(lo < hi, "{lo} .. {hi}");
 }
 
+/// The page's diagnostics are the CLI's: the same core calls on the same
+/// data give the same verdicts, symmetry test and recommendation.
+#[test]
+fn diagnostics_match_the_core_and_take_the_entered_k() {
+    let a = demo();
+    let direct =
+        plateau_core::diagnostics::residual_diagnostics(&a.fit, &a.series.times, &a.values);
+    assert_eq!(a.view.diagnostics.verdicts, direct.verdicts);
+    assert_eq!(a.view.diagnostics.durbin_watson, direct.durbin_watson);
+    let sym = plateau_core::diagnostics::symmetry_test(
+        &a.series.times,
+        &a.values,
+        &FitOptions::default(),
+    )
+    .unwrap();
+    let shown = a.view.symmetry_test.as_ref().unwrap();
+    assert_eq!(shown.verdict, sym.verdict);
+    assert_eq!(shown.lr_p_value, sym.lr_p_value);
+    assert!(a.view.recommendation.model.is_some());
+    assert_eq!(a.view.lr_tests.len(), 2);
+    let fp = a.view.fisher_pry.as_ref().unwrap();
+    assert!(!fp.entered);
+    assert_eq!(fp.k, a.fit.param("K").unwrap().estimate);
+
+    let entered = analyse(
+        DEMO_TEXT,
+        &Settings {
+            fisher_pry_k: Some(2.0 * fp.k),
+            ..Settings::default()
+        },
+    )
+    .unwrap();
+    let fp2 = entered.view.fisher_pry.clone().unwrap();
+    assert!(fp2.entered);
+    // K twice the fitted saturation level: the points bend.
+    assert_eq!(fp2.verdict.code, "curved");
+    let bad = analyse(
+        DEMO_TEXT,
+        &Settings {
+            fisher_pry_k: Some(-1.0),
+            ..Settings::default()
+        },
+    )
+    .unwrap_err();
+    assert!(bad.message.contains("Fisher–Pry K"));
+    // The checks export has the CLI's diagnose shape and the entered K.
+    let v: serde_json::Value = serde_json::from_str(&entered.diagnose_json()).unwrap();
+    let mut keys: Vec<&str> = v.as_object().unwrap().keys().map(String::as_str).collect();
+    keys.sort_unstable();
+    let want = [
+        "caution",
+        "fisher_pry",
+        "fit",
+        "residuals",
+        "symmetry_test",
+        "verdicts",
+    ];
+    assert_eq!(keys, want);
+    assert_eq!(v["fisher_pry"]["k"], 2.0 * fp.k);
+}
+
 #[test]
 fn bootstrap_in_slices_gives_the_cli_numbers_and_milestone_intervals() {
     let a = demo();

@@ -78,8 +78,8 @@ pub fn fit(name: &str, series: &Series, f: &Fit) -> String {
     let _ = writeln!(s);
     let _ = writeln!(
         s,
-        "{:<10} {:>14} {:>14} {:>32}  {}",
-        "parameter", "estimate", "std error", "95% interval", "method"
+        "{:<10} {:>14} {:>14} {:>32}  method",
+        "parameter", "estimate", "std error", "95% interval"
     );
     let mut open_notes = Vec::new();
     for p in &f.params {

@@ -144,6 +144,13 @@ impl Bootstrap {
                 "the data do not match the fit (different numbers of points)".into(),
             ));
         }
+        if fit.error_model != ErrorModel::Additive || fit.increments {
+            return Err(BootstrapError(
+                "the bootstrap resamples additive errors of a fit to the values as given; \
+                 refit with additive errors and without increments to bootstrap"
+                    .into(),
+            ));
+        }
         if fit.free.is_empty() {
             return Err(BootstrapError(
                 "every parameter is fixed: there is nothing to refit".into(),

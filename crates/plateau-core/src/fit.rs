@@ -951,7 +951,7 @@ fn statistics(t: &[f64], model: Model, solved: &Solved, opts: &FitOptions) -> Fi
     let sigma2 = rss / dof as f64;
     let k = free.len();
     let cov = if r.len() == k * k {
-        stats::covariance_from_triangle(&r, k, n, sigma2)
+        stats::covariance_from_triangle(r, k, n, sigma2)
     } else {
         // No finite factorisation: nothing can be told apart.
         stats::Covariance {

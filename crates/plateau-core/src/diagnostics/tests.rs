@@ -164,7 +164,7 @@ fn recommendation_prefers_the_nested_logistic_when_lr_does_not_reject() {
                 .as_ref()
                 .is_ok_and(|f| f.warnings.is_empty());
         let lr = nested_tests(&entries);
-        (rich_first && lr.len() == 1 && lr[0].p_value >= ALPHA).then(|| (t, y, entries))
+        (rich_first && lr.len() == 1 && lr[0].p_value >= ALPHA).then_some((t, y, entries))
     });
     let (t, y, entries) = found.expect("a seed with Richards ahead on AICc but LR p ≥ 0.05");
     let rec = recommend(&entries, &t, &y);

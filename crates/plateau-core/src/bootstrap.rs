@@ -161,17 +161,6 @@ impl Bootstrap {
                 "the fit has no residual degrees of freedom, so no noise to resample".into(),
             ));
         }
-        if fit.error_model != ErrorModel::Additive || fit.increments {
-            return Err(BootstrapError(format!(
-                "the bootstrap resamples additive errors of the totals; this fit uses {}{}",
-                fit.error_model.name(),
-                if fit.increments {
-                    " errors on the increments"
-                } else {
-                    " errors"
-                }
-            )));
-        }
         if opts.replicates == 0 {
             return Err(BootstrapError(
                 "the number of bootstrap replicates must be at least 1".into(),

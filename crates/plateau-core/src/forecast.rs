@@ -194,6 +194,57 @@ mod tests {
     }
 
     #[test]
+    fn prediction_band_follows_the_error_model() {
+        // Relative errors: Var(new y) = σ² f², so (half/tq)² − var_mean = σ² f²
+        // (by construction of the error model, `fit::ErrorModel`); log errors
+        // give a band symmetric on the log scale; increments give none.
+        use crate::fit::{ErrorModel, FitOptions};
+        let t: Vec<f64> = (0..30).map(f64::from).collect();
+        let y: Vec<f64> = t
+            .iter()
+            .enumerate()
+            .map(|(i, &ti)| {
+                let f = Model::Logistic.eval(&[500.0, 0.4, 14.0], ti);
+                f * (1.0 + 0.03 * [-1.0, 0.5, 1.0, -0.5, 0.2][i % 5])
+            })
+            .collect();
+        let opts = |e| FitOptions {
+            error_model: e,
+            ..FitOptions::default()
+        };
+        let f = fit_xy(&t, &y, Model::Logistic, &opts(ErrorModel::Relative)).unwrap();
+        let tq = t_quantile(0.95, f.dof);
+        for &ti in &[2.0, 14.0, 35.0] {
+            let (clo, chi) = analysis::band(&f, ti, 0.95).unwrap();
+            let (plo, phi) = prediction_band(&f, ti, 0.95).unwrap();
+            let (c, p, m) = (
+                (chi - clo) / 2.0 / tq,
+                (phi - plo) / 2.0 / tq,
+                f.predict(ti),
+            );
+            let want = f.sigma * f.sigma * m * m;
+            assert!((p * p - c * c - want).abs() < 1e-9 * p * p, "t = {ti}");
+        }
+        let f = fit_xy(&t, &y, Model::Logistic, &opts(ErrorModel::Log)).unwrap();
+        let (plo, phi) = prediction_band(&f, 14.0, 0.95).unwrap();
+        let m = f.predict(14.0);
+        assert!(((phi / m).ln() + (plo / m).ln()).abs() < 1e-12);
+        let inc = FitOptions {
+            increments: true,
+            ..FitOptions::default()
+        };
+        let f = fit_xy(&t, &y, Model::Logistic, &inc).unwrap();
+        assert!(prediction_band(&f, 14.0, 0.95).is_none());
+        assert!(crate::bootstrap::Bootstrap::new(
+            &f,
+            &t,
+            &y,
+            &crate::bootstrap::BootstrapOptions::default()
+        )
+        .is_err());
+    }
+
+    #[test]
     fn grid_steps_to_the_end_and_is_capped() {
         assert_eq!(grid(10.0, 13.0, 1.0, 100), vec![11.0, 12.0, 13.0]);
         assert_eq!(grid(10.0, 12.5, 1.0, 100), vec![11.0, 12.0, 12.5]);

@@ -20,6 +20,7 @@
 
 use crate::fit::{fit_xy, Fit, FitError, FitOptions};
 use crate::model::Model;
+use crate::warning::WarningCode;
 use serde::Serialize;
 use statrs::distribution::{ChiSquared, ContinuousCDF, Normal, StudentsT};
 
@@ -640,8 +641,12 @@ pub fn symmetry_test_of(
             false,
             format!(
                 "no evidence against the logistic's symmetry: a free shape does not fit \
-                 significantly better ({evidence}); with data only before the midpoint the \
-                 test has little power"
+                 significantly better ({evidence}){}",
+                if logistic.has_warning(WarningCode::BeforeInflection) {
+                    "; the data end before the midpoint, where the test has little power"
+                } else {
+                    ""
+                }
             ),
         ),
         _ => verdict(

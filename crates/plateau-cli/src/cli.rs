@@ -65,6 +65,12 @@ pub struct FitArgs {
     /// Start a parameter from this value instead of the self-start (repeatable).
     #[arg(long, value_name = "NAME=VALUE")]
     pub start: Vec<String>,
+    #[command(flatten)]
+    pub errors: ErrorArgs,
+    /// 95% intervals: profile (profile likelihood, the default) or asymptotic
+    /// (estimate ± t·se, no refits).
+    #[arg(long, value_name = "METHOD", default_value = "profile")]
+    pub intervals: String,
     /// Print the JSON report instead of a table.
     #[arg(long)]
     pub json: bool,
@@ -84,6 +90,8 @@ pub struct CompareArgs {
     /// Hold a parameter at a known value in every model that has it (repeatable).
     #[arg(long, value_name = "NAME=VALUE")]
     pub fix: Vec<String>,
+    #[command(flatten)]
+    pub errors: ErrorArgs,
     /// Print the JSON report instead of a table.
     #[arg(long)]
     pub json: bool,
@@ -99,6 +107,8 @@ pub struct DiagnoseArgs {
     /// Hold a parameter at a known value, e.g. --fix K=2500000 (repeatable).
     #[arg(long, value_name = "NAME=VALUE")]
     pub fix: Vec<String>,
+    #[command(flatten)]
+    pub errors: ErrorArgs,
     /// Saturation level for the Fisher–Pry check (default: the fitted K).
     #[arg(long, value_name = "K")]
     pub fisher_pry_k: Option<f64>,
@@ -111,4 +121,20 @@ pub struct DiagnoseArgs {
     /// Also write the Fisher–Pry chart as SVG to FILE.
     #[arg(long, value_name = "FILE")]
     pub fisher_pry_svg: Option<String>,
+}
+
+/// How the observations scatter about the curve, and what is fitted.
+#[derive(Args, Debug)]
+pub struct ErrorArgs {
+    /// Error model: additive (same scatter at every level), relative (scatter
+    /// proportional to the curve; weights 1/fitted², reweighted), log (fit
+    /// ln y − ln f; values must be positive) or count (variance proportional
+    /// to the curve; weights 1/fitted, reweighted).
+    #[arg(long, value_name = "MODEL", default_value = "additive")]
+    pub errors: String,
+    /// Fit the per-period increments of the curve to the differences of the
+    /// running totals instead of the totals themselves: totals carry every
+    /// earlier error forward, which makes intervals too narrow.
+    #[arg(long)]
+    pub increments: bool,
 }

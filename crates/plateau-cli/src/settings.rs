@@ -1,10 +1,10 @@
 //! Validated settings: the raw flags of [`crate::cli`] turned into core
 //! options, with a message naming the flag when one is wrong.
 
-use crate::cli::{CompareArgs, DiagnoseArgs, FitArgs, InputArgs};
+use crate::cli::{CompareArgs, DiagnoseArgs, ErrorArgs, FitArgs, InputArgs};
 use anyhow::{anyhow, bail, Result};
 use plateau_core::data::ColumnRef;
-use plateau_core::{FitOptions, Model, ParseOptions};
+use plateau_core::{ErrorModel, FitOptions, IntervalMethod, Model, ParseOptions};
 
 pub struct FitSettings {
     pub parse: ParseOptions,
@@ -25,9 +25,29 @@ pub fn fit(args: &FitArgs) -> Result<FitSettings> {
         fit: FitOptions {
             fixed: assignments("--fix", &args.fix)?,
             start: assignments("--start", &args.start)?,
+            error_model: error_model(&args.errors)?,
+            increments: args.errors.increments,
+            intervals: intervals(&args.intervals)?,
             ..FitOptions::default()
         },
     })
+}
+
+fn error_model(args: &ErrorArgs) -> Result<ErrorModel> {
+    ErrorModel::from_name(&args.errors).ok_or_else(|| {
+        anyhow!(
+            "--errors: expected additive, relative, log or count, found {:?}",
+            args.errors
+        )
+    })
+}
+
+fn intervals(s: &str) -> Result<IntervalMethod> {
+    match s.trim() {
+        "profile" => Ok(IntervalMethod::Profile),
+        "asymptotic" => Ok(IntervalMethod::Asymptotic),
+        other => bail!("--intervals: expected profile or asymptotic, found {other:?}"),
+    }
 }
 
 pub fn compare(args: &CompareArgs) -> Result<CompareSettings> {
@@ -47,6 +67,8 @@ pub fn compare(args: &CompareArgs) -> Result<CompareSettings> {
         models,
         fit: FitOptions {
             fixed: assignments("--fix", &args.fix)?,
+            error_model: error_model(&args.errors)?,
+            increments: args.errors.increments,
             ..FitOptions::default()
         },
     })
@@ -70,6 +92,10 @@ pub fn diagnose(args: &DiagnoseArgs) -> Result<DiagnoseSettings> {
         model: model(&args.model)?,
         fit: FitOptions {
             fixed: assignments("--fix", &args.fix)?,
+            error_model: error_model(&args.errors)?,
+            increments: args.errors.increments,
+            // The checks read residuals and likelihoods, not intervals.
+            intervals: IntervalMethod::Asymptotic,
             ..FitOptions::default()
         },
         fisher_pry_k: args.fisher_pry_k,

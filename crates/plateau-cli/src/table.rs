@@ -52,7 +52,9 @@ pub fn fit(name: &str, series: &Series, f: &Fit) -> String {
     let _ = writeln!(
         s,
         "data       {name}: {} points, {} against {}",
-        f.n, series.value_name, series.time_name
+        series.times.len(),
+        series.value_name,
+        series.time_name
     );
     let _ = writeln!(
         s,
@@ -65,27 +67,70 @@ pub fn fit(name: &str, series: &Series, f: &Fit) -> String {
         f.iterations,
         f.termination.describe()
     );
+    let _ = writeln!(s, "errors     {}", f.error_model.describe());
+    if f.increments {
+        let _ = writeln!(
+            s,
+            "fitted     per-period increments: {} differences of the running totals",
+            f.n
+        );
+    }
     let _ = writeln!(s);
     let _ = writeln!(
         s,
-        "{:<10} {:>14} {:>14} {:>32}",
+        "{:<10} {:>14} {:>14} {:>32}  method",
         "parameter", "estimate", "std error", "95% interval"
     );
+    let mut open_notes = Vec::new();
     for p in &f.params {
-        let interval = match (p.fixed, p.ci95) {
+        let interval = match (p.fixed, p.interval) {
             (true, _) => "fixed".to_string(),
-            (false, Some((lo, hi))) => format!("[{}, {}]", num(lo), num(hi)),
+            (false, Some(iv)) => match (iv.lo, iv.hi) {
+                (Some(lo), Some(hi)) => format!("[{}, {}]", num(lo), num(hi)),
+                (Some(lo), None) => {
+                    open_notes.push(format!("{} ≥ {} (95%)", p.name, num(lo)));
+                    format!("≥ {}", num(lo))
+                }
+                (None, Some(hi)) => {
+                    open_notes.push(format!("{} ≤ {} (95%)", p.name, num(hi)));
+                    format!("≤ {}", num(hi))
+                }
+                (None, None) => {
+                    open_notes.push(format!("{}: no bound on either side (95%)", p.name));
+                    "unbounded".to_string()
+                }
+            },
             (false, None) => "not available".to_string(),
+        };
+        let method = p.interval.map_or("", |iv| iv.method.as_str());
+        // A parameter the data do not determine gets no standard error in
+        // the table either: it would read as an interval.
+        let se = if p.identified {
+            opt(p.std_error)
+        } else {
+            "-".to_string()
         };
         let _ = writeln!(
             s,
-            "{:<10} {:>14} {:>14} {:>32}{}",
+            "{:<10} {:>14} {:>14} {:>32}  {}{}",
             p.name,
             num(p.estimate),
-            opt(p.std_error),
+            se,
             interval,
+            method,
             time_note(series.time_kind, p.name, p.estimate)
         );
+    }
+    if f.params.iter().any(|p| !p.identified) {
+        let _ = writeln!(s);
+        let _ = writeln!(
+            s,
+            "K IS NOT DETERMINED BY THESE DATA: the estimate above is one point of a long, flat \
+             valley; only the bound shown is supported."
+        );
+    }
+    for note in &open_notes {
+        let _ = writeln!(s, "  {note}: the data set no bound on the other side");
     }
     let _ = writeln!(s);
     let _ = writeln!(
@@ -105,6 +150,15 @@ pub fn fit(name: &str, series: &Series, f: &Fit) -> String {
         num(f.bic),
         num(f.condition_number)
     );
+    if !f.increments && looks_cumulative(&series.values) {
+        let _ = writeln!(s);
+        let _ = writeln!(
+            s,
+            "note: running totals carry each period's error into every later value, so the \
+             residuals are autocorrelated and the intervals above are likely too narrow; \
+             --increments fits the per-period changes instead (King et al., Proc. R. Soc. B 2015)."
+        );
+    }
     let warnings: Vec<_> = series.warnings.iter().chain(&f.warnings).collect();
     if !warnings.is_empty() {
         let _ = writeln!(s);
@@ -116,6 +170,11 @@ pub fn fit(name: &str, series: &Series, f: &Fit) -> String {
     let _ = writeln!(s);
     let _ = writeln!(s, "Caution: {CAUTION}");
     s
+}
+
+/// Values that never fall: probably running totals.
+fn looks_cumulative(values: &[f64]) -> bool {
+    values.len() > 2 && values.windows(2).all(|w| w[1] >= w[0])
 }
 
 pub fn compare(name: &str, series: &Series, entries: &[Entry], report: &CompareReport) -> String {

@@ -34,6 +34,6 @@ pub mod stats;
 pub mod warning;
 
 pub use data::{parse_series, ParseOptions, Series};
-pub use fit::{fit, Fit, FitError, FitOptions};
+pub use fit::{fit, ErrorModel, Fit, FitError, FitOptions, IntervalMethod};
 pub use model::Model;
 pub use warning::{Warning, WarningCode};

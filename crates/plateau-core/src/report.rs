@@ -27,9 +27,23 @@ pub struct ParamReport {
     pub estimate: f64,
     /// `null` for a fixed parameter or when the covariance does not exist.
     pub std_error: Option<f64>,
-    /// 95% interval `[lo, hi]`, or `null`.
-    pub ci95: Option<[f64; 2]>,
+    /// The 95% interval `[lo, hi]`, by `ci_method`. A side is `null` when
+    /// the interval is open there (the profile never reached the 95%
+    /// threshold within the search, so the data set no bound); the whole
+    /// field is `null` for a fixed parameter (nothing is propagated for
+    /// it) or when no interval exists.
+    pub ci95: Option<[Option<f64>; 2]>,
+    /// `"profile"` (profile likelihood) or `"asymptotic"` (estimate ±
+    /// t·se, used when the profile could not be traced; a
+    /// `profile_not_computed` warning says why); `null` with `ci95`.
+    pub ci_method: Option<&'static str>,
+    /// `estimate ± t(0.975, dof) · std_error`; `null` for a fixed
+    /// parameter, without a covariance, or when `identified` is false.
+    pub ci95_asymptotic: Option<[f64; 2]>,
     pub fixed: bool,
+    /// `false` when the data do not determine the parameter (K under
+    /// `saturation_not_identified`): no upper bound is given then.
+    pub identified: bool,
 }
 
 /// Parameters in the model's own order (a JSON object keeps the order the
@@ -52,6 +66,12 @@ impl Serialize for Params {
 pub struct FitReport {
     pub model: &'static str,
     pub formula: &'static str,
+    /// `additive`, `relative`, `log` or `count` (see `fit::ErrorModel`):
+    /// it sets what `rss`, `sigma` and the criteria are measured on.
+    pub error_model: &'static str,
+    /// `true` when per-period increments were fitted instead of the
+    /// cumulative values; `n` then counts the increments.
+    pub increments: bool,
     pub n: usize,
     pub dof: usize,
     pub rss: f64,
@@ -83,8 +103,11 @@ impl FitReport {
                     ParamReport {
                         estimate: p.estimate,
                         std_error: p.std_error,
-                        ci95: p.ci95.map(|(a, b)| [a, b]),
+                        ci95: p.interval.map(|i| [i.lo, i.hi]),
+                        ci_method: p.interval.map(|i| i.method.as_str()),
+                        ci95_asymptotic: p.ci95.filter(|_| p.identified).map(|(a, b)| [a, b]),
                         fixed: p.fixed,
+                        identified: p.identified,
                     },
                 )
             })
@@ -92,6 +115,8 @@ impl FitReport {
         FitReport {
             model: fit.model.name(),
             formula: fit.model.formula(),
+            error_model: fit.error_model.name(),
+            increments: fit.increments,
             n: fit.n,
             dof: fit.dof,
             rss: fit.rss,

@@ -161,8 +161,116 @@ fn fixed_k_is_reported_as_fixed() {
     ));
     assert_eq!(v["params"]["K"]["estimate"], 8000.0);
     assert_eq!(v["params"]["K"]["fixed"], true);
-    assert!(v["params"]["K"]["std_error"].is_null());
+    // Nothing is propagated for a fixed parameter.
+    for field in ["std_error", "ci95", "ci_method", "ci95_asymptotic"] {
+        assert!(v["params"]["K"][field].is_null(), "{field}");
+    }
     assert_eq!(v["dof"], v["n"].as_u64().unwrap() - 2);
+    // The rest is fitted and has intervals.
+    for p in ["r", "t0"] {
+        assert_eq!(v["params"][p]["fixed"], false);
+        assert_eq!(v["params"][p]["ci_method"], "profile");
+        assert!(v["params"][p]["ci95"][0].as_f64().is_some());
+    }
+}
+
+#[test]
+fn intervals_are_profile_by_default_with_the_asymptotic_kept() {
+    let v = json(&plateau(
+        &["fit", &demo("aldermoor_subscribers.csv"), "--json"],
+        None,
+    ));
+    assert_eq!(v["error_model"], "additive");
+    assert_eq!(v["increments"], false);
+    for p in ["K", "r", "t0"] {
+        assert_eq!(v["params"][p]["ci_method"], "profile");
+        assert_eq!(v["params"][p]["identified"], true);
+        let asym = v["params"][p]["ci95_asymptotic"].as_array().unwrap();
+        let est = v["params"][p]["estimate"].as_f64().unwrap();
+        let se = v["params"][p]["std_error"].as_f64().unwrap();
+        // The asymptotic interval is symmetric: estimate ± t·se.
+        let lo = asym[0].as_f64().unwrap();
+        let hi = asym[1].as_f64().unwrap();
+        assert!(((est - lo) - (hi - est)).abs() < 1e-9 * se);
+    }
+    let asym = json(&plateau(
+        &[
+            "fit",
+            &demo("aldermoor_subscribers.csv"),
+            "--intervals",
+            "asymptotic",
+            "--json",
+        ],
+        None,
+    ));
+    assert_eq!(asym["params"]["K"]["ci_method"], "asymptotic");
+    assert_eq!(
+        asym["params"]["K"]["ci95"],
+        v["params"]["K"]["ci95_asymptotic"]
+    );
+}
+
+/// A series that ends far before its inflection (values of 10·e^(0.3 t),
+/// the early part of a logistic with K ≫ 200): K gets no upper bound.
+#[test]
+fn early_series_gives_an_open_k_interval_and_the_warning() {
+    let text =
+        "t,y\n0,10.1\n1,13.4\n2,18.3\n3,24.5\n4,33.2\n5,44.9\n6,60.4\n7,81.7\n8,110.0\n9,148.9\n";
+    let v = json(&plateau(&["fit", "-", "--json"], Some(text)));
+    let codes: Vec<&str> = v["warnings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|w| w["code"].as_str().unwrap())
+        .collect();
+    assert!(codes.contains(&"saturation_not_identified"), "{codes:?}");
+    let k = &v["params"]["K"];
+    assert_eq!(k["identified"], false);
+    assert!(k["ci95"][1].is_null(), "{k}");
+    assert!(k["ci95_asymptotic"].is_null());
+    let table = plateau(&["fit", "-"], Some(text));
+    let out = String::from_utf8_lossy(&table.stdout);
+    assert!(out.contains("K ≥ "), "{out}");
+    assert!(out.contains("NOT DETERMINED"), "{out}");
+}
+
+#[test]
+fn error_models_and_increments_are_reported() {
+    let path = demo("weekly_signups.csv");
+    let v = json(&plateau(
+        &[
+            "fit",
+            &path,
+            "--per-period",
+            "--increments",
+            "--errors",
+            "count",
+            "--json",
+        ],
+        None,
+    ));
+    assert_eq!(v["error_model"], "count");
+    assert_eq!(v["increments"], true);
+    // 52 weekly rows give 51 differences; fitted values stay one per row.
+    assert_eq!(v["n"], 51);
+    assert_eq!(v["fitted"].as_array().unwrap().len(), 52);
+    for e in ["additive", "relative", "log"] {
+        let w = json(&plateau(
+            &["fit", &path, "--per-period", "--errors", e, "--json"],
+            None,
+        ));
+        assert_eq!(w["error_model"], e);
+    }
+    let bad = plateau(&["fit", &path, "--errors", "poisson"], None);
+    assert_eq!(bad.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&bad.stderr).contains("--errors"));
+    // The log scale needs positive values: a zero is named, not dropped.
+    let zero = plateau(
+        &["fit", "-", "--errors", "log"],
+        Some("t,y\n1,0\n2,3\n3,8\n4,15\n5,20\n6,22\n"),
+    );
+    assert_eq!(zero.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&zero.stderr).contains("time 1"));
 }
 
 /// Akaike weights as defined by Burnham & Anderson (2002, §2.9): ranked by

@@ -1,8 +1,11 @@
 //! Integration tests of the core against outside references: NIST StRD
 //! certified values, analytic facts, known-parameter recovery and scipy.
 
+mod calibration;
 mod diagnostics;
+mod error_models;
 mod nist;
+mod profile;
 mod recovery;
 mod scipy;
 mod symmetry;

@@ -20,6 +20,7 @@ const bench = new Workbench();
 const DEFAULTS = {
   model: "logistic", fixedK: null, horizon: 12, perPeriod: false,
   timeColumn: null, valueColumn: null, share: 95, level: null, fisherPryK: null,
+  bootstrap: false, resampling: "residual", replicates: 1000, seed: 20240601,
 };
 
 let state = restore();
@@ -64,6 +65,10 @@ function readControls() {
   s.level = numberOrNull($("level"));
   s.fisherPryK = numberOrNull($("fisher-pry-k"));
   s.perPeriod = $("accum-per-period").checked;
+  s.bootstrap = $("bootstrap").checked;
+  s.resampling = $("resampling").value;
+  s.replicates = Math.max(1, Math.round(numberOrNull($("replicates")) ?? 1000));
+  s.seed = Math.max(0, Math.round(numberOrNull($("seed")) ?? 20240601));
   if (!$("columns").hidden) {
     s.timeColumn = Number($("time-col").value);
     s.valueColumn = Number($("value-col").value);
@@ -81,6 +86,10 @@ function writeControls() {
   $("fisher-pry-k").value = s.fisherPryK ?? "";
   $("accum-per-period").checked = !!s.perPeriod;
   $("accum-cumulative").checked = !s.perPeriod;
+  $("bootstrap").checked = !!s.bootstrap;
+  $("resampling").value = s.resampling;
+  $("replicates").value = s.replicates;
+  $("seed").value = s.seed;
 }
 
 const fmt = (x) => {
@@ -126,6 +135,7 @@ function showView(v) {
     tr.lastChild.dataset.value = String(p.estimate);
     cell(tr, p.fixed ? "fixed" : fmt(p.stdError));
     cell(tr, p.ci95 ? `${fmt(p.ci95[0])} … ${fmt(p.ci95[1])}` : "–");
+    cell(tr, "–", "boot");
     return tr;
   }));
 
@@ -144,13 +154,7 @@ function showView(v) {
     return tr;
   }));
 
-  fillBody("milestones", v.milestones.map((m) => {
-    const tr = document.createElement("tr");
-    cell(tr, m.label);
-    cell(tr, m.timeText + (m.forecast ? " (forecast)" : ""));
-    cell(tr, m.ci95Text ? `${m.ci95Text[0]} … ${m.ci95Text[1]}` : "–");
-    return tr;
-  }));
+  showMilestones(v.milestones);
   const unit = v.timeUnit ? ` ${v.timeUnit}s` : " time units";
   $("duration").textContent = v.duration1090 == null ? "" :
     `From 10% to 90% of K takes ${fmt(v.duration1090)}${unit}` + (v.model === "logistic" ? " (ln 81 / r)." : ".");
@@ -237,6 +241,83 @@ function showChecks(v) {
   $("lr-tests").textContent = v.lrTests.map((t) => t.note ? `${t.nested} within ${t.general}: ${t.note}` : "").join(" ");
 }
 
+function showMilestones(rows) {
+  fillBody("milestones", rows.map((m) => {
+    const tr = document.createElement("tr");
+    tr.dataset.verdict = m.verdict;
+    cell(tr, m.label);
+    cell(tr, m.timeText + (m.forecast ? " (forecast)" : ""), "when");
+    if (m.note) tr.lastChild.title = m.note;
+    cell(tr, m.ci95Text ? `${m.ci95Text[0]} … ${m.ci95Text[1]}` : "–", "delta");
+    cell(tr, m.bootstrapText ? `${m.bootstrapText[0]} … ${m.bootstrapText[1]}` : "–", "boot");
+    if (m.note && !["observed", "forecast"].includes(m.verdict)) {
+      const small = document.createElement("div");
+      small.className = "hint";
+      small.textContent = m.note;
+      tr.cells[1].appendChild(small);
+    }
+    return tr;
+  }));
+}
+
+// The bootstrap runs in slices of about 12 ms of work, each in its own
+// task, so the page stays responsive; a new update cancels a running one.
+let bootRun = 0;
+function startBootstrap() {
+  const run = ++bootRun;
+  const progress = $("boot-progress");
+  const status = $("boot-status");
+  if (!state.settings.bootstrap) {
+    progress.hidden = true;
+    status.textContent = "";
+    delete document.body.dataset.bootstrap;
+    return;
+  }
+  try {
+    bench.bootstrapStart();
+  } catch (e) {
+    status.textContent = e.message;
+    document.body.dataset.bootstrap = "error";
+    return;
+  }
+  const total = state.settings.replicates;
+  progress.max = total;
+  progress.value = 0;
+  progress.hidden = false;
+  status.textContent = `0 of ${total} refits`;
+  document.body.dataset.bootstrap = "running";
+  const started = performance.now();
+  let busy = 0;
+  const slice = () => {
+    if (run !== bootRun) return;
+    const t = performance.now();
+    let done;
+    do { done = bench.bootstrapStep(10); } while (done < total && performance.now() - t < 12);
+    busy += performance.now() - t;
+    progress.value = done;
+    status.textContent = `${done} of ${total} refits`;
+    if (done < total) { setTimeout(slice, 0); return; }
+    const bv = bench.bootstrapView();
+    showBootstrap(bv);
+    // Wall time from start to finish, and the time spent computing.
+    window.plateauBootstrapMs = performance.now() - started;
+    window.plateauBootstrapComputeMs = busy;
+    document.body.dataset.bootstrap = "done";
+  };
+  setTimeout(slice, 0);
+}
+
+function showBootstrap(bv) {
+  const rows = $("params").tBodies[0].rows;
+  bv.params.forEach((p, i) => {
+    const td = rows[i] && rows[i].querySelector("td.boot");
+    if (td) td.textContent = p ? `${fmt(p[0])} … ${fmt(p[1])}` : "–";
+  });
+  showMilestones(bv.milestones);
+  $("boot-status").textContent = `B = ${bv.replicates} (${bv.resampling}), seed ${bv.seed}; ` +
+    `${bv.failed} refit${bv.failed === 1 ? "" : "s"} failed and left out; percentile intervals.`;
+}
+
 function drawCharts() {
   for (const canvas of document.querySelectorAll("canvas.chart")) {
     const dpr = window.devicePixelRatio || 1;
@@ -268,6 +349,7 @@ function update() {
   }
   showView(view);
   drawCharts();
+  startBootstrap();
   setStatus(`${view.stats.n} points read: ${view.valueName} against ${view.timeName}.`, false);
   $("data-label").textContent = state.demo ? demoLabel() : "";
   window.plateauLastUpdateMs = performance.now() - started;
@@ -311,7 +393,7 @@ function loadText(text) {
 
 function wire() {
   $("data").addEventListener("input", () => changed({ text: true }));
-  for (const id of ["model", "fixed-k", "fisher-pry-k", "horizon", "share", "level", "time-col", "value-col", "accum-cumulative", "accum-per-period"]) {
+  for (const id of ["model", "fixed-k", "fisher-pry-k", "horizon", "share", "level", "bootstrap", "resampling", "replicates", "seed", "time-col", "value-col", "accum-cumulative", "accum-per-period"]) {
     $(id).addEventListener("change", () => changed({ immediate: true }));
   }
   $("file").addEventListener("change", async (ev) => {

@@ -6,7 +6,8 @@
 //! [`ChartKind`], the drawing functions [`draw_curve`],
 //! [`draw_residuals`], [`draw_symmetry`], [`draw_linear`], [`draw_rate`],
 //! [`draw_qq`] and [`draw_fisher_pry`] (plus the dispatcher [`draw`]), the straight-line transform
-//! [`linearise`], [`render_svg`], and [`ChartError`].
+//! [`linearise`], [`render_svg`], and [`ChartError`]. The drift chart
+//! ([`draw_drift`], [`render_drift_svg`]) has its own input, [`DriftInput`].
 //!
 //! No fonts are loaded: text goes through plotters' built-in font handling
 //! (no `ttf` feature), which on SVG emits `<text>` elements for the viewer
@@ -19,6 +20,7 @@
 
 mod common;
 mod curve;
+mod drift;
 mod fisher_pry;
 mod linear;
 pub mod palette;
@@ -35,6 +37,7 @@ use std::fmt;
 
 pub use common::{format_value, plain_time};
 pub use curve::draw_curve;
+pub use drift::{draw_drift, render_drift_svg, DriftInput};
 pub use fisher_pry::draw_fisher_pry;
 pub use linear::{draw_linear, linearise};
 pub use qq::draw_qq;

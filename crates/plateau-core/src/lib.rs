@@ -20,12 +20,17 @@
 //! [`diagnostics`] reads the residuals and tests the curve's symmetry.
 
 pub mod analysis;
+pub mod bootstrap;
 pub mod compare;
 pub mod data;
 pub mod diagnostics;
+pub mod drift;
 pub mod fit;
+pub mod forecast;
+pub mod forecast_report;
 mod linalg;
 mod mathfn;
+pub mod milestones;
 pub mod model;
 pub mod report;
 pub mod solver;

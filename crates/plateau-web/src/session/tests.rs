@@ -195,3 +195,52 @@ fn diagnostics_match_the_core_and_take_the_entered_k() {
     assert_eq!(keys, want);
     assert_eq!(v["fisher_pry"]["k"], 2.0 * fp.k);
 }
+
+#[test]
+fn bootstrap_in_slices_gives_the_cli_numbers_and_milestone_intervals() {
+    let a = demo();
+    let mut sliced = start_bootstrap(&a).unwrap();
+    let mut steps = 0;
+    while !sliced.is_finished() {
+        let v = bootstrap_view(&a, &sliced);
+        assert!(!v.finished && v.params.iter().all(Option::is_none));
+        sliced.step(37);
+        steps += 1;
+    }
+    assert_eq!(steps, 1000usize.div_ceil(37));
+    let v = bootstrap_view(&a, &sliced);
+    assert!(v.finished && v.done == 1000 && v.seed == Settings::default().seed);
+    // The same numbers as a bootstrap run at once with the same options
+    // (what `plateau forecast --bootstrap` does).
+    let mut whole = start_bootstrap(&a).unwrap();
+    whole.run();
+    for (j, p) in v.params.iter().enumerate() {
+        let [lo, hi] = p.unwrap();
+        assert_eq!(whole.param_interval(j, 0.95), Some((lo, hi)));
+    }
+    let half = v.milestones.iter().find(|m| m.label == "50% of K").unwrap();
+    assert!(half.bootstrap_text.is_some() && half.ci95_text.is_some());
+}
+
+#[test]
+fn unreachable_levels_say_so_and_drift_rows_are_there() {
+    let a = analyse(
+        DEMO_TEXT,
+        &Settings {
+            level: Some(1e9),
+            ..Settings::default()
+        },
+    )
+    .unwrap();
+    let row = a
+        .view
+        .milestones
+        .iter()
+        .find(|m| m.label == "level 1000000000")
+        .unwrap();
+    assert_eq!(row.verdict, "not_reached");
+    assert_eq!(row.time_text, "not reached");
+    assert!(row.ci95_text.is_none() && row.note.contains("never reaches"));
+    assert!(!a.drift.is_empty() && a.drift.len() <= DRIFT_ROWS);
+    assert_eq!(a.drift.last().unwrap().m, a.series.times.len());
+}

@@ -345,6 +345,137 @@ fn per_period_counts_are_summed_before_fitting() {
     assert_eq!(a["fitted"], b["fitted"]);
 }
 
+/// `plateau diagnose --json`: the diagnostics, the symmetry test and the
+/// verdicts. On the Gompertz demo file (demo-data/README.md) a logistic fit
+/// must be read as streaky and asymmetric with the late phase slower; on a
+/// logistic file with its true K (12000) the Fisher–Pry points must read as
+/// straight, and with K = 14000 as curved.
+#[test]
+fn diagnose_json_reads_the_generating_shape() {
+    let v = json(&plateau(
+        &["diagnose", &demo("harrow_fields_capacity.csv"), "--json"],
+        None,
+    ));
+    for key in [
+        "fit",
+        "residuals",
+        "symmetry_test",
+        "fisher_pry",
+        "verdicts",
+        "caution",
+    ] {
+        assert!(v.get(key).is_some(), "missing {key}");
+    }
+    let r = &v["residuals"];
+    assert!(r["durbin_watson"].as_f64().unwrap() < 1.5);
+    assert!(r["runs"]["p_value"].as_f64().unwrap() < 0.05);
+    assert_eq!(r["qq"]["points"].as_array().unwrap().len(), 36);
+    let s = &v["symmetry_test"];
+    assert_eq!(s["asymmetric"], true);
+    assert_eq!(s["direction"], "late_slower");
+    let codes: Vec<&str> = v["verdicts"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|x| x["code"].as_str().unwrap())
+        .collect();
+    assert!(
+        codes.contains(&"runs_streaks") && codes.contains(&"asymmetric"),
+        "{codes:?}"
+    );
+
+    let k = |k: &str| {
+        json(&plateau(
+            &[
+                "diagnose",
+                &demo("aldermoor_subscribers.csv"),
+                "--json",
+                "--fisher-pry-k",
+                k,
+            ],
+            None,
+        ))
+    };
+    assert_eq!(k("12000")["fisher_pry"]["verdict"]["code"], "straight");
+    assert_eq!(k("14000")["fisher_pry"]["verdict"]["code"], "curved");
+    assert_eq!(k("14000")["fisher_pry"]["k"], 14000.0);
+}
+
+#[test]
+fn diagnose_table_svgs_and_bad_k() {
+    let dir = std::env::temp_dir().join(format!("plateau-diag-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let qq = dir.join("qq.svg");
+    let fp = dir.join("fp.svg");
+    let out = plateau(
+        &[
+            "diagnose",
+            &demo("aldermoor_subscribers.csv"),
+            "--qq-svg",
+            qq.to_str().unwrap(),
+            "--fisher-pry-svg",
+            fp.to_str().unwrap(),
+            "--fisher-pry-k",
+            "13000",
+        ],
+        None,
+    );
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let text = String::from_utf8(out.stdout).unwrap();
+    for needle in [
+        "runs test",
+        "Durbin-Watson",
+        "verdicts",
+        "Fisher-Pry, K = 13000 (entered)",
+        "Caution:",
+    ] {
+        assert!(text.contains(needle), "missing {needle:?}:\n{text}");
+    }
+    assert!(std::fs::read_to_string(&qq)
+        .unwrap()
+        .contains("normal Q-Q plot"));
+    assert!(std::fs::read_to_string(&fp).unwrap().contains("(entered)"));
+    let _ = std::fs::remove_dir_all(&dir);
+    let out = plateau(
+        &[
+            "diagnose",
+            &demo("aldermoor_subscribers.csv"),
+            "--fisher-pry-k=0",
+        ],
+        None,
+    );
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("--fisher-pry-k"));
+}
+
+/// `plateau compare --json` carries BIC, the likelihood-ratio tests and a
+/// recommendation with reasons; on the logistic4 demo file
+/// (demo-data/README.md) it recommends logistic4.
+#[test]
+fn compare_json_has_lr_tests_and_a_recommendation() {
+    let v = json(&plateau(
+        &["compare", &demo("tariff_share_monthly.csv"), "--json"],
+        None,
+    ));
+    let rows = v["models"].as_array().unwrap();
+    assert!(rows
+        .iter()
+        .all(|r| r.get("bic").is_some() && r.get("delta_bic").is_some()));
+    let lr = v["lr_tests"].as_array().unwrap();
+    assert_eq!(lr.len(), 2);
+    assert_eq!(lr[0]["nested"], "logistic");
+    assert!(lr[0]["p_value"].as_f64().unwrap() < 0.05);
+    assert_eq!(v["recommendation"]["model"], "logistic4");
+    assert!(v["recommendation"]["reasons"].as_array().unwrap().len() >= 3);
+    let out = plateau(&["compare", &demo("tariff_share_monthly.csv")], None);
+    let text = String::from_utf8(out.stdout).unwrap();
+    assert!(text.contains("recommendation: logistic4") && text.contains("likelihood-ratio tests"));
+}
+
 #[test]
 fn forecast_json_has_bands_milestones_and_a_reproducible_bootstrap() {
     let file = demo("fenwick_vale_subscribers.csv");
@@ -510,133 +641,31 @@ fn backtest_scores_every_model_by_horizon() {
     assert_eq!(out.status.code(), Some(2));
 }
 
-/// `plateau diagnose --json`: the diagnostics, the symmetry test and the
-/// verdicts. On the Gompertz demo file (demo-data/README.md) a logistic fit
-/// must be read as streaky and asymmetric with the late phase slower; on a
-/// logistic file with its true K (12000) the Fisher–Pry points must read as
-/// straight, and with K = 14000 as curved.
+/// `plateau diagnose` takes the error model and increments of `plateau fit`;
+/// the residuals follow them (n − 1 increments).
 #[test]
-fn diagnose_json_reads_the_generating_shape() {
-    let v = json(&plateau(
-        &["diagnose", &demo("harrow_fields_capacity.csv"), "--json"],
-        None,
-    ));
-    for key in [
-        "fit",
-        "residuals",
-        "symmetry_test",
-        "fisher_pry",
-        "verdicts",
-        "caution",
-    ] {
-        assert!(v.get(key).is_some(), "missing {key}");
-    }
-    let r = &v["residuals"];
-    assert!(r["durbin_watson"].as_f64().unwrap() < 1.5);
-    assert!(r["runs"]["p_value"].as_f64().unwrap() < 0.05);
-    assert_eq!(r["qq"]["points"].as_array().unwrap().len(), 36);
-    let s = &v["symmetry_test"];
-    assert_eq!(s["asymmetric"], true);
-    assert_eq!(s["direction"], "late_slower");
-    let codes: Vec<&str> = v["verdicts"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .map(|x| x["code"].as_str().unwrap())
-        .collect();
-    assert!(
-        codes.contains(&"runs_streaks") && codes.contains(&"asymmetric"),
-        "{codes:?}"
-    );
-
-    let k = |k: &str| {
-        json(&plateau(
-            &[
-                "diagnose",
-                &demo("aldermoor_subscribers.csv"),
-                "--json",
-                "--fisher-pry-k",
-                k,
-            ],
-            None,
-        ))
-    };
-    assert_eq!(k("12000")["fisher_pry"]["verdict"]["code"], "straight");
-    assert_eq!(k("14000")["fisher_pry"]["verdict"]["code"], "curved");
-    assert_eq!(k("14000")["fisher_pry"]["k"], 14000.0);
-}
-
-#[test]
-fn diagnose_table_svgs_and_bad_k() {
-    let dir = std::env::temp_dir().join(format!("plateau-diag-{}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap();
-    let qq = dir.join("qq.svg");
-    let fp = dir.join("fp.svg");
-    let out = plateau(
+fn diagnose_follows_the_error_model_and_increments() {
+    let rel = json(&plateau(
         &[
             "diagnose",
             &demo("aldermoor_subscribers.csv"),
-            "--qq-svg",
-            qq.to_str().unwrap(),
-            "--fisher-pry-svg",
-            fp.to_str().unwrap(),
-            "--fisher-pry-k",
-            "13000",
+            "--json",
+            "--errors",
+            "relative",
         ],
         None,
-    );
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    let text = String::from_utf8(out.stdout).unwrap();
-    for needle in [
-        "runs test",
-        "Durbin-Watson",
-        "verdicts",
-        "Fisher-Pry, K = 13000 (entered)",
-        "Caution:",
-    ] {
-        assert!(text.contains(needle), "missing {needle:?}:\n{text}");
-    }
-    assert!(std::fs::read_to_string(&qq)
-        .unwrap()
-        .contains("normal Q-Q plot"));
-    assert!(std::fs::read_to_string(&fp).unwrap().contains("(entered)"));
-    let _ = std::fs::remove_dir_all(&dir);
-    let out = plateau(
+    ));
+    assert_eq!(rel["fit"]["error_model"], "relative");
+    assert_eq!(rel["residuals"]["n"], 30);
+    let inc = json(&plateau(
         &[
             "diagnose",
             &demo("aldermoor_subscribers.csv"),
-            "--fisher-pry-k=0",
+            "--json",
+            "--increments",
         ],
         None,
-    );
-    assert_eq!(out.status.code(), Some(2));
-    assert!(String::from_utf8_lossy(&out.stderr).contains("--fisher-pry-k"));
-}
-
-/// `plateau compare --json` carries BIC, the likelihood-ratio tests and a
-/// recommendation with reasons; on the logistic4 demo file
-/// (demo-data/README.md) it recommends logistic4.
-#[test]
-fn compare_json_has_lr_tests_and_a_recommendation() {
-    let v = json(&plateau(
-        &["compare", &demo("tariff_share_monthly.csv"), "--json"],
-        None,
     ));
-    let rows = v["models"].as_array().unwrap();
-    assert!(rows
-        .iter()
-        .all(|r| r.get("bic").is_some() && r.get("delta_bic").is_some()));
-    let lr = v["lr_tests"].as_array().unwrap();
-    assert_eq!(lr.len(), 2);
-    assert_eq!(lr[0]["nested"], "logistic");
-    assert!(lr[0]["p_value"].as_f64().unwrap() < 0.05);
-    assert_eq!(v["recommendation"]["model"], "logistic4");
-    assert!(v["recommendation"]["reasons"].as_array().unwrap().len() >= 3);
-    let out = plateau(&["compare", &demo("tariff_share_monthly.csv")], None);
-    let text = String::from_utf8(out.stdout).unwrap();
-    assert!(text.contains("recommendation: logistic4") && text.contains("likelihood-ratio tests"));
+    assert_eq!(inc["residuals"]["n"], 29);
+    assert!(inc["symmetry_test"]["lr_p_value"].as_f64().is_some());
 }

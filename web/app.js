@@ -174,6 +174,16 @@ function showView(v) {
     return tr;
   }));
 
+  fillBody("backtest", v.backtest.map((b) => {
+    const tr = document.createElement("tr");
+    tr.dataset.model = b.model;
+    if (b.model === v.model) tr.className = "chosen";
+    cell(tr, b.model);
+    cell(tr, b.failed ? `${b.origins} (${b.failed} without a fit)` : String(b.origins));
+    for (const m of b.mape) cell(tr, m == null ? "–" : `${m.toFixed(2)}%`, "mape");
+    return tr;
+  }));
+
   $("symmetry-note").textContent = !v.symmetry
     ? "not available for this model."
     : v.symmetry.rmsRatio == null
@@ -188,57 +198,6 @@ function showView(v) {
     const sel = $(id);
     sel.replaceChildren(...cols.map((name, i) => new Option(name, String(i), false, i === chosen)));
   }
-}
-
-function verdictItem(tag, verdict) {
-  const el = document.createElement(tag);
-  el.textContent = verdict.text;
-  el.dataset.code = verdict.code;
-  el.className = verdict.flagged ? "flagged" : "";
-  return el;
-}
-
-function showVerdict(id, verdict) {
-  const el = $(id);
-  el.textContent = verdict ? verdict.text : "";
-  el.dataset.code = verdict ? verdict.code : "";
-  el.className = "verdict" + (verdict && verdict.flagged ? " flagged" : "");
-}
-
-// The checks panel, the symmetry test beside the mirror chart and the
-// recommendation beside the comparison table; every sentence comes from Rust.
-function showChecks(v) {
-  const d = v.diagnostics;
-  const all = [...d.verdicts];
-  if (v.symmetryTest) all.push(v.symmetryTest.verdict);
-  if (v.fisherPry) all.push(v.fisherPry.verdict);
-  $("verdicts").replaceChildren(...all.map((x) => verdictItem("li", x)));
-  const rows = [
-    ["residuals", d.n],
-    ["runs (expected)", d.runs == null ? "–" : `${d.runs} (${fmt(d.runsExpected)})`],
-    ["runs test p", fmt(d.runsP)],
-    ["Durbin–Watson", fmt(d.durbinWatson)],
-    ["lag-1 autocorrelation", fmt(d.lag1Autocorrelation)],
-    ["Q-Q correlation", fmt(d.qqCorrelation)],
-    ["Jarque–Bera p", fmt(d.jarqueBeraP)],
-  ];
-  fillBody("diag-stats", rows.map(([k, x]) => {
-    const tr = document.createElement("tr");
-    tr.dataset.stat = k;
-    cell(tr, k);
-    cell(tr, String(x));
-    return tr;
-  }));
-  showVerdict("symmetry-test", v.symmetryTest && v.symmetryTest.verdict);
-  showVerdict("fisher-pry-verdict", v.fisherPry && v.fisherPry.verdict);
-  const rec = v.recommendation;
-  $("recommended-model").textContent = rec.model ?? "none";
-  $("recommendation-reasons").replaceChildren(...rec.reasons.map((r) => {
-    const li = document.createElement("li");
-    li.textContent = r;
-    return li;
-  }));
-  $("lr-tests").textContent = v.lrTests.map((t) => t.note ? `${t.nested} within ${t.general}: ${t.note}` : "").join(" ");
 }
 
 function showMilestones(rows) {
@@ -316,6 +275,57 @@ function showBootstrap(bv) {
   showMilestones(bv.milestones);
   $("boot-status").textContent = `B = ${bv.replicates} (${bv.resampling}), seed ${bv.seed}; ` +
     `${bv.failed} refit${bv.failed === 1 ? "" : "s"} failed and left out; percentile intervals.`;
+}
+
+function verdictItem(tag, verdict) {
+  const el = document.createElement(tag);
+  el.textContent = verdict.text;
+  el.dataset.code = verdict.code;
+  el.className = verdict.flagged ? "flagged" : "";
+  return el;
+}
+
+function showVerdict(id, verdict) {
+  const el = $(id);
+  el.textContent = verdict ? verdict.text : "";
+  el.dataset.code = verdict ? verdict.code : "";
+  el.className = "verdict" + (verdict && verdict.flagged ? " flagged" : "");
+}
+
+// The checks panel, the symmetry test beside the mirror chart and the
+// recommendation beside the comparison table; every sentence comes from Rust.
+function showChecks(v) {
+  const d = v.diagnostics;
+  const all = [...d.verdicts];
+  if (v.symmetryTest) all.push(v.symmetryTest.verdict);
+  if (v.fisherPry) all.push(v.fisherPry.verdict);
+  $("verdicts").replaceChildren(...all.map((x) => verdictItem("li", x)));
+  const rows = [
+    ["residuals", d.n],
+    ["runs (expected)", d.runs == null ? "–" : `${d.runs} (${fmt(d.runsExpected)})`],
+    ["runs test p", fmt(d.runsP)],
+    ["Durbin–Watson", fmt(d.durbinWatson)],
+    ["lag-1 autocorrelation", fmt(d.lag1Autocorrelation)],
+    ["Q-Q correlation", fmt(d.qqCorrelation)],
+    ["Jarque–Bera p", fmt(d.jarqueBeraP)],
+  ];
+  fillBody("diag-stats", rows.map(([k, x]) => {
+    const tr = document.createElement("tr");
+    tr.dataset.stat = k;
+    cell(tr, k);
+    cell(tr, String(x));
+    return tr;
+  }));
+  showVerdict("symmetry-test", v.symmetryTest && v.symmetryTest.verdict);
+  showVerdict("fisher-pry-verdict", v.fisherPry && v.fisherPry.verdict);
+  const rec = v.recommendation;
+  $("recommended-model").textContent = rec.model ?? "none";
+  $("recommendation-reasons").replaceChildren(...rec.reasons.map((r) => {
+    const li = document.createElement("li");
+    li.textContent = r;
+    return li;
+  }));
+  $("lr-tests").textContent = v.lrTests.map((t) => t.note ? `${t.nested} within ${t.general}: ${t.note}` : "").join(" ");
 }
 
 function drawCharts() {

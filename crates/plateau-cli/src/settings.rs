@@ -54,11 +54,7 @@ fn intervals(s: &str) -> Result<IntervalMethod> {
 }
 
 pub fn compare(args: &CompareArgs) -> Result<CompareSettings> {
-    compare_like(&args.input, args.models.as_deref(), &args.fix)
-}
-
-fn compare_like(input: &InputArgs, list: Option<&str>, fix: &[String]) -> Result<CompareSettings> {
-    let models = match list {
+    let models = match &args.models {
         None => Model::ALL.to_vec(),
         Some(list) => list
             .split(',')
@@ -70,12 +66,42 @@ fn compare_like(input: &InputArgs, list: Option<&str>, fix: &[String]) -> Result
         bail!("--models: expected a comma-separated list of model names");
     }
     Ok(CompareSettings {
-        parse: parse_options(input)?,
+        parse: parse_options(&args.input)?,
         models,
         fit: FitOptions {
-            fixed: assignments("--fix", fix)?,
+            fixed: assignments("--fix", &args.fix)?,
+            error_model: error_model(&args.errors)?,
+            increments: args.errors.increments,
             ..FitOptions::default()
         },
+    })
+}
+
+pub struct DiagnoseSettings {
+    pub parse: ParseOptions,
+    pub model: Model,
+    pub fit: FitOptions,
+    pub fisher_pry_k: Option<f64>,
+}
+
+pub fn diagnose(args: &DiagnoseArgs) -> Result<DiagnoseSettings> {
+    if let Some(k) = args.fisher_pry_k {
+        if !(k.is_finite() && k > 0.0) {
+            bail!("--fisher-pry-k: expected a positive number, found {k}");
+        }
+    }
+    Ok(DiagnoseSettings {
+        parse: parse_options(&args.input)?,
+        model: model(&args.model)?,
+        fit: FitOptions {
+            fixed: assignments("--fix", &args.fix)?,
+            error_model: error_model(&args.errors)?,
+            increments: args.errors.increments,
+            // The checks read residuals and likelihoods, not intervals.
+            intervals: IntervalMethod::Asymptotic,
+            ..FitOptions::default()
+        },
+        fisher_pry_k: args.fisher_pry_k,
     })
 }
 
@@ -158,34 +184,6 @@ pub fn drift(args: &DriftArgs) -> Result<FitSettings> {
     })
 }
 
-pub struct DiagnoseSettings {
-    pub parse: ParseOptions,
-    pub model: Model,
-    pub fit: FitOptions,
-    pub fisher_pry_k: Option<f64>,
-}
-
-pub fn diagnose(args: &DiagnoseArgs) -> Result<DiagnoseSettings> {
-    if let Some(k) = args.fisher_pry_k {
-        if !(k.is_finite() && k > 0.0) {
-            bail!("--fisher-pry-k: expected a positive number, found {k}");
-        }
-    }
-    Ok(DiagnoseSettings {
-        parse: parse_options(&args.input)?,
-        model: model(&args.model)?,
-        fit: FitOptions {
-            fixed: assignments("--fix", &args.fix)?,
-            error_model: error_model(&args.errors)?,
-            increments: args.errors.increments,
-            // The checks read residuals and likelihoods, not intervals.
-            intervals: IntervalMethod::Asymptotic,
-            ..FitOptions::default()
-        },
-        fisher_pry_k: args.fisher_pry_k,
-    })
-}
-
 pub fn backtest(args: &BacktestArgs) -> Result<CompareSettings> {
     if args.horizon == 0 || args.horizon > 1000 {
         bail!("--horizon: expected a number of steps from 1 to 1000");
@@ -193,7 +191,27 @@ pub fn backtest(args: &BacktestArgs) -> Result<CompareSettings> {
     if args.min_train == Some(0) {
         bail!("--min-train: expected a positive number of points");
     }
-    compare_like(&args.input, args.models.as_deref(), &args.fix)
+    let models = match &args.models {
+        None => Model::ALL.to_vec(),
+        Some(list) => list
+            .split(',')
+            .filter(|s| !s.trim().is_empty())
+            .map(model)
+            .collect::<Result<Vec<_>>>()?,
+    };
+    if models.is_empty() {
+        bail!("--models: expected a comma-separated list of model names");
+    }
+    Ok(CompareSettings {
+        parse: parse_options(&args.input)?,
+        models,
+        fit: FitOptions {
+            fixed: assignments("--fix", &args.fix)?,
+            // The backtest scores point forecasts: no intervals needed.
+            intervals: IntervalMethod::Asymptotic,
+            ..FitOptions::default()
+        },
+    })
 }
 
 fn model(name: &str) -> Result<Model> {

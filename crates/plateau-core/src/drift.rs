@@ -17,7 +17,7 @@
 //! prefixes differ by one point, so it is a close start) and fall back to
 //! the self-start when that does not converge.
 
-use crate::fit::{fit_xy, Fit, FitOptions, ParamEstimate};
+use crate::fit::{fit_xy, Fit, FitOptions, IntervalMethod, ParamEstimate};
 use crate::model::Model;
 
 /// One prefix of the series and its fit.
@@ -206,6 +206,11 @@ pub fn backtest(
     let ys: Vec<f64> = order.iter().map(|&i| y[i]).collect();
     let n = ts.len();
     let horizon = bt.horizon.max(1);
+    // Point forecasts only: no interval refits.
+    let opts = &FitOptions {
+        intervals: IntervalMethod::Asymptotic,
+        ..opts.clone()
+    };
     models
         .iter()
         .map(|&model| {

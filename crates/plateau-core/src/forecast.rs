@@ -16,13 +16,21 @@
 
 use crate::analysis;
 use crate::bootstrap::Bootstrap;
-use crate::fit::Fit;
+use crate::fit::{ErrorModel, Fit};
 use crate::stats::t_quantile;
 
 /// Pointwise prediction interval for a new observation at `t`:
-/// `f(t) ± t(level, dof) · sqrt(var_mean(t) + σ̂²)`. `None` when the fit has
-/// no covariance or the band is not finite.
+/// `f(t) ± t(level, dof) · sqrt(var_mean(t) + v(t))`, with the noise
+/// variance `v` of the fit's error model: `σ̂²` (additive), `σ̂² f²`
+/// (relative), `σ̂² f` (count); for log-scale errors the interval is
+/// `f · exp(± t · sqrt(var_mean / f² + σ̂²))` (delta method for ln f). `None`
+/// when the fit has no covariance, the band is not finite, or the fit was
+/// to increments (a new *total* then carries every earlier period's error,
+/// which that fit does not model).
 pub fn prediction_band(fit: &Fit, t: f64, level: f64) -> Option<(f64, f64)> {
+    if fit.increments {
+        return None;
+    }
     let (lo, hi) = analysis::band(fit, t, level)?;
     let tq = t_quantile(level, fit.dof);
     let y = fit.predict(t);
@@ -32,8 +40,29 @@ pub fn prediction_band(fit: &Fit, t: f64, level: f64) -> Option<(f64, f64)> {
     } else {
         0.0
     };
-    let half = tq * (sd_mean * sd_mean + fit.sigma * fit.sigma).sqrt();
-    (half.is_finite() && y.is_finite()).then_some((y - half, y + half))
+    let s2 = fit.sigma * fit.sigma;
+    let band = match fit.error_model {
+        ErrorModel::Additive => {
+            let half = tq * (sd_mean * sd_mean + s2).sqrt();
+            (y - half, y + half)
+        }
+        ErrorModel::Relative => {
+            let half = tq * (sd_mean * sd_mean + s2 * y * y).sqrt();
+            (y - half, y + half)
+        }
+        ErrorModel::Count => {
+            let half = tq * (sd_mean * sd_mean + s2 * y.max(0.0)).sqrt();
+            (y - half, y + half)
+        }
+        ErrorModel::Log => {
+            if y <= 0.0 {
+                return None;
+            }
+            let half = tq * ((sd_mean / y).powi(2) + s2).sqrt();
+            (y * (-half).exp(), y * half.exp())
+        }
+    };
+    (band.0.is_finite() && band.1.is_finite()).then_some(band)
 }
 
 /// One forecast time.
@@ -162,6 +191,57 @@ mod tests {
             assert!(plo < clo && phi > chi);
             assert!(((plo + phi) / 2.0 - f.predict(ti)).abs() < 1e-9 * f.predict(ti).abs());
         }
+    }
+
+    #[test]
+    fn prediction_band_follows_the_error_model() {
+        // Relative errors: Var(new y) = σ² f², so (half/tq)² − var_mean = σ² f²
+        // (by construction of the error model, `fit::ErrorModel`); log errors
+        // give a band symmetric on the log scale; increments give none.
+        use crate::fit::{ErrorModel, FitOptions};
+        let t: Vec<f64> = (0..30).map(f64::from).collect();
+        let y: Vec<f64> = t
+            .iter()
+            .enumerate()
+            .map(|(i, &ti)| {
+                let f = Model::Logistic.eval(&[500.0, 0.4, 14.0], ti);
+                f * (1.0 + 0.03 * [-1.0, 0.5, 1.0, -0.5, 0.2][i % 5])
+            })
+            .collect();
+        let opts = |e| FitOptions {
+            error_model: e,
+            ..FitOptions::default()
+        };
+        let f = fit_xy(&t, &y, Model::Logistic, &opts(ErrorModel::Relative)).unwrap();
+        let tq = t_quantile(0.95, f.dof);
+        for &ti in &[2.0, 14.0, 35.0] {
+            let (clo, chi) = analysis::band(&f, ti, 0.95).unwrap();
+            let (plo, phi) = prediction_band(&f, ti, 0.95).unwrap();
+            let (c, p, m) = (
+                (chi - clo) / 2.0 / tq,
+                (phi - plo) / 2.0 / tq,
+                f.predict(ti),
+            );
+            let want = f.sigma * f.sigma * m * m;
+            assert!((p * p - c * c - want).abs() < 1e-9 * p * p, "t = {ti}");
+        }
+        let f = fit_xy(&t, &y, Model::Logistic, &opts(ErrorModel::Log)).unwrap();
+        let (plo, phi) = prediction_band(&f, 14.0, 0.95).unwrap();
+        let m = f.predict(14.0);
+        assert!(((phi / m).ln() + (plo / m).ln()).abs() < 1e-12);
+        let inc = FitOptions {
+            increments: true,
+            ..FitOptions::default()
+        };
+        let f = fit_xy(&t, &y, Model::Logistic, &inc).unwrap();
+        assert!(prediction_band(&f, 14.0, 0.95).is_none());
+        assert!(crate::bootstrap::Bootstrap::new(
+            &f,
+            &t,
+            &y,
+            &crate::bootstrap::BootstrapOptions::default()
+        )
+        .is_err());
     }
 
     #[test]

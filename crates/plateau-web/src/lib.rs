@@ -119,8 +119,8 @@ impl Workbench {
             .map_err(|e| JsError::new(&e.to_string()))
     }
 
-    /// Draws chart `chart` (a `ChartKind` name: "curve", "qq", "fisher-pry", …,
-    /// or "drift") on the
+    /// Draws chart `chart` (a `ChartKind` name: "curve", "qq", "fisher-pry",
+    /// …, or "drift") on the
     /// canvas at its current pixel size (the page sets it for the device
     /// pixel ratio).
     pub fn draw(&self, chart: &str, canvas: HtmlCanvasElement) -> Result<(), JsError> {

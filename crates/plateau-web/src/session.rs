@@ -45,8 +45,6 @@ pub struct Settings {
     pub share: f64,
     /// A user-chosen milestone as an absolute level (e.g. one million users).
     pub level: Option<f64>,
-    /// K for the Fisher–Pry view; `None` uses the fitted K.
-    pub fisher_pry_k: Option<f64>,
     /// Whether bootstrap intervals are computed (in slices, after each update).
     pub bootstrap: bool,
     /// `residual` or `parametric`.
@@ -55,6 +53,8 @@ pub struct Settings {
     pub replicates: usize,
     /// Seed of the bootstrap's random numbers.
     pub seed: u64,
+    /// K for the Fisher–Pry view; `None` uses the fitted K.
+    pub fisher_pry_k: Option<f64>,
 }
 
 impl Default for Settings {
@@ -68,11 +68,11 @@ impl Default for Settings {
             value_column: None,
             share: 95.0,
             level: None,
-            fisher_pry_k: None,
             bootstrap: false,
             resampling: "residual".into(),
             replicates: plateau_core::bootstrap::DEFAULT_REPLICATES,
             seed: DEFAULT_SEED,
+            fisher_pry_k: None,
         }
     }
 }
@@ -123,6 +123,45 @@ pub struct Analysis {
     pub drift: Vec<DriftRow>,
 }
 
+/// Horizons of the page's backtest: 1 to this many observations ahead.
+pub const BACKTEST_HORIZON: usize = 4;
+
+/// Origins of the page's backtest, at most (the latest ones), so that
+/// long series stay quick; `plateau backtest` uses every origin from half
+/// the data on.
+pub const BACKTEST_ORIGINS: usize = 40;
+
+/// One model's backtest on the page.
+#[derive(Debug, Clone, Serialize, PartialEq)]
+#[serde(rename_all = "camelCase")]
+pub struct BacktestRow {
+    pub model: &'static str,
+    pub origins: usize,
+    pub failed: usize,
+    /// Mean absolute percentage error for h = 1..=BACKTEST_HORIZON.
+    pub mape: Vec<Option<f64>>,
+    /// Mean absolute error for h = 1..=BACKTEST_HORIZON.
+    pub mae: Vec<Option<f64>>,
+}
+
+fn page_backtest(t: &[f64], y: &[f64], opts: &FitOptions) -> Vec<BacktestRow> {
+    let n = t.len();
+    let bt = plateau_core::drift::BacktestOptions {
+        horizon: BACKTEST_HORIZON,
+        min_train: Some(n.div_ceil(2).max(n.saturating_sub(BACKTEST_ORIGINS))),
+    };
+    plateau_core::drift::backtest(t, y, &Model::ALL, opts, &bt)
+        .into_iter()
+        .map(|m| BacktestRow {
+            model: m.model.name(),
+            origins: m.origins,
+            failed: m.failed,
+            mape: m.by_horizon.iter().map(|h| h.mape).collect(),
+            mae: m.by_horizon.iter().map(|h| h.mae).collect(),
+        })
+        .collect()
+}
+
 /// Prefixes the page refits for its drift chart, at most.
 pub const DRIFT_ROWS: usize = 120;
 
@@ -153,6 +192,8 @@ pub struct View {
     pub duration_10_90: Option<f64>,
     pub symmetry: Option<SymmetryRow>,
     pub comparison: Vec<CompareRow>,
+    /// Rolling-origin backtest of every model (see [`BACKTEST_HORIZON`]).
+    pub backtest: Vec<BacktestRow>,
     /// The residual diagnostics of the chosen fit.
     pub diagnostics: DiagnosticsRow,
     /// Logistic against Richards (likelihood ratio) and Gompertz (ΔAICc).
@@ -349,6 +390,7 @@ pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError>
         rms_ratio: s.rms_ratio,
         meaning: s.meaning,
     });
+    let backtest = page_backtest(&series.times, &values, &fit_opts);
     let comparison = entries
         .iter()
         .map(|e| CompareRow {
@@ -440,6 +482,7 @@ pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError>
         duration_10_90: analysis::duration_10_90(&fit).map(|m| m.time),
         symmetry,
         comparison,
+        backtest,
         diagnostics: diagnostics_row,
         symmetry_test,
         fisher_pry,

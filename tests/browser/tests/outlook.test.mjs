@@ -159,3 +159,19 @@ test("the drift chart is drawn and shows K against the cutoff", async () => {
   assert.deepEqual(errors, []);
   await context.close();
 });
+
+test("the backtest table shows the CLI's MAPE by horizon for every model", async () => {
+  const { page, context, errors } = await openPage(browser, server.url);
+  const cli = JSON.parse(execFileSync(BIN, ["backtest", DEMO, "--horizon", "4", "--json"], { encoding: "utf8" }));
+  const rows = await page.$$eval("#backtest tbody tr", (trs) => trs.map((tr) => ({
+    model: tr.dataset.model, mape: [...tr.querySelectorAll("td.mape")].map((td) => td.textContent),
+  })));
+  assert.equal(rows.length, 5);
+  for (const m of cli.models) {
+    const row = rows.find((r) => r.model === m.model);
+    assert.ok(row, m.model);
+    assert.deepEqual(row.mape, m.horizons.map((h) => (h.mape == null ? "–" : `${h.mape.toFixed(2)}%`)), m.model);
+  }
+  assert.deepEqual(errors, []);
+  await context.close();
+});

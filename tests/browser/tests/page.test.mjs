@@ -174,7 +174,10 @@ test("exports download and parse: CSV one row per time, JSON in the CLI's schema
 });
 
 test("every chart downloads as PNG and as SVG", async () => {
-  const { page, context } = await openPage(browser, server.url);
+  // A browser of its own: Chromium stops delivering downloads after many
+  // from one browser, and the other tests download too.
+  const own = await launch();
+  const { page, context } = await openPage(own, server.url);
   // A page of its own: Chromium throttles many downloads from one page.
   const grab = async (selector) => {
     const [dl] = await Promise.all([page.waitForEvent("download"), page.click(selector)]);
@@ -192,6 +195,7 @@ test("every chart downloads as PNG and as SVG", async () => {
     assert.match(svg, /<\/svg>\s*$/);
   }
   await context.close();
+  await own.close();
 });
 
 test("charts are drawn at the device pixel ratio and are not blank", async () => {

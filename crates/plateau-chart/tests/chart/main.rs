@@ -551,6 +551,38 @@ fn degenerate_inputs_to_the_new_views_never_panic() {
     assert_eq!(count(&svg, "<circle"), 1, "only the legend sample");
 }
 
+#[test]
+fn drift_chart_shows_one_marker_and_bar_per_prefix() {
+    use plateau_chart::{render_drift_svg, DriftInput};
+    use plateau_core::drift::drift;
+    let case = logistic();
+    let rows = drift(&case.t, &case.y, Model::Logistic, &FitOptions::default());
+    let input = DriftInput {
+        format_time: &plain_time,
+        time_caption: "year",
+        value_caption: "users",
+        model: Model::Logistic,
+    };
+    let svg = render_drift_svg(&rows, &input, W, H).expect("render");
+    let fitted = rows.iter().filter(|r| r.result.is_ok()).count();
+    // One circle per fitted prefix plus the legend's sample.
+    assert_eq!(count(&svg, "<circle"), fitted + 1);
+    let k = case.fit.param("K").unwrap().estimate;
+    for text in [
+        "K as the data arrived (logistic)",
+        "95% interval",
+        &format!("all data: K = {}", format_value(k)) as &str,
+        "cutoff: last year used",
+        "K (users)",
+    ] {
+        assert!(svg.contains(text), "missing {text:?}");
+    }
+    // Too few rows: a message, not a panic.
+    let svg = render_drift_svg(&rows[..1], &input, W, H).unwrap();
+    assert!(svg.contains("Too few prefixes"));
+    assert!(render_drift_svg(&rows, &input, 1, 1).is_err());
+}
+
 /// The Q-Q chart: one marker per residual (plus the legend's), its
 /// theoretical quantiles symmetric about zero, and the correlation printed.
 #[test]
@@ -600,36 +632,4 @@ fn fisher_pry_chart_with_an_entered_k() {
     let exp = exponential();
     let svg = render_text(ChartKind::FisherPry, &exp.input());
     assert!(svg.contains("needs a saturation level K"));
-}
-
-#[test]
-fn drift_chart_shows_one_marker_and_bar_per_prefix() {
-    use plateau_chart::{render_drift_svg, DriftInput};
-    use plateau_core::drift::drift;
-    let case = logistic();
-    let rows = drift(&case.t, &case.y, Model::Logistic, &FitOptions::default());
-    let input = DriftInput {
-        format_time: &plain_time,
-        time_caption: "year",
-        value_caption: "users",
-        model: Model::Logistic,
-    };
-    let svg = render_drift_svg(&rows, &input, W, H).expect("render");
-    let fitted = rows.iter().filter(|r| r.result.is_ok()).count();
-    // One circle per fitted prefix plus the legend's sample.
-    assert_eq!(count(&svg, "<circle"), fitted + 1);
-    let k = case.fit.param("K").unwrap().estimate;
-    for text in [
-        "K as the data arrived (logistic)",
-        "95% interval",
-        &format!("all data: K = {}", format_value(k)) as &str,
-        "cutoff: last year used",
-        "K (users)",
-    ] {
-        assert!(svg.contains(text), "missing {text:?}");
-    }
-    // Too few rows: a message, not a panic.
-    let svg = render_drift_svg(&rows[..1], &input, W, H).unwrap();
-    assert!(svg.contains("Too few prefixes"));
-    assert!(render_drift_svg(&rows, &input, 1, 1).is_err());
 }

@@ -8,10 +8,10 @@
 //! residual bootstrap of B = 1000. With 500 series the coverage estimate
 //! has a binomial standard error of about 1 point at 95%, so the accepted
 //! band 93–97% is two standard errors either side. The measured rates are
-//! printed (`cargo test -p plateau-core --test core calibration -- --nocapture`).
+//! printed (`cargo test -p plateau-core --test core bootstrap_calibration -- --nocapture`).
 
 use plateau_core::bootstrap::{Bootstrap, BootstrapOptions, Resampling};
-use plateau_core::fit::{fit_xy, FitOptions};
+use plateau_core::fit::{fit_xy, FitOptions, IntervalMethod};
 use plateau_core::Model;
 use rand::SeedableRng;
 use rand_chacha::ChaCha8Rng;
@@ -33,7 +33,13 @@ fn coverage(resampling: Resampling) -> ([f64; 3], [f64; 3], usize) {
             .iter()
             .map(|&ti| Model::Logistic.eval(&TRUE, ti) + normal.sample(&mut rng))
             .collect();
-        let fit = fit_xy(&t, &y, Model::Logistic, &FitOptions::default()).expect("fit");
+        // Asymptotic intervals alongside, for comparison (the default
+        // profile intervals would add refits the bootstrap does not use).
+        let asymptotic = FitOptions {
+            intervals: IntervalMethod::Asymptotic,
+            ..FitOptions::default()
+        };
+        let fit = fit_xy(&t, &y, Model::Logistic, &asymptotic).expect("fit");
         let opts = BootstrapOptions {
             resampling,
             replicates: B,

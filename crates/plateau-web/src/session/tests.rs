@@ -244,3 +244,24 @@ fn unreachable_levels_say_so_and_drift_rows_are_there() {
     assert!(!a.drift.is_empty() && a.drift.len() <= DRIFT_ROWS);
     assert_eq!(a.drift.last().unwrap().m, a.series.times.len());
 }
+
+#[test]
+fn backtest_rows_match_the_core_backtest_the_cli_runs() {
+    // The demo has 30 points: origins 15..29 are all within the page's
+    // limit, so the page shows exactly `plateau backtest --horizon 4`.
+    let a = demo();
+    assert_eq!(a.view.backtest.len(), Model::ALL.len());
+    let direct = plateau_core::drift::backtest(
+        &a.series.times,
+        &a.values,
+        &Model::ALL,
+        &FitOptions::default(),
+        &plateau_core::drift::BacktestOptions::default(),
+    );
+    for (row, d) in a.view.backtest.iter().zip(&direct) {
+        assert_eq!(row.model, d.model.name());
+        assert_eq!(row.origins, 15);
+        let mape: Vec<Option<f64>> = d.by_horizon.iter().map(|h| h.mape).collect();
+        assert_eq!(row.mape, mape);
+    }
+}

@@ -20,6 +20,7 @@ const bench = new Workbench();
 const DEFAULTS = {
   model: "logistic", fixedK: null, horizon: 12, perPeriod: false,
   timeColumn: null, valueColumn: null, share: 95, level: null,
+  errorModel: "additive", increments: false,
 };
 
 let state = restore();
@@ -63,6 +64,8 @@ function readControls() {
   s.share = numberOrNull($("share")) ?? 95;
   s.level = numberOrNull($("level"));
   s.perPeriod = $("accum-per-period").checked;
+  s.errorModel = $("error-model").value;
+  s.increments = $("increments").checked;
   if (!$("columns").hidden) {
     s.timeColumn = Number($("time-col").value);
     s.valueColumn = Number($("value-col").value);
@@ -79,6 +82,19 @@ function writeControls() {
   $("level").value = s.level ?? "";
   $("accum-per-period").checked = !!s.perPeriod;
   $("accum-cumulative").checked = !s.perPeriod;
+  $("error-model").value = s.errorModel;
+  $("increments").checked = !!s.increments;
+}
+
+// The interval as the core reported it: a null side is open.
+function intervalText(p) {
+  if (!p.ci95) return "–";
+  // An open side arrives as null or undefined (serde-wasm-bindgen's None).
+  const [lo, hi] = p.ci95;
+  if (lo != null && hi != null) return `${fmt(lo)} … ${fmt(hi)}`;
+  if (lo != null) return `≥ ${fmt(lo)}`;
+  if (hi != null) return `≤ ${fmt(hi)}`;
+  return "no bound";
 }
 
 const fmt = (x) => {
@@ -122,10 +138,18 @@ function showView(v) {
     cell(tr, p.name);
     cell(tr, fmt(p.estimate) + (p.asTime ? ` (${p.asTime})` : ""), "estimate");
     tr.lastChild.dataset.value = String(p.estimate);
-    cell(tr, p.fixed ? "fixed" : fmt(p.stdError));
-    cell(tr, p.ci95 ? `${fmt(p.ci95[0])} … ${fmt(p.ci95[1])}` : "–");
+    // A standard error of an undetermined K would read as an interval.
+    cell(tr, p.fixed ? "fixed" : (p.identified ? fmt(p.stdError) : "not determined"));
+    cell(tr, intervalText(p), "interval");
+    cell(tr, p.ciMethod ?? "");
+    if (!p.identified) tr.classList.add("not-identified");
     return tr;
   }));
+  $("not-identified").hidden = !v.notIdentified;
+  $("not-identified").textContent = v.notIdentified ?? "";
+  $("error-model-text").textContent = v.errorModelText + (v.increments ? "; fitted to per-period increments" : "");
+  $("increments-hint").hidden = !v.incrementsHint;
+  $("increments-hint").textContent = v.incrementsHint ?? "";
 
   const st = v.stats;
   const statRows = [
@@ -256,7 +280,7 @@ function loadText(text) {
 
 function wire() {
   $("data").addEventListener("input", () => changed({ text: true }));
-  for (const id of ["model", "fixed-k", "horizon", "share", "level", "time-col", "value-col", "accum-cumulative", "accum-per-period"]) {
+  for (const id of ["model", "fixed-k", "horizon", "share", "level", "time-col", "value-col", "accum-cumulative", "accum-per-period", "error-model", "increments"]) {
     $(id).addEventListener("change", () => changed({ immediate: true }));
   }
   $("file").addEventListener("change", async (ev) => {

@@ -52,7 +52,8 @@ pub fn fit(name: &str, series: &Series, f: &Fit) -> String {
         s,
         "data       {name}: {} points, {} against {}",
         series.times.len(),
-        series.value_name, series.time_name
+        series.value_name,
+        series.time_name
     );
     let _ = writeln!(
         s,
@@ -76,8 +77,8 @@ pub fn fit(name: &str, series: &Series, f: &Fit) -> String {
     let _ = writeln!(s);
     let _ = writeln!(
         s,
-        "{:<10} {:>14} {:>14} {:>32}  {}",
-        "parameter", "estimate", "std error", "95% interval", "method"
+        "{:<10} {:>14} {:>14} {:>32}  method",
+        "parameter", "estimate", "std error", "95% interval"
     );
     let mut open_notes = Vec::new();
     for p in &f.params {
@@ -174,7 +175,7 @@ pub fn fit(name: &str, series: &Series, f: &Fit) -> String {
 /// makes running totals do near their plateau): possibly running totals.
 fn looks_cumulative(values: &[f64]) -> bool {
     let falls = values.windows(2).filter(|w| w[1] < w[0]).count();
-    values.len() > 2 && falls * 5 <= values.len() - 1
+    values.len() > 2 && falls * 5 < values.len()
 }
 
 pub fn compare(name: &str, series: &Series, entries: &[Entry]) -> String {

@@ -62,10 +62,9 @@ fn profile_intervals(c: &mut Criterion) {
         ..FitOptions::default()
     };
     let f = fit_xy(&t, &y, Model::Logistic, &profile).expect("bench data must fit");
-    assert!(f
-        .params
-        .iter()
-        .all(|p| p.interval.is_some_and(|i| i.method == plateau_core::fit::CiMethod::Profile)));
+    assert!(f.params.iter().all(|p| p
+        .interval
+        .is_some_and(|i| i.method == plateau_core::fit::CiMethod::Profile)));
     let mut group = c.benchmark_group("profile_intervals");
     group.bench_function("logistic_n200_profile", |b| {
         b.iter(|| fit_xy(black_box(&t), black_box(&y), Model::Logistic, &profile).unwrap())

@@ -726,7 +726,10 @@ fn solve(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<Solved
         let floor = 1e-9 * target.iter().fold(0.0_f64, |a, v| a.max(v.abs()));
         for _ in 0..IRLS_MAX_ROUNDS {
             let f = on_scale(model, &p, tt, scale.increments);
-            let w: Vec<f64> = f.iter().map(|v| opts.error_model.weight(*v, floor)).collect();
+            let w: Vec<f64> = f
+                .iter()
+                .map(|v| opts.error_model.weight(*v, floor))
+                .collect();
             sqrt_w = Some(match &user_w {
                 Some(u) => u.iter().zip(&w).map(|(a, b)| (a * b).sqrt()).collect(),
                 None => w.iter().map(|v| v.sqrt()).collect(),
@@ -923,7 +926,7 @@ fn statistics(t: &[f64], model: Model, solved: &Solved, opts: &FitOptions) -> Fi
     let sigma2 = rss / dof as f64;
     let k = free.len();
     let cov = if r.len() == k * k {
-        stats::covariance_from_triangle(&r, k, n, sigma2)
+        stats::covariance_from_triangle(r, k, n, sigma2)
     } else {
         // No finite factorisation: nothing can be told apart.
         stats::Covariance {

@@ -242,8 +242,7 @@ pub fn criteria_with(rss: f64, n: usize, p: usize, extra: f64) -> Criteria {
     // A perfect fit has an unbounded likelihood; keep the numbers finite and
     // ordered by flooring RSS at a relative rounding level.
     let rss = rss.max(f64::MIN_POSITIVE);
-    let log_likelihood =
-        -0.5 * nf * ((2.0 * std::f64::consts::PI * rss / nf).ln() + 1.0) + extra;
+    let log_likelihood = -0.5 * nf * ((2.0 * std::f64::consts::PI * rss / nf).ln() + 1.0) + extra;
     let aic = -2.0 * log_likelihood + 2.0 * k;
     let aicc = if nf - k - 1.0 > 0.0 {
         aic + 2.0 * k * (k + 1.0) / (nf - k - 1.0)

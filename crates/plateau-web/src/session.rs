@@ -369,11 +369,8 @@ pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError>
         error_model: fit.error_model.name(),
         error_model_text: fit.error_model.describe(),
         increments: fit.increments,
-        not_identified: fit
-            .params
-            .iter()
-            .find(|p| !p.identified)
-            .map(|p| match p.interval.and_then(|i| i.lo) {
+        not_identified: fit.params.iter().find(|p| !p.identified).map(|p| {
+            match p.interval.and_then(|i| i.lo) {
                 Some(lo) => format!(
                     "These data do not determine the saturation level K. The estimate is not a \
                      forecast of the ceiling: the data only say K ≥ {} (95%).",
@@ -381,8 +378,10 @@ pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError>
                 ),
                 None => "These data do not determine the saturation level K: treat it as unknown."
                     .to_string(),
-            }),
-        increments_hint: (!fit.increments && (settings.per_period || never_falls(&values))).then_some(INCREMENTS_HINT),
+            }
+        }),
+        increments_hint: (!fit.increments && (settings.per_period || never_falls(&values)))
+            .then_some(INCREMENTS_HINT),
         stats: Stats {
             n: fit.n,
             dof: fit.dof,
@@ -418,7 +417,8 @@ pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError>
 }
 
 /// Why fitting running totals as they are understates the uncertainty.
-pub const INCREMENTS_HINT: &str = "If these are running totals: totals carry each period's error into every later \
+pub const INCREMENTS_HINT: &str =
+    "If these are running totals: totals carry each period's error into every later \
 value, so the residuals are autocorrelated and the intervals above are likely too narrow. \
 \"Fit per-period increments\" fits the changes from period to period instead (King et al., \
 Proc. R. Soc. B 2015).";
@@ -427,7 +427,7 @@ Proc. R. Soc. B 2015).";
 /// makes running totals do near their plateau): possibly running totals.
 fn never_falls(values: &[f64]) -> bool {
     let falls = values.windows(2).filter(|w| w[1] < w[0]).count();
-    values.len() > 2 && falls * 5 <= values.len() - 1
+    values.len() > 2 && falls * 5 < values.len()
 }
 
 /// A number to 6 significant digits for a sentence.

@@ -204,14 +204,18 @@ fn intervals_are_profile_by_default_with_the_asymptotic_kept() {
         None,
     ));
     assert_eq!(asym["params"]["K"]["ci_method"], "asymptotic");
-    assert_eq!(asym["params"]["K"]["ci95"], v["params"]["K"]["ci95_asymptotic"]);
+    assert_eq!(
+        asym["params"]["K"]["ci95"],
+        v["params"]["K"]["ci95_asymptotic"]
+    );
 }
 
 /// A series that ends far before its inflection (values of 10·e^(0.3 t),
 /// the early part of a logistic with K ≫ 200): K gets no upper bound.
 #[test]
 fn early_series_gives_an_open_k_interval_and_the_warning() {
-    let text = "t,y\n0,10.1\n1,13.4\n2,18.3\n3,24.5\n4,33.2\n5,44.9\n6,60.4\n7,81.7\n8,110.0\n9,148.9\n";
+    let text =
+        "t,y\n0,10.1\n1,13.4\n2,18.3\n3,24.5\n4,33.2\n5,44.9\n6,60.4\n7,81.7\n8,110.0\n9,148.9\n";
     let v = json(&plateau(&["fit", "-", "--json"], Some(text)));
     let codes: Vec<&str> = v["warnings"]
         .as_array()

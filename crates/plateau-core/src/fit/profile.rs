@@ -93,9 +93,7 @@ impl Profiler<'_> {
             return Some((rss, problem.base));
         }
         let out = self.solver.minimize(&problem, &x0);
-        out.rss
-            .is_finite()
-            .then(|| (out.rss, problem.full(&out.x)))
+        out.rss.is_finite().then(|| (out.rss, problem.full(&out.x)))
     }
 
     fn tau(&self, rss: f64) -> f64 {
@@ -155,7 +153,11 @@ impl Profiler<'_> {
         let (mut ga, mut gb) = (ta - self.tcrit, tb - self.tcrit);
         let mut last = 0;
         for _ in 0..ROOT_ITERATIONS {
-            let mut c = if gb > ga { b - gb * (b - a) / (gb - ga) } else { f64::NAN };
+            let mut c = if gb > ga {
+                b - gb * (b - a) / (gb - ga)
+            } else {
+                f64::NAN
+            };
             let (lo, hi) = (a.min(b), a.max(b));
             if !(c > lo && c < hi) {
                 c = 0.5 * (a + b);

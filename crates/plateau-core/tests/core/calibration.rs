@@ -34,7 +34,8 @@ fn profile_interval_for_k_covers_95_percent_past_the_inflection() {
     let ts: Vec<f64> = (0..=30).map(|i| i as f64).collect();
     let noise = Normal::new(0.0, 25.0).unwrap();
     let mut rng = ChaCha8Rng::seed_from_u64(20261203);
-    let (mut profile_hits, mut asym_hits, mut asym_count, mut flagged, mut fitted) = (0, 0, 0, 0, 0);
+    let (mut profile_hits, mut asym_hits, mut asym_count, mut flagged, mut fitted) =
+        (0, 0, 0, 0, 0);
     let mut widths = (0.0, 0.0);
     for _ in 0..REPS_PAST {
         let y: Vec<f64> = ts
@@ -72,7 +73,10 @@ fn profile_interval_for_k_covers_95_percent_past_the_inflection() {
         widths.1 / fitted as f64
     );
     assert!(asym_count > 0 && (0.0..=1.0).contains(&asym));
-    assert!((0.93..=0.97).contains(&profile), "profile coverage {profile}");
+    assert!(
+        (0.93..=0.97).contains(&profile),
+        "profile coverage {profile}"
+    );
 }
 
 #[test]

@@ -36,7 +36,11 @@ fn every_error_model_matches_scipy() {
     let (t, y) = weekly_totals();
     for increments in [false, true] {
         for e in ErrorModel::ALL {
-            let key = format!("{}{}", e.name(), if increments { "_increments" } else { "" });
+            let key = format!(
+                "{}{}",
+                e.name(),
+                if increments { "_increments" } else { "" }
+            );
             let want = &reference["fits"][&key];
             let opts = FitOptions {
                 error_model: e,
@@ -61,7 +65,12 @@ fn every_error_model_matches_scipy() {
                 let w = want[name].as_f64().unwrap();
                 assert!(close(got, w, tol), "{key} {name}: {got} vs scipy {w}");
             }
-            println!("{key}: K = {:.2}, AICc = {:.3} (scipy {:.3})", f.values()[0], f.aicc, want["aicc"]);
+            println!(
+                "{key}: K = {:.2}, AICc = {:.3} (scipy {:.3})",
+                f.values()[0],
+                f.aicc,
+                want["aicc"]
+            );
         }
     }
 }

@@ -45,7 +45,9 @@ fn rat42_profile_intervals_match_scipy() {
         for (got, want) in [iv.lo.unwrap(), iv.hi.unwrap()].iter().zip(want) {
             let want = want.as_f64().unwrap();
             let rel = (got - want).abs() / want.abs();
-            println!("Rat42 {name}: plateau {got:.10}, scipy {want:.10}, relative difference {rel:.1e}");
+            println!(
+                "Rat42 {name}: plateau {got:.10}, scipy {want:.10}, relative difference {rel:.1e}"
+            );
             assert!(rel < 1e-7, "{name}: {got} vs scipy {want}");
         }
     }

@@ -139,7 +139,8 @@ fn derived_times_on_period_axes_are_shown_as_dates() {
 /// not determined, gives only a lower bound and no asymptotic interval.
 #[test]
 fn early_series_shows_k_as_not_identified() {
-    let text = "t,y\n0,10.1\n1,13.4\n2,18.3\n3,24.5\n4,33.2\n5,44.9\n6,60.4\n7,81.7\n8,110.0\n9,148.9\n";
+    let text =
+        "t,y\n0,10.1\n1,13.4\n2,18.3\n3,24.5\n4,33.2\n5,44.9\n6,60.4\n7,81.7\n8,110.0\n9,148.9\n";
     let a = analyse(text, &Settings::default()).unwrap();
     let k = a.view.params.iter().find(|p| p.name == "K").unwrap();
     assert!(!k.identified);

@@ -122,7 +122,11 @@ fn early_series_leaves_k_open_and_flagged() {
     // t0 = 20: the data end at 11, far below the inflection.
     let y = noisy_logistic(1000.0, 0.3, 20.0, &ts, 1.0, 5);
     let f = fit_xy(&ts, &y, Model::Logistic, &FitOptions::default()).unwrap();
-    assert!(f.has_warning(WarningCode::SaturationNotIdentified), "{:?}", f.warnings);
+    assert!(
+        f.has_warning(WarningCode::SaturationNotIdentified),
+        "{:?}",
+        f.warnings
+    );
     let k = f.param("K").unwrap();
     assert!(!k.identified);
     let iv = k.interval.unwrap();

@@ -819,7 +819,7 @@ fn target_values(t: &[f64], y: &[f64], scale: Scale) -> Result<Vec<f64>, FitErro
                 return Err(error(
                     FitErrorKind::InvalidValue,
                     format!(
-                        "the log error model needs positive values, but the {what} at time {} is {};                          use the additive, relative or count error model",
+                        "the log error model needs positive values, but the {what} at time {} is {}; use the additive, relative or count error model",
                         t[i + off],
                         v
                     ),
@@ -1282,7 +1282,7 @@ fn diagnose(fit: &mut Fit, t: &[f64], y: &[f64]) {
         if let Some(iv) = k.interval.filter(|i| i.method == CiMethod::Profile) {
             if iv.hi.is_none() {
                 reasons.push(format!(
-                    "its profile likelihood stays inside the 95% threshold for every K up to {} times                      the data's range above the estimate",
+                    "its profile likelihood stays inside the 95% threshold for every K up to {} times the data's range above the estimate",
                     profile::WIDE
                 ));
             }

@@ -666,7 +666,20 @@ fn solve(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<Solved
         t
     };
 
-    let (starts, mut gompertz_pending) = starting_points(model, tt, y, &fixed, &user_start, opts)?;
+    // A long series is self-started on its presolve subsample (the start
+    // only has to land in the basin of the minimum, and the Richards start
+    // is a whole logistic fit); on the full data when that fails.
+    let (starts, mut gompertz_pending) = match subsample(tt, y, opts.weights.as_deref()) {
+        Some((ts, ys, ws)) => {
+            let sub_opts = FitOptions {
+                weights: ws,
+                ..opts.clone()
+            };
+            starting_points(model, &ts, &ys, &fixed, &user_start, &sub_opts)
+                .or_else(|_| starting_points(model, tt, y, &fixed, &user_start, opts))?
+        }
+        None => starting_points(model, tt, y, &fixed, &user_start, opts)?,
+    };
     let solver = opts.solver.clone().unwrap_or_default();
     let free: Vec<usize> = (0..np).filter(|j| fixed[*j].is_none()).collect();
     let mut best: Option<(crate::solver::Outcome, Vec<f64>, Vec<f64>)> = None;
@@ -855,29 +868,41 @@ const PRESOLVED_DAMPING: f64 = 1e-9;
 /// estimate is still the full data's least-squares minimum, to the same
 /// tolerances: only the start differs.
 fn presolve(problem: &CurveProblem<'_>, solver: &Solver, x0: &[f64]) -> Option<Vec<f64>> {
-    let n = problem.t.len();
     // A subsample of differences is not the differences of a subsample.
-    if n <= PRESOLVE_ABOVE || problem.scale != Scale::default() {
+    if problem.scale != Scale::default() {
         return None;
     }
-    let m = PRESOLVE_POINTS;
-    let pick = |i: usize| (i * (n - 1) + (m - 1) / 2) / (m - 1);
-    let t: Vec<f64> = (0..m).map(|i| problem.t[pick(i)]).collect();
-    let y: Vec<f64> = (0..m).map(|i| problem.y[pick(i)]).collect();
+    let (t, y, sqrt_w) = subsample(problem.t, problem.y, problem.sqrt_w.as_deref())?;
     let sub = CurveProblem {
         model: problem.model,
         t: &t,
         y: &y,
-        sqrt_w: problem
-            .sqrt_w
-            .as_ref()
-            .map(|w| (0..m).map(|i| w[pick(i)]).collect()),
+        sqrt_w,
         base: problem.base.clone(),
         free: problem.free.clone(),
         scale: problem.scale,
     };
     let out = solver.minimize(&sub, x0);
     (out.converged() && problem.feasible(&out.x)).then_some(out.x)
+}
+
+/// Times, values and (when given) per-point weights at
+/// [`PRESOLVE_POINTS`] evenly spread indices, first and last included;
+/// `None` for a series of at most [`PRESOLVE_ABOVE`] points.
+#[allow(clippy::type_complexity)]
+fn subsample(
+    t: &[f64],
+    y: &[f64],
+    w: Option<&[f64]>,
+) -> Option<(Vec<f64>, Vec<f64>, Option<Vec<f64>>)> {
+    let n = t.len();
+    if n <= PRESOLVE_ABOVE {
+        return None;
+    }
+    let m = PRESOLVE_POINTS;
+    let pick = |i: usize| (i * (n - 1) + (m - 1) / 2) / (m - 1);
+    let take = |v: &[f64]| (0..m).map(|i| v[pick(i)]).collect::<Vec<_>>();
+    Some((take(t), take(y), w.map(take)))
 }
 
 /// Standard errors, intervals, criteria, fitted values and warnings.

@@ -21,6 +21,7 @@ const DEFAULTS = {
   model: "logistic", fixedK: null, horizon: 12, perPeriod: false,
   timeColumn: null, valueColumn: null, share: 95, level: null, fisherPryK: null,
   bootstrap: false, resampling: "residual", replicates: 1000, seed: 20240601,
+  errorModel: "additive", increments: false,
 };
 
 let state = restore();
@@ -65,6 +66,8 @@ function readControls() {
   s.level = numberOrNull($("level"));
   s.fisherPryK = numberOrNull($("fisher-pry-k"));
   s.perPeriod = $("accum-per-period").checked;
+  s.errorModel = $("error-model").value;
+  s.increments = $("increments").checked;
   s.bootstrap = $("bootstrap").checked;
   s.resampling = $("resampling").value;
   s.replicates = Math.max(1, Math.round(numberOrNull($("replicates")) ?? 1000));
@@ -86,10 +89,23 @@ function writeControls() {
   $("fisher-pry-k").value = s.fisherPryK ?? "";
   $("accum-per-period").checked = !!s.perPeriod;
   $("accum-cumulative").checked = !s.perPeriod;
+  $("error-model").value = s.errorModel;
+  $("increments").checked = !!s.increments;
   $("bootstrap").checked = !!s.bootstrap;
   $("resampling").value = s.resampling;
   $("replicates").value = s.replicates;
   $("seed").value = s.seed;
+}
+
+// The interval as the core reported it: a null side is open.
+function intervalText(p) {
+  if (!p.ci95) return "–";
+  // An open side arrives as null or undefined (serde-wasm-bindgen's None).
+  const [lo, hi] = p.ci95;
+  if (lo != null && hi != null) return `${fmt(lo)} … ${fmt(hi)}`;
+  if (lo != null) return `≥ ${fmt(lo)}`;
+  if (hi != null) return `≤ ${fmt(hi)}`;
+  return "no bound";
 }
 
 const fmt = (x) => {
@@ -133,11 +149,19 @@ function showView(v) {
     cell(tr, p.name);
     cell(tr, fmt(p.estimate) + (p.asTime ? ` (${p.asTime})` : ""), "estimate");
     tr.lastChild.dataset.value = String(p.estimate);
-    cell(tr, p.fixed ? "fixed" : fmt(p.stdError));
-    cell(tr, p.ci95 ? `${fmt(p.ci95[0])} … ${fmt(p.ci95[1])}` : "–");
+    // A standard error of an undetermined K would read as an interval.
+    cell(tr, p.fixed ? "fixed" : (p.identified ? fmt(p.stdError) : "not determined"));
+    cell(tr, intervalText(p), "interval");
+    cell(tr, p.ciMethod ?? "");
+    if (!p.identified) tr.classList.add("not-identified");
     cell(tr, "–", "boot");
     return tr;
   }));
+  $("not-identified").hidden = !v.notIdentified;
+  $("not-identified").textContent = v.notIdentified ?? "";
+  $("error-model-text").textContent = v.errorModelText + (v.increments ? "; fitted to per-period increments" : "");
+  $("increments-hint").hidden = !v.incrementsHint;
+  $("increments-hint").textContent = v.incrementsHint ?? "";
 
   const st = v.stats;
   const statRows = [
@@ -403,7 +427,7 @@ function loadText(text) {
 
 function wire() {
   $("data").addEventListener("input", () => changed({ text: true }));
-  for (const id of ["model", "fixed-k", "fisher-pry-k", "horizon", "share", "level", "bootstrap", "resampling", "replicates", "seed", "time-col", "value-col", "accum-cumulative", "accum-per-period"]) {
+  for (const id of ["model", "fixed-k", "fisher-pry-k", "horizon", "share", "level", "bootstrap", "resampling", "replicates", "seed", "time-col", "value-col", "accum-cumulative", "accum-per-period", "error-model", "increments"]) {
     $(id).addEventListener("change", () => changed({ immediate: true }));
   }
   $("file").addEventListener("change", async (ev) => {

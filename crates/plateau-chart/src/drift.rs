@@ -52,7 +52,9 @@ pub fn draw_drift<DB: DrawingBackend>(
             (r.cutoff.is_finite() && p.estimate.is_finite()).then_some((
                 r.cutoff,
                 p.estimate,
-                p.ci95.filter(|c| c.0.is_finite() && c.1.is_finite()),
+                // No interval drawn where the data do not determine K.
+                p.ci95
+                    .filter(|c| p.identified && c.0.is_finite() && c.1.is_finite()),
             ))
         })
         .collect();

@@ -154,7 +154,7 @@ pub fn fit(name: &str, series: &Series, f: &Fit) -> String {
         let _ = writeln!(s);
         let _ = writeln!(
             s,
-            "note: running totals carry each period's error into every later value, so the \
+            "note: if these are running totals, each period's error is carried into every later value, so the \
              residuals are autocorrelated and the intervals above are likely too narrow; \
              --increments fits the per-period changes instead (King et al., Proc. R. Soc. B 2015)."
         );
@@ -172,9 +172,11 @@ pub fn fit(name: &str, series: &Series, f: &Fit) -> String {
     s
 }
 
-/// Values that never fall: probably running totals.
+/// Values that mostly rise (at most a fifth of the steps fall, as noise
+/// makes running totals do near their plateau): possibly running totals.
 fn looks_cumulative(values: &[f64]) -> bool {
-    values.len() > 2 && values.windows(2).all(|w| w[1] >= w[0])
+    let falls = values.windows(2).filter(|w| w[1] < w[0]).count();
+    values.len() > 2 && falls * 5 < values.len()
 }
 
 pub fn compare(name: &str, series: &Series, entries: &[Entry], report: &CompareReport) -> String {

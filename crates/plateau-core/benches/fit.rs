@@ -5,7 +5,7 @@
 //! curve = logistic(K=1000, r=0.8, t0=10) or richards(..., nu=0.5).
 
 use criterion::{criterion_group, criterion_main, Criterion};
-use plateau_core::fit::{fit_xy, FitOptions};
+use plateau_core::fit::{fit_xy, FitOptions, IntervalMethod};
 use plateau_core::Model;
 use std::hint::black_box;
 
@@ -35,7 +35,11 @@ fn self_start_fit(c: &mut Criterion) {
             1000,
         ),
     ];
-    let opts = FitOptions::default();
+    // The fit alone (asymptotic intervals), as scipy's curve_fit does it.
+    let opts = FitOptions {
+        intervals: IntervalMethod::Asymptotic,
+        ..FitOptions::default()
+    };
     let mut group = c.benchmark_group("self_start_fit");
     for (id, model, p, n) in cases {
         let (t, y) = data(model, p, n);
@@ -47,5 +51,29 @@ fn self_start_fit(c: &mut Criterion) {
     group.finish();
 }
 
-criterion_group!(benches, self_start_fit);
+/// Profile-likelihood intervals for every parameter (the default), on
+/// top of the same fit; `fit_only` is that fit with asymptotic intervals,
+/// so the difference is the profiles' cost. Target: under 5 ms at n = 200.
+fn profile_intervals(c: &mut Criterion) {
+    let (t, y) = data(Model::Logistic, &[1000.0, 0.8, 10.0], 200);
+    let profile = FitOptions::default();
+    let fit_only = FitOptions {
+        intervals: IntervalMethod::Asymptotic,
+        ..FitOptions::default()
+    };
+    let f = fit_xy(&t, &y, Model::Logistic, &profile).expect("bench data must fit");
+    assert!(f.params.iter().all(|p| p
+        .interval
+        .is_some_and(|i| i.method == plateau_core::fit::CiMethod::Profile)));
+    let mut group = c.benchmark_group("profile_intervals");
+    group.bench_function("logistic_n200_profile", |b| {
+        b.iter(|| fit_xy(black_box(&t), black_box(&y), Model::Logistic, &profile).unwrap())
+    });
+    group.bench_function("logistic_n200_fit_only", |b| {
+        b.iter(|| fit_xy(black_box(&t), black_box(&y), Model::Logistic, &fit_only).unwrap())
+    });
+    group.finish();
+}
+
+criterion_group!(benches, self_start_fit, profile_intervals);
 criterion_main!(benches);

@@ -57,6 +57,12 @@ fn warm_fit(
     opts: &FitOptions,
     prev: Option<&Fit>,
 ) -> Result<Fit, String> {
+    // The rows carry the asymptotic `ci95`; profile refits would be unused.
+    let plain = FitOptions {
+        intervals: crate::fit::IntervalMethod::Asymptotic,
+        ..opts.clone()
+    };
+    let opts = &plain;
     if let Some(p) = prev {
         let start: Vec<(String, f64)> = p
             .params

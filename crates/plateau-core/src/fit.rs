@@ -540,7 +540,7 @@ pub fn fit_xy(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<F
     let solved = solve(t, y, model, opts)?;
     let mut fit = statistics(t, model, &solved, opts);
     if opts.intervals == IntervalMethod::Profile {
-        profile::apply(&mut fit, &solved, model, y, opts);
+        profile::apply(&mut fit, &solved, model, (t, y), opts);
     }
     diagnose(&mut fit, t, y);
     Ok(fit)
@@ -651,8 +651,9 @@ fn solve(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<Solved
     }
 
     // The exponential's e^(r t) overflows on calendar axes (t ≈ 2024), so
-    // it is fitted on t − t_ref and `a` is mapped back at the end.
-    let t_ref = if model == Model::Exponential {
+    // it is fitted on t − t_ref and `a` is mapped back at the end. A fixed
+    // a is a value of y(0) itself, so then the axis is left as it is.
+    let t_ref = if model == Model::Exponential && fixed[0].is_none() {
         t.iter().sum::<f64>() / n as f64
     } else {
         0.0
@@ -831,7 +832,7 @@ fn target_values(t: &[f64], y: &[f64], scale: Scale) -> Result<Vec<f64>, FitErro
                 return Err(error(
                     FitErrorKind::InvalidValue,
                     format!(
-                        "the log error model needs positive values, but the {what} at time {} is {};                          use the additive, relative or count error model",
+                        "the log error model needs positive values, but the {what} at time {} is {}; use the additive, relative or count error model",
                         t[i + off],
                         v
                     ),
@@ -1306,7 +1307,7 @@ fn diagnose(fit: &mut Fit, t: &[f64], y: &[f64]) {
         if let Some(iv) = k.interval.filter(|i| i.method == CiMethod::Profile) {
             if iv.hi.is_none() {
                 reasons.push(format!(
-                    "its profile likelihood stays inside the 95% threshold for every K up to {} times                      the data's range above the estimate",
+                    "its profile likelihood stays inside the 95% threshold for every K up to {} times the data's range above the estimate",
                     profile::WIDE
                 ));
             }

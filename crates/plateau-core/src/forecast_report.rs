@@ -89,7 +89,9 @@ pub fn param_intervals(fit: &Fit, boot: Option<&Bootstrap>) -> Ordered<ParamInte
                     p.name.to_string(),
                     ParamIntervals {
                         estimate: p.estimate,
-                        ci95: p.ci95.map(|(a, c)| [a, c]),
+                        // No interval for a parameter the data do not
+                        // determine (K under saturation_not_identified).
+                        ci95: p.ci95.filter(|_| p.identified).map(|(a, c)| [a, c]),
                         bootstrap_ci95: b,
                         fixed: p.fixed,
                     },
@@ -297,7 +299,10 @@ impl DriftReport {
                                         p.name.to_string(),
                                         DriftParam {
                                             estimate: p.estimate,
-                                            ci95: p.ci95.map(|(a, b)| [a, b]),
+                                            ci95: p
+                                                .ci95
+                                                .filter(|_| p.identified)
+                                                .map(|(a, b)| [a, b]),
                                             fixed: p.fixed,
                                         },
                                     )

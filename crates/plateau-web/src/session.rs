@@ -12,7 +12,7 @@ use plateau_core::compare::{compare, nested_tests, recommend};
 use plateau_core::data::{cumulate, decline_warning, ColumnRef, DataError, TimeKind};
 use plateau_core::diagnostics::{self, Verdict};
 use plateau_core::drift::{drift_sampled, DriftRow};
-use plateau_core::fit::{fit_xy, Fit, FitOptions};
+use plateau_core::fit::{fit_xy, ErrorModel, Fit, FitOptions, IntervalMethod};
 use plateau_core::milestones::{self, Assessment, Target};
 use plateau_core::report::{FitReport, CAUTION};
 use plateau_core::{parse_series, Model, ParseOptions, Series, Warning};
@@ -45,6 +45,10 @@ pub struct Settings {
     pub share: f64,
     /// A user-chosen milestone as an absolute level (e.g. one million users).
     pub level: Option<f64>,
+    /// The error model's name (see [`ErrorModel::name`]).
+    pub error_model: String,
+    /// Fit per-period increments instead of the running totals.
+    pub increments: bool,
     /// Whether bootstrap intervals are computed (in slices, after each update).
     pub bootstrap: bool,
     /// `residual` or `parametric`.
@@ -68,6 +72,8 @@ impl Default for Settings {
             value_column: None,
             share: 95.0,
             level: None,
+            error_model: "additive".into(),
+            increments: false,
             bootstrap: false,
             resampling: "residual".into(),
             replicates: plateau_core::bootstrap::DEFAULT_REPLICATES,
@@ -184,6 +190,16 @@ pub struct View {
     pub termination: &'static str,
     pub iterations: usize,
     pub params: Vec<ParamRow>,
+    /// The error model's name and a sentence on what it means.
+    pub error_model: &'static str,
+    pub error_model_text: &'static str,
+    /// Whether per-period increments were fitted.
+    pub increments: bool,
+    /// Set when K is not determined by the data: shown above the results.
+    pub not_identified: Option<String>,
+    /// Set when running totals were fitted as such: why the intervals are
+    /// likely too narrow, and what to do.
+    pub increments_hint: Option<&'static str>,
     pub stats: Stats,
     /// Data-input warnings first, then the fit's.
     pub warnings: Vec<Warning>,
@@ -214,7 +230,13 @@ pub struct ParamRow {
     pub name: &'static str,
     pub estimate: f64,
     pub std_error: Option<f64>,
-    pub ci95: Option<[f64; 2]>,
+    /// The reported 95% interval; a `null` side is open (no bound).
+    pub ci95: Option<[Option<f64>; 2]>,
+    /// `"profile"` or `"asymptotic"`.
+    pub ci_method: Option<&'static str>,
+    /// estimate ± t·se; `None` when the parameter is not identified.
+    pub ci95_asymptotic: Option<[f64; 2]>,
+    pub identified: bool,
     pub fixed: bool,
     /// The estimate as a date (for t0 on date axes), else `None`.
     pub as_time: Option<String>,
@@ -337,7 +359,17 @@ pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError>
         }
         series.values.clone()
     };
-    let mut fit_opts = FitOptions::default();
+    let error_model = ErrorModel::from_name(&settings.error_model).ok_or_else(|| {
+        setting_error(format!(
+            "error model: expected additive, relative, log or count, found {:?}",
+            settings.error_model
+        ))
+    })?;
+    let mut fit_opts = FitOptions {
+        error_model,
+        increments: settings.increments,
+        ..FitOptions::default()
+    };
     if let Some(k) = settings.fixed_k {
         if !(k.is_finite() && k > 0.0) {
             return Err(setting_error("fixed K: expected a positive number"));
@@ -359,7 +391,12 @@ pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError>
         line: None,
         message: format!("cannot fit the {} model: {e}", model.name()),
     })?;
-    let entries = compare(&series.times, &values, &Model::ALL, &fit_opts);
+    // The comparison shows criteria and K only: no profiles needed there.
+    let compare_opts = FitOptions {
+        intervals: IntervalMethod::Asymptotic,
+        ..fit_opts.clone()
+    };
+    let entries = compare(&series.times, &values, &Model::ALL, &compare_opts);
     let (_, t_max) = range(&series.times);
     let horizon_end = t_max + settings.horizon * typical_step(&series.times);
     let kind = series.time_kind;
@@ -377,7 +414,10 @@ pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError>
             name: p.name,
             estimate: p.estimate,
             std_error: p.std_error,
-            ci95: p.ci95.map(|(a, b)| [a, b]),
+            ci95: p.interval.map(|i| [i.lo, i.hi]),
+            ci_method: p.interval.map(|i| i.method.as_str()),
+            ci95_asymptotic: p.ci95.filter(|_| p.identified).map(|(a, b)| [a, b]),
+            identified: p.identified,
             fixed: p.fixed,
             as_time: (p.name == "t0" && kind != TimeKind::Number).then(|| fmt_t(p.estimate)),
         })
@@ -461,6 +501,22 @@ pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError>
         termination: fit.termination.as_str(),
         iterations: fit.iterations,
         params,
+        error_model: fit.error_model.name(),
+        error_model_text: fit.error_model.describe(),
+        increments: fit.increments,
+        not_identified: fit.params.iter().find(|p| !p.identified).map(|p| {
+            match p.interval.and_then(|i| i.lo) {
+                Some(lo) => format!(
+                    "These data do not determine the saturation level K. The estimate is not a \
+                     forecast of the ceiling: the data only say K ≥ {} (95%).",
+                    short(lo)
+                ),
+                None => "These data do not determine the saturation level K: treat it as unknown."
+                    .to_string(),
+            }
+        }),
+        increments_hint: (!fit.increments && (settings.per_period || never_falls(&values)))
+            .then_some(INCREMENTS_HINT),
         stats: Stats {
             n: fit.n,
             dof: fit.dof,
@@ -501,6 +557,35 @@ pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError>
         horizon_end,
         drift,
     })
+}
+
+/// Why fitting running totals as they are understates the uncertainty.
+pub const INCREMENTS_HINT: &str =
+    "If these are running totals: totals carry each period's error into every later \
+value, so the residuals are autocorrelated and the intervals above are likely too narrow. \
+\"Fit per-period increments\" fits the changes from period to period instead (King et al., \
+Proc. R. Soc. B 2015).";
+
+/// Values that mostly rise (at most a fifth of the steps fall, as noise
+/// makes running totals do near their plateau): possibly running totals.
+fn never_falls(values: &[f64]) -> bool {
+    let falls = values.windows(2).filter(|w| w[1] < w[0]).count();
+    values.len() > 2 && falls * 5 < values.len()
+}
+
+/// A number to 6 significant digits for a sentence.
+fn short(x: f64) -> String {
+    let a = x.abs();
+    if !x.is_finite() || a == 0.0 || !(1e-4..1e9).contains(&a) {
+        return format!("{x:.5e}");
+    }
+    let decimals = (5 - a.log10().floor() as i32).max(0) as usize;
+    let t = format!("{x:.decimals$}");
+    if t.contains('.') {
+        t.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        t
+    }
 }
 
 /// Milestones the page shows: 10%, 50%, 90% of K, the chosen share and

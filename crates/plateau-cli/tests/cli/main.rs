@@ -232,6 +232,12 @@ fn early_series_gives_an_open_k_interval_and_the_warning() {
     let out = String::from_utf8_lossy(&table.stdout);
     assert!(out.contains("K ≥ "), "{out}");
     assert!(out.contains("NOT DETERMINED"), "{out}");
+    // The forecast report gives no K interval either.
+    let f = json(&plateau(
+        &["forecast", "-", "--until", "20", "--json"],
+        Some(text),
+    ));
+    assert!(f["params"]["K"]["ci95"].is_null(), "{}", f["params"]["K"]);
 }
 
 #[test]

@@ -54,6 +54,7 @@ enum Side {
     Failed(String),
 }
 
+#[derive(Clone)]
 struct Profiler<'a> {
     model: Model,
     t: &'a [f64],
@@ -201,7 +202,13 @@ impl Profiler<'_> {
 /// Replaces the asymptotic intervals of `fit` by profile intervals where
 /// the profile can be traced; adds a `profile_not_computed` warning for
 /// each parameter where it cannot.
-pub(super) fn apply(fit: &mut Fit, solved: &Solved, model: Model, y: &[f64], opts: &FitOptions) {
+pub(super) fn apply(
+    fit: &mut Fit,
+    solved: &Solved,
+    model: Model,
+    (t, y): (&[f64], &[f64]),
+    opts: &FitOptions,
+) {
     if fit.free.is_empty() || fit.dof == 0 {
         return;
     }
@@ -242,23 +249,39 @@ pub(super) fn apply(fit: &mut Fit, solved: &Solved, model: Model, y: &[f64], opt
     let t_scale = (tmax - tmin).max(f64::MIN_POSITIVE);
     for j in solved.free.clone() {
         let th = solved.p[j];
-        if model == Model::Exponential && names[j] == "a" && solved.t_ref != 0.0 {
-            fail(
-                fit,
-                j,
-                "a = y(0) is estimated through y at the series' mean time, so its profile is not traced"
-                    .into(),
-            );
-            continue;
-        }
+        // The exponential is fitted as a' e^(r (t − t_ref)); a = y(0) is
+        // profiled on the unshifted axis, where holding a fixed is holding
+        // a parameter of the curve fixed (e^(r t) is finite near r̂ there,
+        // as a = y(0) itself is).
+        let unshifted;
+        let (prof, th) = if model == Model::Exponential && names[j] == "a" && solved.t_ref != 0.0 {
+            let a = fit.params[j].estimate;
+            if !(a.is_finite() && a > 0.0) {
+                fail(
+                    fit,
+                    j,
+                    "a = y(0) is not representable on this time axis".into(),
+                );
+                continue;
+            }
+            unshifted = [a, solved.p[1]];
+            let prof = Profiler {
+                t,
+                p_hat: &unshifted,
+                ..profiler.clone()
+            };
+            (prof, a)
+        } else {
+            (profiler.clone(), th)
+        };
         let scale = match names[j] {
             "K" | "L" | "a" => y_scale,
             "t0" => t_scale,
             _ => th.abs().max(f64::MIN_POSITIVE),
         };
         let se = fit.params[j].std_error;
-        let lo = profiler.side(j, -1.0, se, scale);
-        let hi = profiler.side(j, 1.0, se, scale);
+        let lo = prof.side(j, -1.0, se, scale);
+        let hi = prof.side(j, 1.0, se, scale);
         let bound = |side: &Side| match side {
             Side::Bound(v) => Ok(Some(*v)),
             Side::Open => Ok(None),

@@ -135,6 +135,56 @@ fn derived_times_on_period_axes_are_shown_as_dates() {
     assert!(lo < hi, "{lo} .. {hi}");
 }
 
+/// A series far before its inflection (10·e^(0.3 t)): the view says K is
+/// not determined, gives only a lower bound and no asymptotic interval.
+#[test]
+fn early_series_shows_k_as_not_identified() {
+    let text =
+        "t,y\n0,10.1\n1,13.4\n2,18.3\n3,24.5\n4,33.2\n5,44.9\n6,60.4\n7,81.7\n8,110.0\n9,148.9\n";
+    let a = analyse(text, &Settings::default()).unwrap();
+    let k = a.view.params.iter().find(|p| p.name == "K").unwrap();
+    assert!(!k.identified);
+    let [lo, hi] = k.ci95.unwrap();
+    assert!(lo.is_some() && hi.is_none());
+    assert!(k.ci95_asymptotic.is_none());
+    let banner = a.view.not_identified.clone().unwrap();
+    assert!(banner.contains("K ≥"), "{banner}");
+    assert!(a
+        .view
+        .warnings
+        .iter()
+        .any(|w| w.code == WarningCode::SaturationNotIdentified));
+}
+
+#[test]
+fn error_model_and_increments_reach_the_fit_and_the_view() {
+    let a = demo();
+    assert_eq!(a.view.error_model, "additive");
+    assert!(!a.view.increments);
+    assert!(a.view.increments_hint.is_some());
+    assert_eq!(a.view.params[0].ci_method, Some("profile"));
+    let settings = Settings {
+        error_model: "count".into(),
+        increments: true,
+        ..Settings::default()
+    };
+    let b = analyse(DEMO_TEXT, &settings).unwrap();
+    assert_eq!(b.view.error_model, "count");
+    assert!(b.view.increments && b.view.increments_hint.is_none());
+    assert_eq!(b.fit.n, a.fit.n - 1);
+    let report: serde_json::Value = serde_json::from_str(&b.report_json()).unwrap();
+    assert_eq!(report["error_model"], "count");
+    assert_eq!(report["increments"], true);
+    let bad = Settings {
+        error_model: "poisson".into(),
+        ..Settings::default()
+    };
+    assert!(analyse(DEMO_TEXT, &bad)
+        .unwrap_err()
+        .message
+        .contains("error model"));
+}
+
 /// The page's diagnostics are the CLI's: the same core calls on the same
 /// data give the same verdicts, symmetry test and recommendation.
 #[test]

@@ -154,3 +154,88 @@ fn asymptotic_mode_reports_t_intervals() {
         assert_eq!((iv.lo.unwrap(), iv.hi.unwrap()), p.ci95.unwrap());
     }
 }
+
+/// The exponential on a calendar axis is fitted on shifted times; its
+/// a = y(0) is profiled on the original axis. With r held fixed the model
+/// a·e^(r t) is linear in a, so the profile interval is the t interval
+/// (analytic fact); with r free, τ = t(0.975) at each bound of a.
+#[test]
+fn exponential_a_is_profiled_on_a_calendar_axis() {
+    let ts: Vec<f64> = (0..20).map(|i| 2000.0 + i as f64).collect();
+    let mut rng = ChaCha8Rng::seed_from_u64(9);
+    let noise = Normal::new(0.0, 3.0).unwrap();
+    let a_true = 40.0 * (-0.09_f64 * 2000.0).exp();
+    let y: Vec<f64> = ts
+        .iter()
+        .map(|t| a_true * (0.09 * t).exp() + noise.sample(&mut rng))
+        .collect();
+    let fixed_r = FitOptions {
+        fixed: vec![("r".into(), 0.09)],
+        ..FitOptions::default()
+    };
+    let f = fit_xy(&ts, &y, Model::Exponential, &fixed_r).unwrap();
+    let a = &f.params[0];
+    let iv = a.interval.unwrap();
+    let (lo, hi) = a.ci95.unwrap();
+    assert_eq!(iv.method, CiMethod::Profile, "{:?}", f.warnings);
+    assert!(
+        (iv.lo.unwrap() - lo).abs() < 1e-6 * (hi - lo),
+        "{iv:?} vs {lo}"
+    );
+    assert!(
+        (iv.hi.unwrap() - hi).abs() < 1e-6 * (hi - lo),
+        "{iv:?} vs {hi}"
+    );
+
+    let f = fit_xy(&ts, &y, Model::Exponential, &FitOptions::default()).unwrap();
+    assert!(
+        !f.has_warning(WarningCode::ProfileNotComputed),
+        "{:?}",
+        f.warnings
+    );
+    let iv = f.params[0].interval.unwrap();
+    assert_eq!(iv.method, CiMethod::Profile);
+    let tq = stats::t_quantile(0.95, f.dof);
+    for b in [iv.lo.unwrap(), iv.hi.unwrap()] {
+        let g = fit_xy(
+            &ts,
+            &y,
+            Model::Exponential,
+            &FitOptions {
+                fixed: vec![("a".into(), b)],
+                start: vec![("r".into(), f.params[1].estimate)],
+                intervals: IntervalMethod::Asymptotic,
+                ..FitOptions::default()
+            },
+        )
+        .unwrap();
+        let tau = ((g.rss - f.rss) / (f.sigma * f.sigma)).sqrt();
+        assert!((tau - tq).abs() < 1e-4, "a at {b}: tau {tau} vs {tq}");
+    }
+}
+
+/// A fixed a is y(0) as given, also on a calendar axis: the fit keeps it
+/// and reports it unchanged, with nothing propagated for it.
+#[test]
+fn fixed_exponential_a_is_kept_as_given() {
+    let ts: Vec<f64> = (0..20).map(|i| 2000.0 + i as f64).collect();
+    let a = 40.0 * (-0.09_f64 * 2000.0).exp();
+    let y: Vec<f64> = ts.iter().map(|t| a * (0.09 * t).exp() * 1.01).collect();
+    let f = fit_xy(
+        &ts,
+        &y,
+        Model::Exponential,
+        &FitOptions {
+            fixed: vec![("a".into(), a)],
+            ..FitOptions::default()
+        },
+    )
+    .unwrap();
+    let p = &f.params[0];
+    assert!(p.fixed && p.estimate == a && p.std_error.is_none() && p.interval.is_none());
+    // y = 1.01·a·e^(0.09 t) = a·e^(r t) with r = 0.09 + ln(1.01)/t: the
+    // least-squares r lies between those at the two ends of the axis.
+    let r = f.params[1].estimate;
+    let (r1, r2) = (0.09 + 1.01f64.ln() / 2019.0, 0.09 + 1.01f64.ln() / 2000.0);
+    assert!(r1 < r && r < r2, "{r} not in [{r1}, {r2}]");
+}

@@ -161,6 +161,7 @@ pub fn draw_curve<DB: DrawingBackend>(
         let what = match model {
             Model::Logistic => "midpoint (t0, K/2)",
             Model::Logistic4 => "midpoint (t0, (K+L)/2)",
+            Model::Bass => "peak adoption (t*, N(t*))",
             _ => "inflection (t0, f(t0))",
         };
         chart
@@ -170,7 +171,11 @@ pub fn draw_curve<DB: DrawingBackend>(
         chart.draw_series(std::iter::once(
             EmptyElement::at((tc, yc))
                 + Text::new(
-                    format!("t0 = {}", (input.format_time)(tc)),
+                    format!(
+                        "{} = {}",
+                        if model == Model::Bass { "t*" } else { "t0" },
+                        (input.format_time)(tc)
+                    ),
                     (scale.pxi(10.0), scale.pxi(4.0)),
                     scale.text(13.0).pos(Pos::new(HPos::Left, VPos::Top)),
                 ),
@@ -198,7 +203,11 @@ fn center(model: Model, p: &[f64]) -> Option<(f64, f64)> {
         Model::Logistic => Some((p[2], p[0] / 2.0)),
         Model::Logistic4 => Some((p[2], (p[0] + p[3]) / 2.0)),
         Model::Gompertz | Model::Richards => Some((p[2], model.eval(p, p[2]))),
-        Model::Exponential => None,
+        Model::Bass if p[2] > p[1] => {
+            let ts = plateau_core::analysis::bass_peak_time(p);
+            Some((ts, model.eval(p, ts)))
+        }
+        Model::Exponential | Model::Bass | Model::Bilogistic => None,
     }
 }
 

@@ -33,10 +33,10 @@ use std::fmt;
 
 pub use common::{format_value, plain_time};
 pub use curve::draw_curve;
-pub use linear::{draw_linear, linearise};
+pub use linear::{draw_linear, linearise, NOT_AVAILABLE_BILOGISTIC};
 pub use rate::draw_rate;
 pub use residuals::draw_residuals;
-pub use symmetry::{draw_symmetry, NOT_AVAILABLE_EXPONENTIAL};
+pub use symmetry::{draw_symmetry, NOT_AVAILABLE_EXPONENTIAL, NOT_AVAILABLE_NO_CENTER};
 
 /// Everything a chart needs, as plain data.
 pub struct ChartInput<'a> {

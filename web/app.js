@@ -142,13 +142,28 @@ function showView(v) {
     return tr;
   }));
 
-  fillBody("milestones", v.milestones.map((m) => {
+  const milestoneRows = v.milestones.map((m) => {
     const tr = document.createElement("tr");
     cell(tr, m.label);
     cell(tr, m.timeText + (m.forecast ? " (forecast)" : ""));
     cell(tr, m.ci95Text ? `${m.ci95Text[0]} … ${m.ci95Text[1]}` : "–");
     return tr;
-  }));
+  });
+  if (v.peak) {
+    const pk = v.peak;
+    const t = document.createElement("tr");
+    t.dataset.peak = "time";
+    cell(t, "peak adoption t*");
+    cell(t, pk.timeText);
+    cell(t, pk.timeCi95Text ? `${pk.timeCi95Text[0]} … ${pk.timeCi95Text[1]}` : "–");
+    const r = document.createElement("tr");
+    r.dataset.peak = "rate";
+    cell(r, `peak rate m(p+q)²/(4q), ${fmt(pk.sharePercent)}% of m adopted by t*`);
+    cell(r, fmt(pk.rate));
+    cell(r, pk.rateCi95 ? `${fmt(pk.rateCi95[0])} … ${fmt(pk.rateCi95[1])}` : "–");
+    milestoneRows.push(t, r);
+  }
+  fillBody("milestones", milestoneRows);
   const unit = v.timeUnit ? ` ${v.timeUnit}s` : " time units";
   $("duration").textContent = v.duration1090 == null ? "" :
     `From 10% to 90% of K takes ${fmt(v.duration1090)}${unit}` + (v.model === "logistic" ? " (ln 81 / r)." : ".");

@@ -43,7 +43,13 @@ pub fn draw_curve<DB: DrawingBackend>(
     };
 
     // Saturation level (and floor for logistic4) and the curve's center.
-    let k = fit.param("K").map(|k| k.estimate).filter(|k| k.is_finite());
+    // The level's name: K; m for the Bass model; K1 + K2 for the bi-logistic.
+    let k_name = match model {
+        Model::Bass => "m",
+        Model::Bilogistic => "K1 + K2",
+        _ => "K",
+    };
+    let k = model.saturation_level(&p).filter(|k| k.is_finite());
     let center = center(model, &p).filter(|c| c.0.is_finite() && c.1.is_finite());
 
     // Value axis: data and curve always; 0 for non-negative series (counts
@@ -121,7 +127,7 @@ pub fn draw_curve<DB: DrawingBackend>(
             chart.draw_series(std::iter::once(
                 EmptyElement::at((x.1, kv))
                     + Text::new(
-                        format!("K = {}", format_value(kv)),
+                        format!("{k_name} = {}", format_value(kv)),
                         (-scale.pxi(6.0), -scale.pxi(4.0)),
                         label_style,
                     ),
@@ -131,7 +137,7 @@ pub fn draw_curve<DB: DrawingBackend>(
             chart.draw_series(std::iter::once(
                 EmptyElement::at((x.1, y.1))
                     + Text::new(
-                        format!("K = {} (above the chart)", format_value(kv)),
+                        format!("{k_name} = {} (above the chart)", format_value(kv)),
                         (-scale.pxi(6.0), scale.pxi(18.0)),
                         label_style,
                     ),

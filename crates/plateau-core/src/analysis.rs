@@ -381,7 +381,9 @@ pub const MIN_COMPARED: usize = 3;
 ///
 /// Center `(t_c, y_c)`: the logistic's midpoint `(t0, K/2)`; for logistic4
 /// `(t0, (K + L)/2)`; for the Gompertz and Richards curves the inflection
-/// point `(t0, f(t0))`. The exponential has no center: `None`.
+/// point `(t0, f(t0))`. The exponential has no center, the Bass curve is
+/// not point-symmetric about its peak and the bi-logistic has two pulses:
+/// `None` for these.
 ///
 /// ```text
 /// (t'_i, y'_i) = (2 t_c − t_i, 2 y_c − y_i)

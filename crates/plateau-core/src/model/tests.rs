@@ -211,3 +211,22 @@ fn slope_matches_finite_differences() {
         }
     }
 }
+
+/// The per-period form telescopes: the counts of periods 1..=T add up to
+/// N(T) − N(0), and the largest count falls in the period holding the peak
+/// time t* (or the next, as a period's count integrates the rate over it).
+#[test]
+fn bass_per_period_counts_add_up_to_the_running_total() {
+    let v = [4000.0, 0.012, 0.38, 0.0];
+    let counts: Vec<f64> = (1..=30)
+        .map(|w| bass_per_period(&v, f64::from(w)))
+        .collect();
+    let total: f64 = counts.iter().sum();
+    let want = Model::Bass.eval(&v, 30.0) - Model::Bass.eval(&v, 0.0);
+    assert!((total - want).abs() <= 1e-9 * want, "{total} vs {want}");
+    let best = (1..=30)
+        .max_by(|a, b| counts[a - 1].total_cmp(&counts[b - 1]))
+        .unwrap() as f64;
+    let ts = crate::analysis::bass_peak_time(&v);
+    assert!(best >= ts && best <= ts + 1.0, "period {best}, t* {ts}");
+}

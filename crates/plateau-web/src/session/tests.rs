@@ -158,7 +158,12 @@ fn bass_on_per_period_counts_shows_its_peak() {
     assert_eq!(peak.rate, core.rate);
     assert!(a.view.comparison.iter().any(|c| c.model == "bilogistic"));
     // The comparison's level column is m for the Bass model.
-    let row = a.view.comparison.iter().find(|c| c.model == "bass").unwrap();
+    let row = a
+        .view
+        .comparison
+        .iter()
+        .find(|c| c.model == "bass")
+        .unwrap();
     assert_eq!(row.k, Some(direct.values()[0]));
 }
 

@@ -178,6 +178,7 @@ function showView(v) {
     return tr;
   }));
 
+  currentPeak = v.peak;
   showMilestones(v.milestones);
   const unit = v.timeUnit ? ` ${v.timeUnit}s` : " time units";
   $("duration").textContent = v.duration1090 == null ? "" :
@@ -224,8 +225,28 @@ function showView(v) {
   }
 }
 
+// The Bass adoption peak of the current view, shown under the milestones.
+let currentPeak = null;
+
+function peakRows(pk) {
+  if (!pk) return [];
+  const t = document.createElement("tr");
+  t.dataset.peak = "time";
+  cell(t, "peak adoption t*");
+  cell(t, pk.timeText, "when");
+  cell(t, pk.timeCi95Text ? `${pk.timeCi95Text[0]} … ${pk.timeCi95Text[1]}` : "–", "delta");
+  cell(t, "–", "boot");
+  const r = document.createElement("tr");
+  r.dataset.peak = "rate";
+  cell(r, `peak rate m(p+q)²/(4q), ${fmt(pk.sharePercent)}% of m adopted by t*`);
+  cell(r, fmt(pk.rate), "when");
+  cell(r, pk.rateCi95 ? `${fmt(pk.rateCi95[0])} … ${fmt(pk.rateCi95[1])}` : "–", "delta");
+  cell(r, "–", "boot");
+  return [t, r];
+}
+
 function showMilestones(rows) {
-  fillBody("milestones", rows.map((m) => {
+  fillBody("milestones", [...rows.map((m) => {
     const tr = document.createElement("tr");
     tr.dataset.verdict = m.verdict;
     cell(tr, m.label);
@@ -240,7 +261,7 @@ function showMilestones(rows) {
       tr.cells[1].appendChild(small);
     }
     return tr;
-  }));
+  }), ...peakRows(currentPeak)]);
 }
 
 // The bootstrap runs in slices of about 12 ms of work, each in its own

@@ -48,7 +48,13 @@ pub fn draw_curve<DB: DrawingBackend>(
     };
 
     // Saturation level (and floor for logistic4) and the curve's center.
-    let k = fit.param("K").map(|k| k.estimate).filter(|k| k.is_finite());
+    // The level's name: K; m for the Bass model; K1 + K2 for the bi-logistic.
+    let k_name = match model {
+        Model::Bass => "m",
+        Model::Bilogistic => "K1 + K2",
+        _ => "K",
+    };
+    let k = model.saturation_level(&p).filter(|k| k.is_finite());
     let center = center(model, &p).filter(|c| c.0.is_finite() && c.1.is_finite());
 
     // Value axis: data and curve always; 0 for non-negative series (counts
@@ -155,7 +161,7 @@ pub fn draw_curve<DB: DrawingBackend>(
             chart.draw_series(std::iter::once(
                 EmptyElement::at((x.1, kv))
                     + Text::new(
-                        format!("K = {}", format_value(kv)),
+                        format!("{k_name} = {}", format_value(kv)),
                         (-scale.pxi(6.0), -scale.pxi(4.0)),
                         label_style,
                     ),
@@ -165,7 +171,7 @@ pub fn draw_curve<DB: DrawingBackend>(
             chart.draw_series(std::iter::once(
                 EmptyElement::at((x.1, y.1))
                     + Text::new(
-                        format!("K = {} (above the chart)", format_value(kv)),
+                        format!("{k_name} = {} (above the chart)", format_value(kv)),
                         (-scale.pxi(6.0), scale.pxi(18.0)),
                         label_style,
                     ),
@@ -195,6 +201,7 @@ pub fn draw_curve<DB: DrawingBackend>(
         let what = match model {
             Model::Logistic => "midpoint (t0, K/2)",
             Model::Logistic4 => "midpoint (t0, (K+L)/2)",
+            Model::Bass => "peak adoption (t*, N(t*))",
             _ => "inflection (t0, f(t0))",
         };
         chart
@@ -204,7 +211,11 @@ pub fn draw_curve<DB: DrawingBackend>(
         chart.draw_series(std::iter::once(
             EmptyElement::at((tc, yc))
                 + Text::new(
-                    format!("t0 = {}", (input.format_time)(tc)),
+                    format!(
+                        "{} = {}",
+                        if model == Model::Bass { "t*" } else { "t0" },
+                        (input.format_time)(tc)
+                    ),
                     (scale.pxi(10.0), scale.pxi(4.0)),
                     scale.text(13.0).pos(Pos::new(HPos::Left, VPos::Top)),
                 ),
@@ -232,7 +243,11 @@ fn center(model: Model, p: &[f64]) -> Option<(f64, f64)> {
         Model::Logistic => Some((p[2], p[0] / 2.0)),
         Model::Logistic4 => Some((p[2], (p[0] + p[3]) / 2.0)),
         Model::Gompertz | Model::Richards => Some((p[2], model.eval(p, p[2]))),
-        Model::Exponential => None,
+        Model::Bass if p[2] > p[1] => {
+            let ts = plateau_core::analysis::bass_peak_time(p);
+            Some((ts, model.eval(p, ts)))
+        }
+        Model::Exponential | Model::Bass | Model::Bilogistic => None,
     }
 }
 

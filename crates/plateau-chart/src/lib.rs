@@ -39,11 +39,11 @@ pub use common::{format_value, plain_time};
 pub use curve::draw_curve;
 pub use drift::{draw_drift, render_drift_svg, DriftInput};
 pub use fisher_pry::draw_fisher_pry;
-pub use linear::{draw_linear, linearise};
+pub use linear::{draw_linear, linearise, NOT_AVAILABLE_BILOGISTIC};
 pub use qq::draw_qq;
 pub use rate::draw_rate;
 pub use residuals::draw_residuals;
-pub use symmetry::{draw_symmetry, NOT_AVAILABLE_EXPONENTIAL};
+pub use symmetry::{draw_symmetry, NOT_AVAILABLE_EXPONENTIAL, NOT_AVAILABLE_NO_CENTER};
 
 /// Everything a chart needs, as plain data.
 pub struct ChartInput<'a> {

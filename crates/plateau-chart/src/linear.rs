@@ -30,7 +30,13 @@ use plotters::style::text_anchor::{HPos, Pos, VPos};
 /// | `gompertz` | `−ln(−ln(y / K))` | 0 < y < K |
 /// | `richards` | `−ln(((K / y)^ν − 1) / ν)` | 0 < y < K |
 /// | `exponential` | `ln y` | y > 0 (with a > 0) |
+/// | `bass` | `ln((y + m p/q) / (m − y))` | 0 ≤ y < m |
 ///
+/// The Bass curve after launch is the logistic with the floor
+/// `L = −m p/q`, `K = m`, `r = p + q` and midpoint `t* = tau + ln(q/p)/(p+q)`
+/// (see `plateau_core::model`), so it takes logistic4's transform; the line
+/// is `(p + q)(t − t*)` and `z = 0` is the peak. The bi-logistic has no
+/// linearising transform: the chart says so.
 /// `None` when `y` is outside that range, when `y` or a parameter is not
 /// finite, or when the parameters admit no transform (K ≤ 0, ν ≤ 0,
 /// K = L, a ≤ 0).
@@ -44,6 +50,8 @@ fn transform(model: Model, p: &[f64], y: f64) -> Option<f64> {
         return None;
     }
     let z = match model {
+        Model::Bass => return transform(Model::Logistic4, &bass_as_logistic4(p), y),
+        Model::Bilogistic => return None,
         Model::Logistic => {
             let k = p[0];
             if !(k > 0.0 && y > 0.0 && y < k) {
@@ -91,6 +99,12 @@ fn transform(model: Model, p: &[f64], y: f64) -> Option<f64> {
     Some(z).filter(|z| z.is_finite())
 }
 
+/// The Bass parameters `[m, p, q, tau]` as logistic4's `[K, r, t0, L]`.
+fn bass_as_logistic4(p: &[f64]) -> [f64; 4] {
+    let (m, pi, qi, tau) = (p[0], p[1], p[2], p[3]);
+    [m, pi + qi, tau + (qi / pi).ln() / (pi + qi), -m * pi / qi]
+}
+
 /// `ln(y / k)` for `0 < y < k`, accurate when `y` is close to `k`.
 fn ln_ratio(y: f64, k: f64) -> f64 {
     if y > 0.5 * k {
@@ -105,6 +119,8 @@ fn ln_ratio(y: f64, k: f64) -> f64 {
 fn line(model: Model, p: &[f64], t: f64) -> f64 {
     match model {
         Model::Exponential => p[0].ln() + p[1] * t,
+        Model::Bass => line(Model::Logistic4, &bass_as_logistic4(p), t),
+        Model::Bilogistic => f64::NAN,
         _ => p[1] * (t - p[2]),
     }
 }
@@ -117,6 +133,8 @@ fn caption(model: Model) -> &'static str {
         Model::Gompertz => "−ln(−ln(y / K))",
         Model::Richards => "−ln(((K / y)^ν − 1) / ν)",
         Model::Exponential => "ln y",
+        Model::Bass => "ln((y + m p/q) / (m − y))",
+        Model::Bilogistic => "",
     }
 }
 
@@ -128,7 +146,8 @@ fn zero_meaning(model: Model) -> Option<&'static str> {
         Model::Logistic4 => Some("z = 0: y = (K+L)/2 (midpoint)"),
         Model::Gompertz => Some("z = 0: y = K/e (inflection)"),
         Model::Richards => Some("z = 0: y = K (1+ν)^(−1/ν) (inflection)"),
-        Model::Exponential => None,
+        Model::Bass => Some("z = 0: y = m (q−p)/(2q) (peak adoption, t*)"),
+        Model::Exponential | Model::Bilogistic => None,
     }
 }
 
@@ -138,8 +157,14 @@ fn domain(model: Model) -> &'static str {
         Model::Logistic | Model::Gompertz | Model::Richards => "0 < y < K",
         Model::Logistic4 => "y between L and K",
         Model::Exponential => "y > 0",
+        Model::Bass => "0 ≤ y < m",
+        Model::Bilogistic => "",
     }
 }
+
+/// The message drawn instead of the straight-line chart for the bi-logistic.
+pub const NOT_AVAILABLE_BILOGISTIC: &str = "The straight-line view does not apply to the \
+     bi-logistic model: a sum of two logistic pulses has no transform that makes it a line.";
 
 /// Draws the straight-line chart on `area`.
 pub fn draw_linear<DB: DrawingBackend>(
@@ -156,6 +181,9 @@ pub fn draw_linear<DB: DrawingBackend>(
         Model::Exponential => "log scale view, exponential fit".to_string(),
         _ => format!("straight-line view, {} fit", model.name()),
     };
+    if model == Model::Bilogistic {
+        return common::draw_message(area, &title, NOT_AVAILABLE_BILOGISTIC, scale);
+    }
 
     let (t_first, t_last) = common::extent(obs.iter().map(|o| o.0)).unwrap_or((0.0, 1.0));
     let horizon = input.horizon.filter(|h| h.is_finite() && *h > t_last);

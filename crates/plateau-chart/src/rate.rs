@@ -27,20 +27,24 @@ const SAMPLES: usize = 240;
 /// span, no cancellation where the curve is flat, and the peak comes out
 /// exactly `rK/4` rather than to the difference's truncation error.
 fn derivative(model: Model, p: &[f64], t: f64) -> f64 {
-    let mut grad = [0.0; 4];
-    let y = model.eval_grad(p, t, &mut grad[..model.n_params()]);
-    match model {
-        Model::Exponential => p[1] * y,
-        _ => -grad[2],
-    }
+    model.slope(p, t)
 }
 
 /// The derivative's maximum `(t0, dy/dt(t0))` for the saturating models,
 /// whose inflection time is t0 (`rK/4` for the logistic); `None` for the
-/// exponential, which has no peak.
+/// exponential, which has no peak. The Bass model peaks at
+/// `t* = tau + ln(q/p)/(p+q)` when `q > p`; the bi-logistic's two pulses
+/// have no single peak to mark.
 fn peak(model: Model, p: &[f64]) -> Option<(f64, f64)> {
-    if model == Model::Exponential {
+    if model == Model::Exponential || model == Model::Bilogistic {
         return None;
+    }
+    if model == Model::Bass {
+        if p[2] <= p[1] {
+            return None;
+        }
+        let ts = plateau_core::analysis::bass_peak_time(p);
+        return Some((ts, derivative(model, p, ts))).filter(|q| q.0.is_finite() && q.1.is_finite());
     }
     let t0 = p[2];
     Some((t0, derivative(model, p, t0))).filter(|q| q.0.is_finite() && q.1.is_finite())
@@ -129,6 +133,7 @@ pub fn draw_rate<DB: DrawingBackend>(
         let what = match model {
             Model::Logistic => "peak rate rK/4 at t0",
             Model::Logistic4 => "peak rate r(K−L)/4 at t0",
+            Model::Bass => "peak adoption m(p+q)²/(4q) at t*",
             _ => "peak rate at the inflection t0",
         };
         chart
@@ -138,13 +143,15 @@ pub fn draw_rate<DB: DrawingBackend>(
         let formula = match model {
             Model::Logistic => "rK/4 = ",
             Model::Logistic4 => "r(K−L)/4 = ",
+            Model::Bass => "m(p+q)²/(4q) = ",
             _ => "",
         };
+        let at = if model == Model::Bass { "t*" } else { "t0" };
         chart.draw_series(std::iter::once(
             EmptyElement::at((tc, rc))
                 + Text::new(
                     format!(
-                        "peak {formula}{} at t0 = {}",
+                        "peak {formula}{} at {at} = {}",
                         format_value(rc),
                         (input.format_time)(tc)
                     ),

@@ -18,6 +18,11 @@ pub const NOT_AVAILABLE_EXPONENTIAL: &str =
     "The symmetry check is not available for the exponential model: it has no midpoint or \
      inflection point to reflect through.";
 
+/// The message drawn instead of the chart for the Bass and bi-logistic models.
+pub const NOT_AVAILABLE_NO_CENTER: &str = "The symmetry check does not apply to this model: \
+     the Bass curve is not point-symmetric about its peak, and the bi-logistic's two pulses have \
+     no single center.";
+
 /// Draws the symmetry chart on `area`.
 pub fn draw_symmetry<DB: DrawingBackend>(
     area: &DrawingArea<DB, Shift>,
@@ -31,6 +36,9 @@ pub fn draw_symmetry<DB: DrawingBackend>(
     let title = format!("symmetry check, {} fit", model.name());
     if model == Model::Exponential {
         return common::draw_message(area, &title, NOT_AVAILABLE_EXPONENTIAL, scale);
+    }
+    if matches!(model, Model::Bass | Model::Bilogistic) {
+        return common::draw_message(area, &title, NOT_AVAILABLE_NO_CENTER, scale);
     }
     let Some(sym) = symmetry(fit, input.times, input.values) else {
         return common::draw_message(

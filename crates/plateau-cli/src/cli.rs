@@ -6,7 +6,7 @@ use clap::{Args, Parser, Subcommand};
 #[command(
     name = "plateau",
     version,
-    about = "Fit S-shaped growth curves (logistic, Gompertz, Richards, ...) to a time series",
+    about = "Fit S-shaped growth curves (logistic, Gompertz, Richards, Bass, bi-logistic, ...) to a time series",
     after_help = "Input: CSV, TSV or semicolon-separated text with a time and a value column; \
 times as numbers, years, YYYY-MM-DD, YYYY-MM or quarters (2024Q3). Use - to read standard input."
 )]
@@ -62,7 +62,7 @@ pub struct InputArgs {
 pub struct FitArgs {
     #[command(flatten)]
     pub input: InputArgs,
-    /// Model to fit: logistic, logistic4, gompertz, richards, exponential.
+    /// Model to fit: logistic, logistic4, gompertz, richards, exponential, bass, bilogistic.
     #[arg(long, short, default_value = "logistic")]
     pub model: String,
     /// Hold a parameter at a known value, e.g. --fix K=2500000 (repeatable).

@@ -37,9 +37,12 @@ fn opt(x: Option<f64>) -> String {
     x.map_or("-".into(), num)
 }
 
-/// t0 as a date (or month, quarter) too, when the input had dates.
+/// Parameters that are times on the data's axis.
+const TIME_PARAMS: [&str; 4] = ["t0", "tau", "t01", "t02"];
+
+/// t0 (tau, t01, t02) as a date (or month, quarter) too, when the input had dates.
 fn time_note(kind: TimeKind, name: &str, t: f64) -> String {
-    if kind == TimeKind::Number || name != "t0" || !t.is_finite() {
+    if kind == TimeKind::Number || !TIME_PARAMS.contains(&name) || !t.is_finite() {
         String::new()
     } else {
         format!("  ({})", kind.format(t))
@@ -132,6 +135,34 @@ pub fn fit(name: &str, series: &Series, f: &Fit) -> String {
     for note in &open_notes {
         let _ = writeln!(s, "  {note}: the data set no bound on the other side");
     }
+    if let Some(pk) = plateau_core::analysis::bass_peak(f) {
+        let ci = |c: Option<(f64, f64)>| {
+            c.map_or("not available".to_string(), |(a, b)| {
+                format!("[{}, {}]", num(a), num(b))
+            })
+        };
+        let _ = writeln!(s);
+        let _ = writeln!(
+            s,
+            "peak time  t* = tau + ln(q/p)/(p+q) = {}{}   95% interval {}",
+            num(pk.time),
+            time_note(series.time_kind, "t0", pk.time),
+            ci(pk.time_ci95)
+        );
+        let _ = writeln!(
+            s,
+            "peak rate  m (p+q)²/(4q) = {} per time unit   95% interval {}   ({}% of m adopted by then)",
+            num(pk.rate),
+            ci(pk.rate_ci95),
+            num(100.0 * pk.share)
+        );
+    } else if f.model == plateau_core::Model::Bass {
+        let _ = writeln!(s);
+        let _ = writeln!(
+            s,
+            "peak       none after launch (q <= p): adoption is fastest at tau"
+        );
+    }
     let _ = writeln!(s);
     let _ = writeln!(
         s,
@@ -193,7 +224,10 @@ pub fn compare(name: &str, series: &Series, entries: &[Entry], report: &CompareR
         match &e.result {
             Ok(f) => {
                 rank += 1;
-                let k = f.param("K").map_or("-".into(), |p| num(p.estimate));
+                let k = f
+                    .model
+                    .saturation_level(&f.values())
+                    .map_or("-".into(), num);
                 let flag = if f.warnings.is_empty() { "" } else { "  *" };
                 let delta_bic = report
                     .models
@@ -278,6 +312,10 @@ pub fn compare(name: &str, series: &Series, entries: &[Entry], report: &CompareR
     let _ = writeln!(
         s,
         "p counts free curve parameters; AICc and BIC also count sigma. Weights are Akaike weights."
+    );
+    let _ = writeln!(
+        s,
+        "K is the saturation level: m for bass, K1 + K2 for bilogistic."
     );
     let _ = writeln!(s, "Caution: {CAUTION}");
     s

@@ -111,7 +111,13 @@ pub struct Milestone {
 /// logistic4   (f − L) / (K − L) = p            t_p = t0 + ln(p / (1 − p)) / r
 /// gompertz    f = K exp(−e^(−r d))             t_p = t0 − ln(−ln p) / r
 /// richards    f = K (1 + ν e^(−r d))^(−1/ν)     t_p = t0 − ln((p^(−ν) − 1) / ν) / r
+/// bass        f = m F(t − tau)                  t_p = tau + ln((1 + (q/p) p_) / (1 − p_)) / (p + q)
 /// ```
+///
+/// (for the Bass model `p_` is the share, `p` the innovation coefficient).
+/// The bi-logistic's share is of `K1 + K2`; its time has no closed form and
+/// is found by bisection between the two pulses' own `t_p` (the sum is
+/// increasing and lies between them).
 ///
 /// For the four-parameter logistic the share is of the *rise* from the
 /// floor L to K, not of K itself: "halfway" then means halfway between the
@@ -154,6 +160,14 @@ fn fraction_time(model: Model, q: &[f64], p: f64) -> Option<f64> {
     if !(p > 0.0 && p < 1.0) || model == Model::Exponential || q.len() < 3 {
         return None;
     }
+    if model == Model::Bass {
+        let (pi, qi, tau) = (q[1], q[2], q[3]);
+        let t = tau + ((1.0 + qi / pi * p) / (1.0 - p)).ln() / (pi + qi);
+        return t.is_finite().then_some(t);
+    }
+    if model == Model::Bilogistic {
+        return bilogistic_fraction_time(q, p);
+    }
     let (r, t0) = (q[1], q[2]);
     let t = match model {
         Model::Logistic | Model::Logistic4 => t0 + (p / (1.0 - p)).ln() / r,
@@ -163,9 +177,83 @@ fn fraction_time(model: Model, q: &[f64], p: f64) -> Option<f64> {
             // p^(−ν) − 1 = expm1(−ν ln p) keeps precision for small ν.
             t0 - ((-nu * p.ln()).exp_m1() / nu).ln() / r
         }
-        Model::Exponential => return None,
+        Model::Exponential | Model::Bass | Model::Bilogistic => return None,
     };
     t.is_finite().then_some(t)
+}
+
+/// The bi-logistic's `t_p` by bisection (see [`time_at_fraction`]).
+fn bilogistic_fraction_time(q: &[f64], p: f64) -> Option<f64> {
+    let total = q[0] + q[3];
+    let logit = (p / (1.0 - p)).ln();
+    let (a, b) = (q[2] + logit / q[1], q[5] + logit / q[4]);
+    let (mut lo, mut hi) = (a.min(b), a.max(b));
+    if !(lo.is_finite() && hi.is_finite() && total > 0.0) {
+        return None;
+    }
+    let target = p * total;
+    for _ in 0..200 {
+        let mid = 0.5 * (lo + hi);
+        if mid <= lo || mid >= hi {
+            break;
+        }
+        if Model::Bilogistic.eval(q, mid) < target {
+            lo = mid;
+        } else {
+            hi = mid;
+        }
+    }
+    Some(0.5 * (lo + hi))
+}
+
+/// Bass peak time `t* = tau + ln(q/p)/(p+q)` for parameters `[m, p, q,
+/// tau]` when `q > p`; `tau` otherwise (the adoption rate then falls from
+/// launch on).
+pub fn bass_peak_time(v: &[f64]) -> f64 {
+    let (p, q, tau) = (v[1], v[2], v[3]);
+    if q > p {
+        tau + (q / p).ln() / (p + q)
+    } else {
+        tau
+    }
+}
+
+/// The Bass adoption peak with 95% delta-method intervals.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Peak {
+    /// `t* = tau + ln(q/p) / (p+q)`.
+    pub time: f64,
+    pub time_ci95: Option<(f64, f64)>,
+    /// The adoption rate at the peak, `m f(t*) = m (p+q)² / (4q)` (per
+    /// unit of time).
+    pub rate: f64,
+    pub rate_ci95: Option<(f64, f64)>,
+    /// `N(t*)/m = F(t*) = (q − p) / (2q)`: the share adopted by the peak.
+    pub share: f64,
+}
+
+/// The Bass model's peak (Bass 1969): when and how fast adoption is at its
+/// highest. `None` for other models and when `q ≤ p` (the rate is then
+/// highest at launch, `m p`, and falls from there: no interior peak).
+pub fn bass_peak(fit: &Fit) -> Option<Peak> {
+    if fit.model != Model::Bass {
+        return None;
+    }
+    let v = fit.values();
+    let time_of = |v: &[f64]| (v[2] > v[1]).then(|| bass_peak_time(v));
+    let rate_of = |v: &[f64]| {
+        let (m, p, q) = (v[0], v[1], v[2]);
+        (q > p).then(|| m * (p + q) * (p + q) / (4.0 * q))
+    };
+    let time = time_of(&v)?;
+    let rate = rate_of(&v)?;
+    Some(Peak {
+        time,
+        time_ci95: delta_interval(fit, time, 0.95, &time_of),
+        rate,
+        rate_ci95: delta_interval(fit, rate, 0.95, &rate_of),
+        share: (v[2] - v[1]) / (2.0 * v[2]),
+    })
 }
 
 fn level_time(model: Model, q: &[f64], y: f64) -> Option<f64> {
@@ -182,7 +270,7 @@ fn level_time(model: Model, q: &[f64], y: f64) -> Option<f64> {
             let (k, l) = (q[0], q[3]);
             fraction_time(model, q, (y - l) / (k - l))?
         }
-        _ => fraction_time(model, q, y / q[0])?,
+        _ => fraction_time(model, q, y / model.saturation_level(q)?)?,
     };
     t.is_finite().then_some(t)
 }
@@ -307,7 +395,9 @@ pub const MIN_COMPARED: usize = 3;
 ///
 /// Center `(t_c, y_c)`: the logistic's midpoint `(t0, K/2)`; for logistic4
 /// `(t0, (K + L)/2)`; for the Gompertz and Richards curves the inflection
-/// point `(t0, f(t0))`. The exponential has no center: `None`.
+/// point `(t0, f(t0))`. The exponential has no center, the Bass curve is
+/// not point-symmetric about its peak and the bi-logistic has two pulses:
+/// `None` for these.
 ///
 /// ```text
 /// (t'_i, y'_i) = (2 t_c − t_i, 2 y_c − y_i)
@@ -345,7 +435,7 @@ pub fn symmetry(fit: &Fit, t: &[f64], y: &[f64]) -> Option<Symmetry> {
         Model::Logistic => ((t0, p[0] / 2.0), MEANING_SYMMETRIC),
         Model::Logistic4 => ((t0, (p[0] + p[3]) / 2.0), MEANING_SYMMETRIC),
         Model::Gompertz | Model::Richards => ((t0, model.eval(&p, t0)), MEANING_ASYMMETRIC),
-        Model::Exponential => return None,
+        Model::Exponential | Model::Bass | Model::Bilogistic => return None,
     };
     let (tc, yc) = center;
 

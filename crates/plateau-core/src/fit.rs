@@ -407,14 +407,15 @@ impl CurveProblem<'_> {
         while start < m {
             let end = (start + BLOCK).min(m);
             let n = end - start;
-            let [c0, c1, c2, c3] = &mut cols;
-            let [s0, s1, s2, s3] = &mut spare;
-            let g = [
-                block_of(c0, s0, is_free[0], start, end),
-                block_of(c1, s1, is_free[1], start, end),
-                block_of(c2, s2, is_free[2], start, end),
-                block_of(c3, s3, is_free[3], start, end),
-            ];
+            let g: [&mut [f64]; MAX_PARAMS] = {
+                let mut blocks = cols
+                    .each_mut()
+                    .into_iter()
+                    .zip(spare.each_mut())
+                    .zip(is_free)
+                    .map(|((c, s), free)| block_of(c, s, free, start, end));
+                std::array::from_fn(|_| blocks.next().expect("one block per parameter slot"))
+            };
             let r = &mut res[start..end];
             c.eval_block(&self.t[start..end], r, g);
             let y = &self.y[start..end];
@@ -733,6 +734,34 @@ fn solve(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<Solved
     let Some((mut outcome, mut p, mut r)) = best else {
         return Err(error(FitErrorKind::NoStart, "no starting values"));
     };
+    // The bi-logistic's two pulses can be swapped without changing the
+    // curve; report the earlier one as pulse 1. The swapped vector is a
+    // minimum too, so re-solving from it converges at once and gives the
+    // factorisation in the new order. With fixed parameters the pulses keep
+    // the order the fixes give them.
+    if model == Model::Bilogistic && free.len() == np && p[2] > p[5] && outcome.rss.is_finite() {
+        let swapped = vec![p[3], p[4], p[5], p[0], p[1], p[2]];
+        let problem = CurveProblem {
+            model,
+            t: tt,
+            y: &target,
+            sqrt_w: sqrt_w.clone(),
+            base: swapped.clone(),
+            free: free.clone(),
+            scale,
+        };
+        let mut r2 = Vec::new();
+        let mut out = solver
+            .clone()
+            .with_initial_damping(PRESOLVED_DAMPING)
+            .minimize_factored(&problem, &swapped, &mut r2);
+        if out.rss.is_finite() && out.rss <= outcome.rss * (1.0 + 1e-9) && out.x[2] <= out.x[5] {
+            out.iterations += outcome.iterations;
+            p = problem.full(&out.x);
+            outcome = out;
+            r = r2;
+        }
+    }
     // Relative and count errors: iteratively reweighted least squares, the
     // weights from the current fitted values, until the estimate settles.
     let mut model_w: Option<Vec<f64>> = None;
@@ -1126,6 +1155,13 @@ fn starting_points(
                 .to_vec(),
         ),
         Model::Exponential => starts.push(start::exponential(t, y).ok_or_else(no_start)?.to_vec()),
+        Model::Bass => {
+            let m_fixed = fixed[0];
+            starts.extend(start::bass(t, y, m_fixed).iter().map(|s| s.to_vec()));
+        }
+        Model::Bilogistic => {
+            starts.extend(start::bilogistic(t, y).iter().map(|s| s.to_vec()));
+        }
         Model::Logistic4 => {
             let l_fixed = fixed[3];
             let ymin = y.iter().cloned().fold(f64::INFINITY, f64::min);
@@ -1226,6 +1262,19 @@ fn richards_start(
     Ok(vec![v[0], v[1], v[2], fixed[3].unwrap_or(nu)])
 }
 
+/// The time of the (last) inflection point, with its name: t0; the Bass
+/// peak time `t* = tau + ln(q/p)/(p+q)` (`tau` when `q ≤ p`: the rate is
+/// highest at launch); the later pulse's t02 for the bi-logistic.
+fn inflection(fit: &Fit) -> Option<(&'static str, f64)> {
+    let v = fit.values();
+    match fit.model {
+        Model::Exponential => None,
+        Model::Bass => Some(("t*", crate::analysis::bass_peak_time(&v))),
+        Model::Bilogistic => Some(("t02", v[2].max(v[5]))),
+        _ => Some(("t0", v[2])),
+    }
+}
+
 /// Thresholds of [`diagnose`]. K counts as not identified when its relative
 /// standard error exceeds this...
 pub const K_REL_SE_LIMIT: f64 = 0.3;
@@ -1268,7 +1317,7 @@ fn diagnose(fit: &mut Fit, t: &[f64], y: &[f64]) {
             continue;
         }
         let near = match p.name {
-            "r" => p.estimate * span < 1e-3,
+            "r" | "r1" | "r2" | "p" | "q" => p.estimate * span < 1e-3,
             "nu" => !(1e-3..=1e3).contains(&p.estimate),
             _ => p.estimate < 1e-9 * ymax.abs().max(f64::MIN_POSITIVE),
         };
@@ -1282,22 +1331,29 @@ fn diagnose(fit: &mut Fit, t: &[f64], y: &[f64]) {
             ));
         }
     }
-    if let Some(kj) = fit.params.iter().position(|p| p.name == "K" && !p.fixed) {
+    if let Some(kj) = fit
+        .params
+        .iter()
+        .position(|p| (p.name == "K" || p.name == "m") && !p.fixed)
+    {
         let k = &fit.params[kj];
         let floor = fit.param("L").map_or(0.0, |l| l.estimate);
         let observed_rise = ymax - floor;
         let rel_se = k.std_error.map(|s| s / k.estimate.abs());
         let mut reasons = Vec::new();
         match rel_se {
-            None => reasons.push("K has no standard error".to_string()),
-            Some(r) if r > K_REL_SE_LIMIT => {
-                reasons.push(format!("its standard error is {:.0}% of K", 100.0 * r))
-            }
+            None => reasons.push(format!("{} has no standard error", k.name)),
+            Some(r) if r > K_REL_SE_LIMIT => reasons.push(format!(
+                "its standard error is {:.0}% of {}",
+                100.0 * r,
+                k.name
+            )),
             _ => {}
         }
         if observed_rise > 0.0 && (k.estimate - floor) > K_RANGE_LIMIT * observed_rise {
             reasons.push(format!(
-                "K is {:.1} times the highest observation",
+                "{} is {:.1} times the highest observation",
+                k.name,
                 (k.estimate - floor) / observed_rise
             ));
         }
@@ -1326,21 +1382,22 @@ fn diagnose(fit: &mut Fit, t: &[f64], y: &[f64]) {
             w.push(Warning::new(
                 WarningCode::SaturationNotIdentified,
                 format!(
-                    "the data do not determine the saturation level K ({}): treat K as unknown, \
+                    "the data do not determine the saturation level {} ({}): treat {} as unknown, \
                      not as the estimate shown",
-                    reasons.join("; ")
+                    k.name,
+                    reasons.join("; "),
+                    k.name
                 ),
             ));
         }
     }
-    if let Some(t0) = fit.param("t0").filter(|_| fit.model.saturates()) {
-        if tmax < t0.estimate {
+    if let Some((name, t_infl)) = inflection(fit) {
+        if tmax < t_infl {
             w.push(Warning::new(
                 WarningCode::BeforeInflection,
                 format!(
-                    "the data end before the fitted inflection point t0 = {:.4}: the upper part of the \
+                    "the data end before the fitted inflection point {name} = {t_infl:.4}: the upper part of the \
                      curve is an extrapolation, and fits at this stage are unreliable",
-                    t0.estimate
                 ),
             ));
         }
@@ -1364,12 +1421,14 @@ mod avx2_tests {
         if !std::is_x86_feature_detected!("avx2") {
             return;
         }
-        let params: [(Model, &[f64]); 5] = [
+        let params: [(Model, &[f64]); 7] = [
             (Model::Logistic, &[1000.0, 0.8, 10.0]),
             (Model::Logistic4, &[900.0, 0.6, 12.0, 100.0]),
             (Model::Gompertz, &[50.0, 0.35, 8.0]),
             (Model::Richards, &[2000.0, 0.5, 15.0, 0.4]),
             (Model::Exponential, &[3.0, 0.25]),
+            (Model::Bass, &[1500.0, 0.02, 0.45, -20.0]),
+            (Model::Bilogistic, &[600.0, 0.3, -60.0, 900.0, 0.1, 150.0]),
         ];
         // 77 points: two full blocks and a partial one; times far into the
         // tails too, where the exponentials leave their ordinary range.

@@ -23,10 +23,38 @@ use serde::Serialize;
 /// | `gompertz` | `y = K exp(−e^(−r (t − t0)))` | K, r, t0 |
 /// | `richards` | `y = K (1 + ν e^(−r (t − t0)))^(−1/ν)` | K, r, t0, nu |
 /// | `exponential` | `y = a e^(r t)` | a, r |
+/// | `bass` | `y = m F(t − tau)`, `F` below | m, p, q, tau |
+/// | `bilogistic` | `y = K1 s1(t) + K2 s2(t)` | K1, r1, t01, K2, r2, t02 |
 ///
 /// For the logistic, t0 is the midpoint and inflection, `y(t0) = K/2`; for
 /// the Gompertz and Richards curves t0 is the inflection time
 /// (`y(t0) = K/e` and `K (1 + ν)^(−1/ν)`).
+///
+/// **Bass diffusion** (Bass 1969): cumulative adopters out of a market of
+/// `m`, with innovation coefficient `p`, imitation coefficient `q` and
+/// launch time `tau`:
+///
+/// ```text
+/// F(s) = (1 − e^(−(p+q) s)) / (1 + (q/p) e^(−(p+q) s))   for s ≥ 0
+/// F(s) = 0                                              for s < 0 (before launch)
+/// ```
+///
+/// The adoption rate `m f(s)` peaks at `t* = tau + ln(q/p)/(p+q)` when
+/// `q > p` (at launch otherwise), at `m (p+q)² / (4q)`. Before `tau` the
+/// curve is 0 and its gradient is 0: a launch time inside the data range
+/// makes the earlier observations pure residuals, and the gradient with
+/// respect to `tau` jumps from 0 to `−m p` as `t − tau` crosses 0 (the
+/// curve is continuous, its derivative in `tau` is not). For `t > tau`
+/// the curve equals `logistic4` with `K = m`, `r = p + q`,
+/// `t0 = tau + ln(q/p)/(p+q)`, `L = −m p/q` (an algebraic identity, used by
+/// the self-start and checked in the tests). The model fits running
+/// totals; per-period counts are summed first (`--per-period`, the page's
+/// switch), and the per-period form `N(t) − N(t − 1)` is derived from the
+/// fit ([`bass_per_period`]).
+///
+/// **Bi-logistic** (Meyer 1994): two logistic pulses
+/// `s_i(t) = 1 / (1 + e^(−r_i (t − t0_i)))` added; the fit orders them so
+/// that pulse 1 is the earlier (`t01 ≤ t02`).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize)]
 #[serde(rename_all = "snake_case")]
 pub enum Model {
@@ -35,6 +63,8 @@ pub enum Model {
     Gompertz,
     Richards,
     Exponential,
+    Bass,
+    Bilogistic,
 }
 
 /// Whether a parameter must stay strictly positive.
@@ -45,12 +75,14 @@ pub enum Domain {
 }
 
 impl Model {
-    pub const ALL: [Model; 5] = [
+    pub const ALL: [Model; 7] = [
         Model::Logistic,
         Model::Logistic4,
         Model::Gompertz,
         Model::Richards,
         Model::Exponential,
+        Model::Bass,
+        Model::Bilogistic,
     ];
 
     /// The model's name as used on the command line and in JSON.
@@ -61,6 +93,8 @@ impl Model {
             Model::Gompertz => "gompertz",
             Model::Richards => "richards",
             Model::Exponential => "exponential",
+            Model::Bass => "bass",
+            Model::Bilogistic => "bilogistic",
         }
     }
 
@@ -78,6 +112,12 @@ impl Model {
             Model::Gompertz => "y = K exp(-exp(-r (t - t0)))",
             Model::Richards => "y = K (1 + nu exp(-r (t - t0)))^(-1/nu)",
             Model::Exponential => "y = a exp(r t)",
+            Model::Bass => {
+                "y = m (1 - exp(-(p+q)(t-tau))) / (1 + (q/p) exp(-(p+q)(t-tau))) for t >= tau, else 0"
+            }
+            Model::Bilogistic => {
+                "y = K1 / (1 + exp(-r1 (t - t01))) + K2 / (1 + exp(-r2 (t - t02)))"
+            }
         }
     }
 
@@ -87,6 +127,8 @@ impl Model {
             Model::Logistic4 => &["K", "r", "t0", "L"],
             Model::Richards => &["K", "r", "t0", "nu"],
             Model::Exponential => &["a", "r"],
+            Model::Bass => &["m", "p", "q", "tau"],
+            Model::Bilogistic => &["K1", "r1", "t01", "K2", "r2", "t02"],
         }
     }
 
@@ -110,12 +152,48 @@ impl Model {
             Model::Logistic4 => &[Positive, Positive, Real, Real],
             Model::Richards => &[Positive, Positive, Real, Positive],
             Model::Exponential => &[Real, Real],
+            Model::Bass => &[Positive, Positive, Positive, Real],
+            Model::Bilogistic => &[Positive, Positive, Real, Positive, Positive, Real],
         }
     }
 
-    /// Whether the model has a saturation level K.
+    /// Whether the model has a saturation level (K, Bass's m, or K1 + K2).
     pub fn saturates(self) -> bool {
-        self.param_index("K").is_some()
+        self != Model::Exponential
+    }
+
+    /// The level the curve tends to as `t → ∞` (K; m for the Bass model;
+    /// K1 + K2 for the bi-logistic); `None` for the exponential.
+    pub fn saturation_level(self, p: &[f64]) -> Option<f64> {
+        match self {
+            Model::Exponential => None,
+            Model::Bilogistic => Some(p[0] + p[3]),
+            _ => Some(p[0]),
+        }
+    }
+
+    /// The floor the curve rises from (L for logistic4, else 0).
+    pub fn floor_level(self, p: &[f64]) -> f64 {
+        if self == Model::Logistic4 {
+            p[3]
+        } else {
+            0.0
+        }
+    }
+
+    /// `dy/dt` at `t`, analytically: every saturating model depends on `t`
+    /// only through `t − t0` (`t − tau`; `t − t01` and `t − t02`), so the
+    /// slope is minus the derivative(s) with respect to those; the
+    /// exponential's is `r y`.
+    pub fn slope(self, p: &[f64], t: f64) -> f64 {
+        let mut g = [0.0; MAX_PARAMS];
+        let y = self.eval_grad(p, t, &mut g[..self.n_params()]);
+        match self {
+            Model::Exponential => p[1] * y,
+            Model::Bass => -g[3],
+            Model::Bilogistic => -(g[2] + g[5]),
+            _ => -g[2],
+        }
     }
 
     /// `y(t)` for parameters `p`.
@@ -135,7 +213,7 @@ impl Model {
 }
 
 /// The most parameters any model has.
-pub(crate) const MAX_PARAMS: usize = 4;
+pub const MAX_PARAMS: usize = 6;
 
 /// Points per block of [`Curve::eval_block`].
 pub(crate) const BLOCK: usize = 32;
@@ -188,7 +266,7 @@ impl Curve {
     /// `y(t)` and its gradient.
     #[inline]
     pub(crate) fn value_grad(&self, t: f64, grad: &mut [f64; MAX_PARAMS]) -> f64 {
-        let [k, r, t0, p3] = self.p;
+        let [k, r, t0, p3, _, _] = self.p;
         let d = t - t0;
         match self.model {
             Model::Logistic | Model::Logistic4 => {
@@ -222,6 +300,22 @@ impl Curve {
                 grad[1] = k * t * e;
                 k * e
             }
+            Model::Bass => {
+                // Here (k, r, t0, p3) = (m, p, q, tau).
+                let s = t - p3;
+                let (f, g) = bass_out(k, r, t0, s, exp(-(r + t0) * s.max(0.0)));
+                *grad = g;
+                f
+            }
+            Model::Bilogistic => {
+                let [k1, r1, t01, k2, r2, t02] = self.p;
+                let (d1, d2) = (t - t01, t - t02);
+                let (x1, x2) = (r1 * d1, r2 * d2);
+                let (f1, g1) = sigmoid_out(k1, r1, 0.0, d1, x1, exp(-x1.abs()));
+                let (f2, g2) = sigmoid_out(k2, r2, 0.0, d2, x2, exp(-x2.abs()));
+                *grad = [g1[0], g1[1], g1[2], g2[0], g2[1], g2[2]];
+                f1 + f2
+            }
         }
     }
 
@@ -232,9 +326,9 @@ impl Curve {
     pub(crate) fn eval_block(&self, t: &[f64], f: &mut [f64], g: [&mut [f64]; MAX_PARAMS]) {
         let n = t.len().min(BLOCK);
         let t = &t[..n];
-        let [k, r, t0, p3] = self.p;
+        let [k, r, t0, p3, _, _] = self.p;
         let f = &mut f[..n];
-        let [g0, g1, g2, g3] = g;
+        let [g0, g1, g2, g3, g4, g5] = g;
         let (g0, g1, g2) = (&mut g0[..n], &mut g1[..n], &mut g2[..n]);
         // Scratch for the exponentials' arguments and values.
         let (mut a, mut b) = ([0.0; BLOCK], [0.0; BLOCK]);
@@ -308,6 +402,37 @@ impl Curve {
                     (f[i], g0[i], g1[i]) = (k * e, e, k * t[i] * e);
                 }
             }
+            Model::Bass => {
+                // (k, r, t0, p3) = (m, p, q, tau).
+                let g3 = &mut g3[..n];
+                let b = r + t0;
+                for i in 0..n {
+                    a[i] = -b * (t[i] - p3).max(0.0);
+                }
+                exp_in_place(a);
+                for i in 0..n {
+                    let (v, gr) = bass_out(k, r, t0, t[i] - p3, a[i]);
+                    (f[i], g0[i], g1[i], g2[i], g3[i]) = (v, gr[0], gr[1], gr[2], gr[3]);
+                }
+            }
+            Model::Bilogistic => {
+                let [k1, r1, t01, k2, r2, t02] = self.p;
+                let (g3, g4, g5) = (&mut g3[..n], &mut g4[..n], &mut g5[..n]);
+                for i in 0..n {
+                    a[i] = -(r1 * (t[i] - t01)).abs();
+                    b[i] = -(r2 * (t[i] - t02)).abs();
+                }
+                exp_in_place(a);
+                exp_in_place(b);
+                for i in 0..n {
+                    let (d1, d2) = (t[i] - t01, t[i] - t02);
+                    let (v1, p1) = sigmoid_out(k1, r1, 0.0, d1, r1 * d1, a[i]);
+                    let (v2, p2) = sigmoid_out(k2, r2, 0.0, d2, r2 * d2, b[i]);
+                    f[i] = v1 + v2;
+                    (g0[i], g1[i], g2[i]) = (p1[0], p1[1], p1[2]);
+                    (g3[i], g4[i], g5[i]) = (p2[0], p2[1], p2[2]);
+                }
+            }
         }
     }
 
@@ -332,8 +457,7 @@ impl Curve {
     fn values_any(&self, t: &[f64], out: &mut [f64]) {
         let mut spare = [[0.0; BLOCK]; MAX_PARAMS];
         for (tb, ob) in t.chunks(BLOCK).zip(out.chunks_mut(BLOCK)) {
-            let [s0, s1, s2, s3] = &mut spare;
-            self.eval_block(tb, ob, [s0, s1, s2, s3]);
+            self.eval_block(tb, ob, spare.each_mut().map(|s| &mut s[..]));
         }
     }
 
@@ -341,7 +465,7 @@ impl Curve {
     /// [`richards_terms`] and `big_e = e^(−ln B / ν) = B^(−1/ν)`.
     #[inline(always)]
     fn richards_out(&self, d: f64, ln_b: f64, w: f64, big_e: f64) -> (f64, [f64; MAX_PARAMS]) {
-        let [k, r, _, _] = self.p;
+        let [k, r, ..] = self.p;
         let y = k * big_e;
         let wn = w * self.inv_nu;
         (
@@ -351,6 +475,8 @@ impl Curve {
                 y * wn * d,
                 -y * wn * r,
                 y * richards_nu_term(ln_b, w) * self.inv_nu2,
+                0.0,
+                0.0,
             ],
         )
     }
@@ -384,7 +510,7 @@ fn sigmoid_out(k: f64, r: f64, l: f64, d: f64, x: f64, e: f64) -> (f64, [f64; MA
     // upper tail where 1 − s cancels.
     let ds = s * sc;
     let h = k - l;
-    (l + h * s, [s, h * ds * d, -h * ds * r, sc])
+    (l + h * s, [s, h * ds * d, -h * ds * r, sc, 0.0, 0.0])
 }
 
 /// Gompertz value and gradient from `d = t − t0`, `u = e^(−r d)` and
@@ -393,7 +519,41 @@ fn sigmoid_out(k: f64, r: f64, l: f64, d: f64, x: f64, e: f64) -> (f64, [f64; MA
 fn gompertz_out(k: f64, r: f64, d: f64, u: f64, g: f64) -> (f64, [f64; MAX_PARAMS]) {
     // g·u → 0 as u → ∞; guard the ∞·0 that the product would give.
     let gu = if u.is_finite() { g * u } else { 0.0 };
-    (k * g, [g, k * gu * d, -k * gu * r, 0.0])
+    (k * g, [g, k * gu * d, -k * gu * r, 0.0, 0.0, 0.0])
+}
+
+/// Bass value and gradient (over m, p, q, tau) from `s = t − tau` and
+/// `e = e^(−(p+q) max(s, 0))`. With `c = q/p` and `D = 1 + c e`:
+///
+/// ```text
+/// F      = (1 − e) / D
+/// ∂F/∂p  = (1 + c) s e / D² + c (1 − e) e / (p D²)
+/// ∂F/∂q  = (1 + c) s e / D² − (1 − e) e / (p D²)
+/// ∂F/∂tau = −(1 + c) (p + q) e / D²      (= −f(s), the adoption density)
+/// ```
+///
+/// For `s ≤ 0` (before launch) everything is 0.
+#[inline(always)]
+fn bass_out(m: f64, p: f64, q: f64, s: f64, e: f64) -> (f64, [f64; MAX_PARAMS]) {
+    let on = if s > 0.0 { 1.0 } else { 0.0 };
+    let s = s.max(0.0);
+    let c = q / p;
+    let d = 1.0 + c * e;
+    let inv_d = 1.0 / d;
+    let one_e = 1.0 - e;
+    let f = one_e * inv_d;
+    let k = (1.0 + c) * e * inv_d * inv_d;
+    let w = one_e * e * inv_d * inv_d / p;
+    let dp = k * s + c * w;
+    let dq = k * s - w;
+    let dtau = -k * (p + q) * on;
+    (m * f, [f, m * dp, m * dq, m * dtau, 0.0, 0.0])
+}
+
+/// Bass per-period adoptions `N(t) − N(t − 1)` (one time unit), the
+/// discrete counterpart of the rate `m f(t − tau)`.
+pub fn bass_per_period(p: &[f64], t: f64) -> f64 {
+    Model::Bass.eval(p, t) - Model::Bass.eval(p, t - 1.0)
 }
 
 /// `1 / (1 + e^(−x))` without overflow for any finite `x`.

@@ -89,6 +89,22 @@ pub struct FitReport {
     /// One per fitted row, in input order.
     pub fitted: Vec<f64>,
     pub warnings: Vec<Warning>,
+    /// The Bass model's adoption peak; `null` for other models and when
+    /// `q ≤ p` (no peak after launch).
+    pub peak: Option<PeakReport>,
+}
+
+/// The Bass adoption peak (see `analysis::bass_peak`).
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct PeakReport {
+    /// `t* = tau + ln(q/p) / (p+q)`.
+    pub time: f64,
+    pub time_ci95: Option<[f64; 2]>,
+    /// Adoptions per unit of time at the peak, `m (p+q)² / (4q)`.
+    pub rate: f64,
+    pub rate_ci95: Option<[f64; 2]>,
+    /// Share of m adopted by the peak, `(q − p) / (2q)`.
+    pub share: f64,
 }
 
 impl FitReport {
@@ -136,6 +152,13 @@ impl FitReport {
                 .chain(&fit.warnings)
                 .cloned()
                 .collect(),
+            peak: crate::analysis::bass_peak(fit).map(|p| PeakReport {
+                time: p.time,
+                time_ci95: p.time_ci95.map(|(a, b)| [a, b]),
+                rate: p.rate,
+                rate_ci95: p.rate_ci95.map(|(a, b)| [a, b]),
+                share: p.share,
+            }),
         }
     }
 }

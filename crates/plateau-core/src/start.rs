@@ -469,6 +469,192 @@ pub fn exponential(t: &[f64], y: &[f64]) -> Option<[f64; 2]> {
     Some([a.exp(), b])
 }
 
+/// Points `(t, y)` with finite values, sorted by time.
+fn sorted_points(t: &[f64], y: &[f64]) -> Vec<(f64, f64)> {
+    let mut pts: Vec<(f64, f64)> = t
+        .iter()
+        .zip(y)
+        .filter(|(a, b)| a.is_finite() && b.is_finite())
+        .map(|(a, b)| (*a, *b))
+        .collect();
+    pts.sort_by(|a, b| a.0.total_cmp(&b.0));
+    pts
+}
+
+/// `(m, p, q)` from the Bass (1969) regression on running totals `N`:
+///
+/// ```text
+/// n_i = (N_i − N_(i−1)) / Δt_i = a + b N_(i−1) + c N_(i−1)²
+/// a = p m,   b = q − p,   c = −q / m
+/// ```
+///
+/// so `m` is the positive root of `c m² + b m + a = 0`, `p = a/m`,
+/// `q = −c m`. With a fixed `m` the regression is linear in `p` and `q`
+/// directly: `n_i = p (m − N) + q N (m − N) / m`. `None` when the
+/// regression gives signs the model cannot have (`a ≤ 0`, `c ≥ 0`, or
+/// `p ≤ 0`, `q ≤ 0` with a fixed m) or too few intervals.
+pub fn bass_ols(pts: &[(f64, f64)], fixed_m: Option<f64>) -> Option<[f64; 3]> {
+    let rows: Vec<(f64, f64)> = pts
+        .windows(2)
+        .filter(|w| w[1].0 > w[0].0)
+        .map(|w| (w[0].1, (w[1].1 - w[0].1) / (w[1].0 - w[0].0)))
+        .filter(|(a, b)| a.is_finite() && b.is_finite())
+        .collect();
+    let scale = rows.iter().map(|r| r.0.abs()).fold(0.0, f64::max);
+    if rows.len() < 3 || scale <= 0.0 || !scale.is_finite() {
+        return None;
+    }
+    let valid = |v: f64| v.is_finite() && v > 0.0;
+    if let Some(m) = fixed_m {
+        // Two regressors u = m − N, v = N (m − N) / m, no intercept.
+        let (mut suu, mut suv, mut svv, mut sun, mut svn) = (0.0, 0.0, 0.0, 0.0, 0.0);
+        for &(big_n, n) in &rows {
+            let u = m - big_n;
+            let v = big_n * u / m;
+            suu += u * u;
+            suv += u * v;
+            svv += v * v;
+            sun += u * n;
+            svn += v * n;
+        }
+        let det = suu * svv - suv * suv;
+        let p = (sun * svv - svn * suv) / det;
+        let q = (svn * suu - sun * suv) / det;
+        return (valid(p) && valid(q)).then_some([m, p, q]);
+    }
+    // Regressors 1, u, u² with u = N / scale, for conditioning.
+    let mut xtx = nalgebra::Matrix3::<f64>::zeros();
+    let mut xty = nalgebra::Vector3::<f64>::zeros();
+    for &(big_n, n) in &rows {
+        let u = big_n / scale;
+        let x = nalgebra::Vector3::new(1.0, u, u * u);
+        xtx += x * x.transpose();
+        xty += x * n;
+    }
+    let beta = xtx.lu().solve(&xty)?;
+    let (a, b, c) = (beta[0], beta[1] / scale, beta[2] / (scale * scale));
+    if !(a > 0.0 && c < 0.0) {
+        return None;
+    }
+    // c < 0 < a: the discriminant is positive and exactly one root is.
+    let disc = b * b - 4.0 * a * c;
+    let m = (-b - disc.sqrt()) / (2.0 * c);
+    let (p, q) = (a / m, -c * m);
+    (valid(m) && valid(p) && valid(q)).then_some([m, p, q])
+}
+
+/// The launch time that puts the Bass curve `(m, p, q)` through the data:
+/// the median over `0 < N_i < m` of `t_i − F⁻¹(N_i / m)`, with
+/// `F⁻¹(u) = ln((1 + (q/p) u) / (1 − u)) / (p + q)`; `None` without such
+/// points.
+fn bass_tau(pts: &[(f64, f64)], m: f64, p: f64, q: f64) -> Option<f64> {
+    let c = q / p;
+    let mut taus: Vec<f64> = pts
+        .iter()
+        .filter(|(_, v)| *v > 0.0 && *v < m)
+        .map(|&(ti, v)| {
+            let u = v / m;
+            ti - ((1.0 + c * u) / (1.0 - u)).ln() / (p + q)
+        })
+        .filter(|v| v.is_finite())
+        .collect();
+    if taus.is_empty() {
+        return None;
+    }
+    taus.sort_by(f64::total_cmp);
+    Some(taus[taus.len() / 2])
+}
+
+/// Starting `[m, p, q, tau]` candidates for the Bass model, best guess
+/// first (the solver runs from each and keeps the best):
+///
+/// 1. the Bass (1969) regression ([`bass_ols`]) with `tau` from
+///    [`bass_tau`] (the regression itself does not involve the launch time);
+/// 2. always, from the logistic start `[K, r, t0]`: for `t > tau` the Bass
+///    curve is a logistic with floor `L = −m p/q`, `r = p + q` and midpoint
+///    `tau + ln(q/p)/(p+q)`; with `q/p = 20` (a floor 5% of m below zero)
+///    that gives `m = K`, `p = r/21`, `q = 20 r/21`, `tau = t0 − ln(20)/r`.
+///    This is the fallback when the regression's signs are invalid.
+///
+/// Empty only when the logistic cannot start either.
+pub fn bass(t: &[f64], y: &[f64], fixed_m: Option<f64>) -> Vec<[f64; 4]> {
+    let pts = sorted_points(t, y);
+    let mut out = Vec::new();
+    if let Some([m, p, q]) = bass_ols(&pts, fixed_m) {
+        if let Some(tau) = bass_tau(&pts, m, p, q) {
+            out.push([m, p, q, tau]);
+        }
+    }
+    if let Some([k, r, t0]) = logistic(t, y, fixed_m) {
+        let ratio: f64 = 20.0;
+        let (p, q) = (r / (1.0 + ratio), r * ratio / (1.0 + ratio));
+        out.push([k, p, q, t0 - ratio.ln() / r]);
+    }
+    out
+}
+
+/// Starting `[K1, r1, t01, K2, r2, t02]` candidates for the bi-logistic,
+/// best first, at most [`BILOGISTIC_STARTS`].
+///
+/// The time-ordered series is split at 20%, 30%, …, 80% of its points; a
+/// logistic is self-started ([`logistic`]) on the part before the split,
+/// and another on what the later part has above that first logistic. Each
+/// pair is scored by its residual sum of squares on all the data, and the
+/// best are kept (pulse 1 the earlier). Without any pair (e.g. too few
+/// points), one start splits the single logistic fit into two half-height
+/// pulses a sixth of the time span either side of its midpoint.
+pub fn bilogistic(t: &[f64], y: &[f64]) -> Vec<[f64; 6]> {
+    let pts = sorted_points(t, y);
+    let n = pts.len();
+    let (ts, ys): (Vec<f64>, Vec<f64>) = pts.iter().copied().unzip();
+    let curve = |p: &[f64; 6], ti: f64| {
+        p[0] * crate::model::sigmoid(p[1] * (ti - p[2]))
+            + p[3] * crate::model::sigmoid(p[4] * (ti - p[5]))
+    };
+    let mut scored: Vec<(f64, [f64; 6])> = Vec::new();
+    for tenth in 2..=8 {
+        let k = (n * tenth + 5) / 10;
+        if k < 3 || n < k + 3 {
+            continue;
+        }
+        let Some([k1, r1, t01]) = logistic(&ts[..k], &ys[..k], None) else {
+            continue;
+        };
+        let rest: Vec<f64> = (k..n)
+            .map(|i| ys[i] - k1 * crate::model::sigmoid(r1 * (ts[i] - t01)))
+            .collect();
+        let Some([k2, r2, t02]) = logistic(&ts[k..], &rest, None) else {
+            continue;
+        };
+        let mut p = [k1, r1, t01, k2, r2, t02];
+        if t02 < t01 {
+            p = [k2, r2, t02, k1, r1, t01];
+        }
+        let rss: f64 = pts.iter().map(|&(ti, v)| (v - curve(&p, ti)).powi(2)).sum();
+        if rss.is_finite() {
+            scored.push((rss, p));
+        }
+    }
+    scored.sort_by(|a, b| a.0.total_cmp(&b.0));
+    let mut out: Vec<[f64; 6]> = scored
+        .into_iter()
+        .map(|s| s.1)
+        .take(BILOGISTIC_STARTS)
+        .collect();
+    if out.is_empty() {
+        if let (Some([k, r, t0]), Some(first), Some(last)) =
+            (logistic(t, y, None), ts.first(), ts.last())
+        {
+            let h = (last - first) / 6.0;
+            out.push([k / 2.0, 2.0 * r, t0 - h, k / 2.0, 2.0 * r, t0 + h]);
+        }
+    }
+    out
+}
+
+/// Bi-logistic starts the solver runs from.
+pub const BILOGISTIC_STARTS: usize = 3;
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -207,6 +207,8 @@ pub struct View {
     /// Years (date axes) or time units: ln(81)/r for the logistic.
     pub duration_10_90: Option<f64>,
     pub symmetry: Option<SymmetryRow>,
+    /// The Bass model's adoption peak, when it has one after launch.
+    pub peak: Option<PeakRow>,
     pub comparison: Vec<CompareRow>,
     /// Rolling-origin backtest of every model (see [`BACKTEST_HORIZON`]).
     pub backtest: Vec<BacktestRow>,
@@ -290,6 +292,20 @@ pub struct BootstrapView {
     /// fixed parameters.
     pub params: Vec<Option<[f64; 2]>>,
     pub milestones: Vec<MilestoneRow>,
+}
+
+/// The Bass adoption peak, ready to show.
+#[derive(Debug, Clone, Serialize, PartialEq)]
+#[serde(rename_all = "camelCase")]
+pub struct PeakRow {
+    pub time: f64,
+    pub time_text: String,
+    pub time_ci95_text: Option<[String; 2]>,
+    /// Adoptions per unit of time at the peak.
+    pub rate: f64,
+    pub rate_ci95: Option<[f64; 2]>,
+    /// Percent of m adopted by the peak.
+    pub share_percent: f64,
 }
 
 #[derive(Debug, Clone, Serialize, PartialEq)]
@@ -419,7 +435,8 @@ pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError>
             ci95_asymptotic: p.ci95.filter(|_| p.identified).map(|(a, b)| [a, b]),
             identified: p.identified,
             fixed: p.fixed,
-            as_time: (p.name == "t0" && kind != TimeKind::Number).then(|| fmt_t(p.estimate)),
+            as_time: (["t0", "tau", "t01", "t02"].contains(&p.name) && kind != TimeKind::Number)
+                .then(|| fmt_t(p.estimate)),
         })
         .collect();
 
@@ -442,7 +459,7 @@ pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError>
             k: e.result
                 .as_ref()
                 .ok()
-                .and_then(|f| f.param("K").map(|p| p.estimate)),
+                .and_then(|f| f.model.saturation_level(&f.values())),
             converged: e.result.as_ref().ok().map(|f| f.converged),
             error: e.result.as_ref().err().map(|err| err.to_string()),
         })
@@ -537,6 +554,14 @@ pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError>
         milestones,
         duration_10_90: analysis::duration_10_90(&fit).map(|m| m.time),
         symmetry,
+        peak: analysis::bass_peak(&fit).map(|p| PeakRow {
+            time: p.time,
+            time_text: fmt_t(p.time),
+            time_ci95_text: p.time_ci95.map(|(a, b)| [fmt_t(a), fmt_t(b)]),
+            rate: p.rate,
+            rate_ci95: p.rate_ci95.map(|(a, b)| [a, b]),
+            share_percent: 100.0 * p.share,
+        }),
         comparison,
         backtest,
         diagnostics: diagnostics_row,

@@ -54,6 +54,16 @@ fn logistic(k: f64, r: f64, t0: f64, t: f64) -> f64 {
     k / (1.0 + (-r * (t - t0)).exp())
 }
 
+/// Bass (1969) cumulative adopters `m F(t − tau)`, 0 before launch.
+fn bass(m: f64, p: f64, q: f64, tau: f64, t: f64) -> f64 {
+    let s = t - tau;
+    if s <= 0.0 {
+        return 0.0;
+    }
+    let e = (-(p + q) * s).exp();
+    m * (1.0 - e) / (1.0 + q / p * e)
+}
+
 fn gompertz(k: f64, r: f64, t0: f64, t: f64) -> f64 {
     k * (-(-r * (t - t0)).exp()).exp()
 }
@@ -252,6 +262,80 @@ fn specs() -> Vec<Spec> {
                     .collect()
             },
         },
+        Spec {
+            file: "lumen_cell_adoptions.csv",
+            title: "Lumen Cell: monthly adoptions of a new product (Bass diffusion)",
+            story: "Households in Aldermoor that added the Lumen Cell home battery, counted \
+                    per month since the product's launch at the start of month 1. These are \
+                    new adopters per month, not a running total.",
+            columns: [
+                ("month", "month since launch (1-30)"),
+                (
+                    "new_adopters",
+                    "households that added a Lumen Cell during that month",
+                ),
+            ],
+            model: "bass",
+            truth: &[("m", 4000.0), ("p", 0.012), ("q", 0.38), ("tau", 0.0)],
+            noise: "Poisson: month w's count ~ Poisson(N(w) - N(w-1)) with N the Bass \
+                    (cumulative) curve",
+            seed: 707,
+            note: "Fit the running total (`--per-period`, or the page's \"counts per period\"). \
+                   Adoption peaks at t* = ln(q/p)/(p+q) ≈ 8.8 months at m(p+q)²/(4q) ≈ 404 \
+                   a month; the launch is at tau = 0, so the sum of the counts is N(t) itself.",
+            rows: |s, rng| {
+                let (m, p, q, tau) = (s.p("m"), s.p("p"), s.p("q"), s.p("tau"));
+                (1..=30)
+                    .map(|w| {
+                        let t = f64::from(w);
+                        let lambda = bass(m, p, q, tau, t) - bass(m, p, q, tau, t - 1.0);
+                        let count: f64 = Poisson::new(lambda)
+                            .expect("valid Poisson mean")
+                            .sample(rng);
+                        [w.to_string(), fixed(count, 0)]
+                    })
+                    .collect()
+            },
+        },
+        Spec {
+            file: "wrenlow_two_waves.csv",
+            title: "Wrenlow Downs: two waves of subscriptions (bi-logistic)",
+            story: "Cumulative household subscriptions in the Wrenlow Downs region, monthly. \
+                    A second solar garden opened there in the third year and brought a second \
+                    wave of sign-ups on top of the first.",
+            columns: [
+                ("month", "month number (1-48)"),
+                (
+                    "subscribers",
+                    "cumulative subscriptions at the end of the month",
+                ),
+            ],
+            model: "bilogistic",
+            truth: &[
+                ("K1", 3000.0),
+                ("r1", 0.35),
+                ("t01", 10.0),
+                ("K2", 2500.0),
+                ("r2", 0.3),
+                ("t02", 32.0),
+            ],
+            noise: "additive normal, sd 40, rounded to integers",
+            seed: 808,
+            note: "One logistic cannot follow the pause between the waves; the bi-logistic \
+                   should win the comparison by a wide AICc margin.",
+            rows: |s, rng| {
+                let (k1, r1, t01) = (s.p("K1"), s.p("r1"), s.p("t01"));
+                let (k2, r2, t02) = (s.p("K2"), s.p("r2"), s.p("t02"));
+                let e = normal(40.0);
+                (1..=48)
+                    .map(|w| {
+                        let t = f64::from(w);
+                        let y = logistic(k1, r1, t01, t) + logistic(k2, r2, t02, t) + e.sample(rng);
+                        [w.to_string(), fixed(y, 0)]
+                    })
+                    .collect()
+            },
+        },
     ]
 }
 
@@ -297,8 +381,9 @@ const README_INTRO: &str = "\
 Everything in this folder is **invented**. \"Lumen Cooperative\" is a fictional
 regional network of community solar gardens that sells subscriptions to
 households; its regions (Aldermoor, Fenwick Vale, Harrow Fields, Coldwater
-Basin, Saltmarsh), its \"Lumen Meter\" app and all figures are made up and do
-not describe any real organisation.
+Basin, Saltmarsh, Wrenlow Downs), its \"Lumen Meter\" app, its \"Lumen Cell\"
+home battery and all figures are made up and do not describe any real
+organisation.
 
 The series are synthetic: each is drawn from a known growth curve plus
 known noise, so a fit can be judged against the truth. They are used in the
@@ -324,6 +409,8 @@ Models (Plateau's names and parameters):
 | logistic4 | y = L + (K - L) / (1 + exp(-r (t - t0))) |
 | gompertz | y = K exp(-exp(-r (t - t0))) |
 | exponential | y = a exp(r t) |
+| bass | y = m (1 - exp(-(p+q)(t-tau))) / (1 + (q/p) exp(-(p+q)(t-tau))) for t >= tau, else 0 |
+| bilogistic | y = K1 / (1 + exp(-r1 (t - t01))) + K2 / (1 + exp(-r2 (t - t02))) |
 
 ";
 

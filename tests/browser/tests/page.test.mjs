@@ -36,7 +36,7 @@ test("first visit shows the invented demo series already fitted, K as the CLI ha
   assert.match(await page.textContent("#privacy"), /connect-src 'none'/);
   // Every model appears in the comparison.
   const models = await page.$$eval("#comparison tbody tr td:first-child", (tds) => tds.map((t) => t.textContent));
-  assert.deepEqual([...models].sort(), ["exponential", "gompertz", "logistic", "logistic4", "richards"]);
+  assert.deepEqual([...models].sort(), ["bass", "bilogistic", "exponential", "gompertz", "logistic", "logistic4", "richards"]);
   await page.screenshot({ path: path.join(OUT, "01-demo.png"), fullPage: true });
   assert.deepEqual(errors, []);
   await context.close();
@@ -89,6 +89,39 @@ test("a date series gets dates back in the table and the per-period switch accum
   const cli = cliFit(["-"], cumulative);
   assert.equal(sig6(await paramValue(page, "K")), sig6(cli.params.K.estimate));
   await page.screenshot({ path: path.join(OUT, "04-per-period.png"), fullPage: true });
+  await context.close();
+});
+
+test("Bass on per-period counts: the CLI's parameters and peak; bi-logistic on two waves", async () => {
+  const { page, context, errors } = await openPage(browser, server.url);
+  let before = await page.evaluate(() => Number(document.body.dataset.updates));
+  await page.check("#accum-per-period");
+  await waitReady(page, before + 1);
+  await pasteData(page, readDemo("lumen_cell_adoptions.csv"));
+  before = await page.evaluate(() => Number(document.body.dataset.updates));
+  await page.selectOption("#model", "bass");
+  await waitReady(page, before + 1);
+  const cli = cliFit([path.join(ROOT, "demo-data/lumen_cell_adoptions.csv"), "--per-period", "--model", "bass"]);
+  for (const name of ["m", "p", "q", "tau"]) {
+    assert.equal(sig6(await paramValue(page, name)), sig6(cli.params[name].estimate), `parameter ${name}`);
+  }
+  const peak = await page.textContent('#milestones tr[data-peak="rate"] td:nth-child(2)');
+  assert.equal(sig6(Number(peak.replace(/[^0-9.e+-]/g, ""))), sig6(cli.peak.rate));
+  await page.screenshot({ path: path.join(OUT, "08-bass.png"), fullPage: true });
+
+  before = await page.evaluate(() => Number(document.body.dataset.updates));
+  await page.check("#accum-cumulative");
+  await waitReady(page, before + 1);
+  await pasteData(page, readDemo("wrenlow_two_waves.csv"));
+  before = await page.evaluate(() => Number(document.body.dataset.updates));
+  await page.selectOption("#model", "bilogistic");
+  await waitReady(page, before + 1);
+  const cli2 = cliFit([path.join(ROOT, "demo-data/wrenlow_two_waves.csv"), "--model", "bilogistic"]);
+  for (const name of ["K1", "r1", "t01", "K2", "r2", "t02"]) {
+    assert.equal(sig6(await paramValue(page, name)), sig6(cli2.params[name].estimate), `parameter ${name}`);
+  }
+  await page.screenshot({ path: path.join(OUT, "09-bilogistic.png"), fullPage: true });
+  assert.deepEqual(errors, []);
   await context.close();
 });
 

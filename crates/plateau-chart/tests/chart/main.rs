@@ -633,3 +633,45 @@ fn fisher_pry_chart_with_an_entered_k() {
     let svg = render_text(ChartKind::FisherPry, &exp.input());
     assert!(svg.contains("needs a saturation level K"));
 }
+
+/// Bass (adoption peak marked at t*, level m) and bi-logistic (level
+/// K1 + K2): every chart draws; the views that do not apply say so.
+#[test]
+fn bass_and_bilogistic_charts_draw() {
+    let bass = Case::new(
+        Model::Bass,
+        Model::Bass,
+        &[5000.0, 0.01, 0.45, 1999.5],
+        24,
+        20.0,
+    );
+    let svg = render(ChartKind::Curve, &bass.input());
+    let m = bass.fit.values()[0];
+    assert!(svg.contains(&format!("m = {}", format_value(m))), "m label");
+    assert!(svg.contains("peak adoption (t*, N(t*))") && svg.contains("t* = "));
+    let svg = render(ChartKind::Rate, &bass.input());
+    assert!(svg.contains("m(p+q)²/(4q) = "), "peak rate label");
+    let svg = render(ChartKind::Linear, &bass.input());
+    assert!(svg.contains("ln((y + m p/q) / (m − y))"));
+    let svg = render(ChartKind::Symmetry, &bass.input());
+    assert!(svg.contains("does not apply"), "{svg}");
+    let svg = render(ChartKind::Residuals, &bass.input());
+    assert_eq!(count(&svg, "<circle"), bass.t.len());
+
+    let two = Case::new(
+        Model::Bilogistic,
+        Model::Bilogistic,
+        &[3000.0, 0.6, 2006.0, 2000.0, 0.5, 2018.0],
+        30,
+        20.0,
+    );
+    let svg = render(ChartKind::Curve, &two.input());
+    assert!(svg.contains("K1 + K2 = "));
+    assert_eq!(count(&svg, "<circle"), two.t.len() + 1);
+    for kind in [ChartKind::Linear, ChartKind::Symmetry] {
+        let svg = render(kind, &two.input());
+        assert!(svg.contains("does not apply"), "{kind:?}");
+    }
+    render(ChartKind::Rate, &two.input());
+    render(ChartKind::Residuals, &two.input());
+}

@@ -140,7 +140,12 @@ fn a_fit_that_cannot_be_made_exits_1_saying_why() {
 #[test]
 fn unknown_model_is_an_input_error() {
     let out = plateau(
-        &["fit", &demo("aldermoor_subscribers.csv"), "--model", "bass"],
+        &[
+            "fit",
+            &demo("aldermoor_subscribers.csv"),
+            "--model",
+            "weibull",
+        ],
         None,
     );
     assert_eq!(out.status.code(), Some(2));
@@ -288,7 +293,7 @@ fn compare_ranks_by_aicc_with_weights_summing_to_one() {
         None,
     ));
     let models = v["models"].as_array().unwrap();
-    assert_eq!(models.len(), 5);
+    assert_eq!(models.len(), plateau_core::Model::ALL.len());
     let fitted: Vec<&Value> = models.iter().filter(|m| m["aicc"].is_number()).collect();
     let aicc: Vec<f64> = fitted.iter().map(|m| m["aicc"].as_f64().unwrap()).collect();
     assert!(aicc.windows(2).all(|w| w[0] <= w[1]), "{aicc:?}");
@@ -631,7 +636,7 @@ fn backtest_scores_every_model_by_horizon() {
     ));
     assert_eq!(v["method"], "rolling_origin");
     let models = v["models"].as_array().unwrap();
-    assert_eq!(models.len(), 5);
+    assert_eq!(models.len(), plateau_core::Model::ALL.len());
     for m in models {
         let hs = m["horizons"].as_array().unwrap();
         assert_eq!(hs.len(), 3);
@@ -645,6 +650,56 @@ fn backtest_scores_every_model_by_horizon() {
     assert!(lg["horizons"][0]["mae"].as_f64().unwrap() > 0.0);
     let out = plateau(&["backtest", &file, "--horizon", "0"], None);
     assert_eq!(out.status.code(), Some(2));
+}
+
+/// `plateau fit --model bass --per-period --json` reports the Bass
+/// parameters and the peak; its time is tau + ln(q/p)/(p+q) and its rate
+/// m (p+q)²/(4q) of the reported estimates (Bass 1969), with an interval
+/// around each.
+#[test]
+fn bass_fit_reports_its_peak() {
+    let v = json(&plateau(
+        &[
+            "fit",
+            &demo("lumen_cell_adoptions.csv"),
+            "--per-period",
+            "--model",
+            "bass",
+            "--json",
+        ],
+        None,
+    ));
+    let e = |n: &str| v["params"][n]["estimate"].as_f64().unwrap();
+    let (m, p, q, tau) = (e("m"), e("p"), e("q"), e("tau"));
+    let peak = &v["peak"];
+    let t = peak["time"].as_f64().unwrap();
+    let rate = peak["rate"].as_f64().unwrap();
+    assert!((t - (tau + (q / p).ln() / (p + q))).abs() < 1e-9 * t.abs());
+    assert!((rate - m * (p + q).powi(2) / (4.0 * q)).abs() < 1e-9 * rate);
+    for (x, ci) in [(t, &peak["time_ci95"]), (rate, &peak["rate_ci95"])] {
+        let (lo, hi) = (ci[0].as_f64().unwrap(), ci[1].as_f64().unwrap());
+        assert!(lo < x && x < hi, "{x} in [{lo}, {hi}]");
+    }
+    // Other models carry a null peak.
+    let v = json(&plateau(
+        &["fit", &demo("aldermoor_subscribers.csv"), "--json"],
+        None,
+    ));
+    assert!(v["peak"].is_null());
+}
+
+/// The two-wave demo series is ranked first by the bi-logistic, and the
+/// table names the model.
+#[test]
+fn compare_picks_the_bilogistic_for_two_waves() {
+    let v = json(&plateau(
+        &["compare", &demo("wrenlow_two_waves.csv"), "--json"],
+        None,
+    ));
+    assert_eq!(v["models"][0]["model"], "bilogistic");
+    let out = plateau(&["models"], None);
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert!(text.contains("bass") && text.contains("K1, r1, t01, K2, r2, t02"));
 }
 
 /// `plateau diagnose` takes the error model and increments of `plateau fit`;

@@ -2,6 +2,7 @@
 //! certified values, analytic facts, known-parameter recovery and scipy.
 
 mod bands;
+mod bass;
 mod bootstrap_calibration;
 mod calibration;
 mod diagnostics;

@@ -60,6 +60,22 @@ fn cases() -> Vec<Case> {
             n: 30,
             noise: 2.0,
         },
+        // Launch just before the first observation; peak near t = 5.5.
+        Case {
+            model: Model::Bass,
+            truth: &[1000.0, 0.03, 0.4, -0.5],
+            t: |i| i as f64 * 0.5,
+            n: 40,
+            noise: 10.0,
+        },
+        // Two waves, midpoints 6 and 18.
+        Case {
+            model: Model::Bilogistic,
+            truth: &[600.0, 0.9, 6.0, 400.0, 0.6, 18.0],
+            t: |i| i as f64 * 0.5,
+            n: 60,
+            noise: 8.0,
+        },
     ]
 }
 

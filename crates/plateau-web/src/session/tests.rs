@@ -315,3 +315,48 @@ fn backtest_rows_match_the_core_backtest_the_cli_runs() {
         assert_eq!(row.mape, mape);
     }
 }
+
+/// The page offers the Bass model on per-period counts: the fit is the
+/// core's on the summed counts, the peak row carries the core's numbers,
+/// and every model (the two added ones included) is in the comparison.
+#[test]
+fn bass_on_per_period_counts_shows_its_peak() {
+    let counts = include_str!("../../../../demo-data/lumen_cell_adoptions.csv");
+    let settings = Settings {
+        per_period: true,
+        model: "bass".into(),
+        ..Settings::default()
+    };
+    let a = analyse(counts, &settings).unwrap();
+    let raw = parse_series(counts, &ParseOptions::default()).unwrap();
+    let cum = plateau_core::data::cumulate(&raw.values);
+    let direct =
+        plateau_core::fit::fit_xy(&raw.times, &cum, Model::Bass, &FitOptions::default()).unwrap();
+    assert_eq!(a.fit.values(), direct.values());
+    let peak = a.view.peak.as_ref().expect("q > p: a peak after launch");
+    let core = plateau_core::analysis::bass_peak(&direct).unwrap();
+    assert_eq!(peak.time, core.time);
+    assert_eq!(peak.rate, core.rate);
+    assert!(a.view.comparison.iter().any(|c| c.model == "bilogistic"));
+    // The comparison's level column is m for the Bass model.
+    let row = a
+        .view
+        .comparison
+        .iter()
+        .find(|c| c.model == "bass")
+        .unwrap();
+    assert_eq!(row.k, Some(direct.values()[0]));
+}
+
+#[test]
+fn bilogistic_on_two_waves_has_no_peak_row_or_symmetry() {
+    let text = include_str!("../../../../demo-data/wrenlow_two_waves.csv");
+    let settings = Settings {
+        model: "bilogistic".into(),
+        ..Settings::default()
+    };
+    let a = analyse(text, &settings).unwrap();
+    assert_eq!(a.view.params.len(), 6);
+    assert!(a.view.peak.is_none() && a.view.symmetry.is_none());
+    assert!(a.view.milestones.iter().any(|m| m.label == "50% of K"));
+}

@@ -1,7 +1,8 @@
 //! Validated settings: the raw flags of [`crate::cli`] turned into core
 //! options, with a message naming the flag when one is wrong.
 
-use crate::cli::{CompareArgs, FitArgs, InputArgs};
+use crate::cli::{BatchArgs, CompareArgs, FitArgs, InputArgs};
+use plateau_cli::batch;
 use anyhow::{anyhow, bail, Result};
 use plateau_core::data::ColumnRef;
 use plateau_core::{FitOptions, Model, ParseOptions};
@@ -52,6 +53,42 @@ pub fn compare(args: &CompareArgs) -> Result<CompareSettings> {
     })
 }
 
+pub fn batch(args: &BatchArgs) -> Result<batch::Options> {
+    Ok(batch::Options {
+        model: model(&args.model)?,
+        fit: FitOptions::default(),
+        delimiter: delimiter(args.delimiter.as_deref())?,
+        header: header(args.header.as_deref())?,
+        per_period: args.per_period,
+        format: if args.json {
+            batch::Format::Json
+        } else if args.csv {
+            batch::Format::Csv
+        } else {
+            batch::Format::Table
+        },
+    })
+}
+
+fn delimiter(s: Option<&str>) -> Result<Option<u8>> {
+    Ok(match s {
+        None => None,
+        Some("comma" | ",") => Some(b','),
+        Some("semicolon" | ";") => Some(b';'),
+        Some("tab" | "\\t" | "\t") => Some(b'\t'),
+        Some(other) => bail!("--delimiter: expected comma, semicolon or tab, found {other:?}"),
+    })
+}
+
+fn header(s: Option<&str>) -> Result<Option<bool>> {
+    Ok(match s {
+        None => None,
+        Some("yes" | "true") => Some(true),
+        Some("no" | "false") => Some(false),
+        Some(other) => bail!("--header: expected yes or no, found {other:?}"),
+    })
+}
+
 fn model(name: &str) -> Result<Model> {
     Model::from_name(name).ok_or_else(|| {
         let names: Vec<&str> = Model::ALL.iter().map(|m| m.name()).collect();
@@ -63,19 +100,8 @@ fn model(name: &str) -> Result<Model> {
 }
 
 fn parse_options(input: &InputArgs) -> Result<ParseOptions> {
-    let delimiter = match input.delimiter.as_deref() {
-        None => None,
-        Some("comma" | ",") => Some(b','),
-        Some("semicolon" | ";") => Some(b';'),
-        Some("tab" | "\\t" | "\t") => Some(b'\t'),
-        Some(other) => bail!("--delimiter: expected comma, semicolon or tab, found {other:?}"),
-    };
-    let header = match input.header.as_deref() {
-        None => None,
-        Some("yes" | "true") => Some(true),
-        Some("no" | "false") => Some(false),
-        Some(other) => bail!("--header: expected yes or no, found {other:?}"),
-    };
+    let delimiter = delimiter(input.delimiter.as_deref())?;
+    let header = header(input.header.as_deref())?;
     Ok(ParseOptions {
         delimiter,
         header,

@@ -2,5 +2,6 @@
 //! certified values, analytic facts, known-parameter recovery and scipy.
 
 mod nist;
+mod multi;
 mod recovery;
 mod scipy;

@@ -357,3 +357,55 @@ fn table_row(s: &SeriesSummary) -> String {
         notes
     )
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn opts(format: Format) -> Options {
+        Options {
+            model: Model::Logistic,
+            fit: FitOptions::default(),
+            delimiter: None,
+            header: None,
+            per_period: false,
+            format,
+        }
+    }
+
+    /// More series than two chunks: results stay in input order across
+    /// chunk boundaries. One-point series fail fast (too few points), which
+    /// keeps the unoptimised test quick; the order is what is checked.
+    #[test]
+    fn order_is_kept_across_chunks() {
+        let n = 2 * CHUNK + 17;
+        let mut text = String::from("s;t;y\n");
+        for i in 0..n {
+            text.push_str(&format!("series {i};1;5\n"));
+        }
+        let mut out = Vec::new();
+        let totals = run(text.as_bytes(), &mut out, &opts(Format::Csv)).unwrap();
+        assert_eq!(totals, Totals { series: n, failed: n });
+        let out = String::from_utf8(out).unwrap();
+        let names: Vec<&str> = out.lines().skip(1).map(|l| l.split(',').next().unwrap()).collect();
+        let want: Vec<String> = (0..n).map(|i| format!("series {i}")).collect();
+        assert_eq!(names, want);
+    }
+
+    #[test]
+    fn line_numbers_count_blank_lines_and_the_byte_order_mark() {
+        let text = "\u{feff}s,t,y\r\n\r\na,1,1\r\n\r\na,2,x\r\n";
+        let mut out = Vec::new();
+        run(text.as_bytes(), &mut out, &opts(Format::Json)).unwrap();
+        let v: serde_json::Value = serde_json::from_slice(&out).unwrap();
+        assert_eq!(v["error_line"], 5);
+    }
+
+    #[test]
+    fn bad_utf8_stops_naming_the_line() {
+        let mut bytes = b"s,t,y\na,1,1\na,2,".to_vec();
+        bytes.extend([0xff, b'\n']);
+        let e = run(&bytes[..], &mut Vec::new(), &opts(Format::Csv)).unwrap_err();
+        assert!(e.to_string().starts_with("line 3:"), "{e}");
+    }
+}

@@ -6,7 +6,8 @@
 //! [`ChartKind`], the five drawing functions [`draw_curve`],
 //! [`draw_residuals`], [`draw_symmetry`], [`draw_linear`] and [`draw_rate`]
 //! (plus the dispatcher [`draw`]), the straight-line transform
-//! [`linearise`], [`render_svg`], and [`ChartError`].
+//! [`linearise`], [`render_svg`], and [`ChartError`]; for several series,
+//! [`draw_overlay`] (all series normalised on one chart, with [`normalise`]).
 //!
 //! No fonts are loaded: text goes through plotters' built-in font handling
 //! (no `ttf` feature), which on SVG emits `<text>` elements for the viewer
@@ -20,6 +21,7 @@
 mod common;
 mod curve;
 mod linear;
+mod overlay;
 pub mod palette;
 mod rate;
 mod residuals;
@@ -34,6 +36,7 @@ use std::fmt;
 pub use common::{format_value, plain_time};
 pub use curve::draw_curve;
 pub use linear::{draw_linear, linearise};
+pub use overlay::{draw_overlay, normalise, render_overlay_svg, OverlaySeries};
 pub use rate::draw_rate;
 pub use residuals::draw_residuals;
 pub use symmetry::{draw_symmetry, NOT_AVAILABLE_EXPONENTIAL};

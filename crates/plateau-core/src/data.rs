@@ -24,8 +24,8 @@ mod number;
 mod time;
 
 pub use multi::{
-    parse_multi, sniff_delimiter, split_line, Layout, LongGrouper, MultiOptions, NamedSeries,
-    SeriesFailure, SeriesSet,
+    column_count, parse_multi, sniff_delimiter, split_line, Layout, LongGrouper, MultiOptions,
+    NamedSeries, SeriesFailure, SeriesSet,
 };
 
 #[cfg(test)]

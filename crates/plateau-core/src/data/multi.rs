@@ -92,6 +92,17 @@ pub fn sniff_delimiter(sample: &str) -> u8 {
     detect_delimiter(sample.strip_prefix('\u{feff}').unwrap_or(sample))
 }
 
+/// The number of columns of a text (the widest record), with the delimiter
+/// detected as [`parse_series`](super::parse_series) detects it; 0 when the
+/// text cannot be read. Lets a user interface decide whether a text holds
+/// several series before parsing it.
+pub fn column_count(text: &str) -> usize {
+    let text = text.strip_prefix('\u{feff}').unwrap_or(text);
+    read_records(text, detect_delimiter(text))
+        .map(|r| r.iter().map(|r| r.fields.len()).max().unwrap_or(0))
+        .unwrap_or(0)
+}
+
 /// Splits one line of delimited text into fields, with CSV quoting
 /// (`"a,b"`, `""` for a quote). For streams read line by line, so a quoted
 /// field may not contain a line break: an unbalanced quote is an error.
@@ -285,9 +296,8 @@ fn parse_wide(
 
     // One time kind and one decimal convention for the whole text.
     let all: Vec<Row> = rows.iter().flatten().copied().collect();
-    let kind = time::detect(all[0].time).ok_or_else(|| {
-        super::bad_time(&all[0], None, &time_name)
-    })?;
+    let kind =
+        time::detect(all[0].time).ok_or_else(|| super::bad_time(&all[0], None, &time_name))?;
     let dec = decide_decimal(&all, kind, delimiter)?;
 
     let mut series = Vec::new();
@@ -313,8 +323,8 @@ fn parse_wide(
             delimiter,
             value_col: c,
         };
-        let mut s =
-            build_series(&rows[c], &skipped[c], meta, Some(dec)).map_err(|e| name_error(name, e))?;
+        let mut s = build_series(&rows[c], &skipped[c], meta, Some(dec))
+            .map_err(|e| name_error(name, e))?;
         name_warnings(name, &mut s);
         warnings.extend(s.warnings.iter().cloned());
         series.push(NamedSeries {

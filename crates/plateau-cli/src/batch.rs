@@ -302,7 +302,13 @@ fn write_outcome<W: Write>(out: &mut W, o: &Outcome, format: Format) -> std::io:
 fn table_header() -> String {
     format!(
         "{:<20} {:>5}  {:<34} {:<32} {:<34} {:<30} {:<9} notes",
-        "series", "n", "K [95% interval]", "r [95% interval]", "t0 [95% interval]", "10%→90% [95% interval]", "converged"
+        "series",
+        "n",
+        "K [95% interval]",
+        "r [95% interval]",
+        "t0 [95% interval]",
+        "10%→90% [95% interval]",
+        "converged"
     )
 }
 
@@ -385,9 +391,19 @@ mod tests {
         }
         let mut out = Vec::new();
         let totals = run(text.as_bytes(), &mut out, &opts(Format::Csv)).unwrap();
-        assert_eq!(totals, Totals { series: n, failed: n });
+        assert_eq!(
+            totals,
+            Totals {
+                series: n,
+                failed: n
+            }
+        );
         let out = String::from_utf8(out).unwrap();
-        let names: Vec<&str> = out.lines().skip(1).map(|l| l.split(',').next().unwrap()).collect();
+        let names: Vec<&str> = out
+            .lines()
+            .skip(1)
+            .map(|l| l.split(',').next().unwrap())
+            .collect();
         let want: Vec<String> = (0..n).map(|i| format!("series {i}")).collect();
         assert_eq!(names, want);
     }

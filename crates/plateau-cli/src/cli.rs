@@ -88,12 +88,14 @@ pub struct CompareArgs {
 }
 
 #[derive(Args, Debug)]
-#[command(after_help = "Input: rows of series name, time, value (a header row is detected), \
+#[command(
+    after_help = "Input: rows of series name, time, value (a header row is detected), \
 e.g. \"north,2024-01,120\". The rows of each series must be together (the file sorted or \
 grouped by series); a series that reappears later is reported as failed, naming the line. \
 The file is streamed, never read whole. Results come in input order, one line per series; \
 a series that cannot be read or fitted gets a line with its error and the rest go on \
-(exit status 1 when any failed).")]
+(exit status 1 when any failed)."
+)]
 pub struct BatchArgs {
     /// Data file, or - for standard input.
     pub file: String,

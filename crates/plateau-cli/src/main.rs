@@ -12,8 +12,8 @@ mod table;
 
 use anyhow::{Context, Result};
 use clap::Parser;
-use plateau_cli::batch;
 use cli::{Cli, Command};
+use plateau_cli::batch;
 use plateau_core::compare::compare;
 use plateau_core::report::{CompareReport, FitReport};
 use plateau_core::{fit, parse_series, Model, Series};
@@ -137,7 +137,9 @@ fn run(cli: Cli) -> Result<(), Failure> {
             let mut out = std::io::BufWriter::new(stdout.lock());
             let totals = batch::run(input, &mut out, &opts).map_err(|e| match e {
                 batch::Stop::Input(m) => Failure::Input(anyhow::anyhow!("{name}: {m}")),
-                batch::Stop::Output(e) => Failure::Input(anyhow::anyhow!("cannot write the results: {e}")),
+                batch::Stop::Output(e) => {
+                    Failure::Input(anyhow::anyhow!("cannot write the results: {e}"))
+                }
             })?;
             drop(out);
             if totals.failed > 0 {

@@ -2,8 +2,8 @@
 //! options, with a message naming the flag when one is wrong.
 
 use crate::cli::{BatchArgs, CompareArgs, FitArgs, InputArgs};
-use plateau_cli::batch;
 use anyhow::{anyhow, bail, Result};
+use plateau_cli::batch;
 use plateau_core::data::ColumnRef;
 use plateau_core::{FitOptions, Model, ParseOptions};
 

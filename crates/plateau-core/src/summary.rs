@@ -62,9 +62,10 @@ impl SeriesSummary {
         let t0 = estimate(fit, "t0");
         let t0_date = t0.and_then(|t| match series.time_kind {
             TimeKind::Number => None,
-            TimeKind::Date | TimeKind::Month | TimeKind::Quarter => {
-                t.estimate.is_finite().then(|| TimeKind::Date.format(t.estimate))
-            }
+            TimeKind::Date | TimeKind::Month | TimeKind::Quarter => t
+                .estimate
+                .is_finite()
+                .then(|| TimeKind::Date.format(t.estimate)),
         });
         SeriesSummary {
             series: name.to_string(),
@@ -80,7 +81,12 @@ impl SeriesSummary {
                 ci95: m.ci95.map(|(a, b)| [a, b]),
             }),
             converged: Some(fit.converged),
-            warnings: series.warnings.iter().chain(&fit.warnings).cloned().collect(),
+            warnings: series
+                .warnings
+                .iter()
+                .chain(&fit.warnings)
+                .cloned()
+                .collect(),
             error: None,
             error_line: None,
         }
@@ -114,7 +120,8 @@ impl SeriesSummary {
 }
 
 /// The CSV header of [`summary_csv`].
-pub const CSV_HEADER: &str = "series,model,n,K,K_lo95,K_hi95,r,r_lo95,r_hi95,t0,t0_lo95,t0_hi95,t0_date,\
+pub const CSV_HEADER: &str =
+    "series,model,n,K,K_lo95,K_hi95,r,r_lo95,r_hi95,t0,t0_lo95,t0_hi95,t0_date,\
 duration_10_90,duration_lo95,duration_hi95,converged,warnings,error";
 
 /// One CSV line (no line end) in the columns of [`CSV_HEADER`]; empty
@@ -183,12 +190,17 @@ mod tests {
         let s = parse_series(&text, &ParseOptions::default()).unwrap();
         let f = fit(&s, Model::Logistic, &Default::default()).unwrap();
         let ok = SeriesSummary::from_fit("north, upper", &s, &f);
-        let bad = SeriesSummary::from_error("south", "logistic", Some(40), Some(42), "line 42: bad", &[]);
+        let bad =
+            SeriesSummary::from_error("south", "logistic", Some(40), Some(42), "line 42: bad", &[]);
         let csv = summary_csv(&[ok.clone(), bad]);
         let lines: Vec<&str> = csv.lines().collect();
         assert_eq!(lines.len(), 3);
         assert_eq!(lines[0].split(',').count(), 19);
-        assert!(lines[1].starts_with("\"north, upper\",logistic,30,"), "{}", lines[1]);
+        assert!(
+            lines[1].starts_with("\"north, upper\",logistic,30,"),
+            "{}",
+            lines[1]
+        );
         assert!(lines[2].starts_with("south,logistic,,"), "{}", lines[2]);
         assert!(lines[2].ends_with(",line 42: bad"));
         // 10→90 duration of the logistic is ln(81)/r (analytic).

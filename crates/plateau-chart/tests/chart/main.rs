@@ -585,7 +585,11 @@ fn overlay_puts_every_series_on_the_reference_curve() {
     // (circles for the first 8 series), plus the legend's 3.
     let inside = cases
         .iter()
-        .flat_map(|c| c.t.iter().zip(&c.y).map(|(&t, &y)| normalise(&c.fit, t, y).unwrap()))
+        .flat_map(|c| {
+            c.t.iter()
+                .zip(&c.y)
+                .map(|(&t, &y)| normalise(&c.fit, t, y).unwrap())
+        })
         .filter(|(x, _)| x.abs() <= 10.0)
         .count();
     assert!(inside > 60 && inside < 90, "{inside}");
@@ -593,7 +597,10 @@ fn overlay_puts_every_series_on_the_reference_curve() {
 
     // An exponential fit has no K: a message instead of an empty chart.
     let t: Vec<f64> = (0..20).map(f64::from).collect();
-    let y: Vec<f64> = t.iter().map(|t| 5.0 * (0.2 * t).exp() + (3.0 * t).sin() * 0.1).collect();
+    let y: Vec<f64> = t
+        .iter()
+        .map(|t| 5.0 * (0.2 * t).exp() + (3.0 * t).sin() * 0.1)
+        .collect();
     let fit = fit_xy(&t, &y, Model::Exponential, &FitOptions::default()).unwrap();
     let only = [OverlaySeries {
         name: "early",

@@ -251,10 +251,20 @@ fn batch_fits_every_region_in_input_order() {
         &["batch", &demo("regional_adoption_long.csv"), "--json"],
         None,
     );
-    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
     let lines = json_lines(&out);
-    let names: Vec<&str> = lines.iter().map(|v| v["series"].as_str().unwrap()).collect();
-    assert_eq!(names, ["Brackenridge", "Corrie Haven", "Dunmere", "Eastwold"]);
+    let names: Vec<&str> = lines
+        .iter()
+        .map(|v| v["series"].as_str().unwrap())
+        .collect();
+    assert_eq!(
+        names,
+        ["Brackenridge", "Corrie Haven", "Dunmere", "Eastwold"]
+    );
     for v in &lines {
         assert_eq!(v["converged"], true);
         assert!(v["K"]["ci95"].is_array());
@@ -326,7 +336,10 @@ fn batch_row_without_series_name_stops_with_exit_2() {
     let out = plateau(&["batch", "-"], Some("s,t,y\na,1,1\n,2,2\n"));
     assert_eq!(out.status.code(), Some(2));
     let err = String::from_utf8_lossy(&out.stderr);
-    assert!(err.contains("line 3") && err.contains("series name"), "{err}");
+    assert!(
+        err.contains("line 3") && err.contains("series name"),
+        "{err}"
+    );
 }
 
 #[test]
@@ -335,5 +348,7 @@ fn batch_table_shows_the_caution_and_intervals() {
     assert!(out.status.success());
     let text = String::from_utf8_lossy(&out.stdout);
     assert!(text.starts_with("Forecasts are extrapolations"));
-    assert!(text.lines().any(|l| l.starts_with("Corrie Haven") && l.contains('[')));
+    assert!(text
+        .lines()
+        .any(|l| l.starts_with("Corrie Haven") && l.contains('[')));
 }

@@ -1,7 +1,7 @@
 //! Integration tests of the core against outside references: NIST StRD
 //! certified values, analytic facts, known-parameter recovery and scipy.
 
-mod nist;
 mod multi;
+mod nist;
 mod recovery;
 mod scipy;

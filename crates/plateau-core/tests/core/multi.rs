@@ -44,9 +44,15 @@ fn regional_demo_recovers_each_regions_truth_within_its_interval() {
         }
         // The logistic's 10→90 duration is ln(81)/r (analytic); its
         // interval must hold the truth's value too.
-        let [lo, hi] = s.duration_10_90.and_then(|d| d.ci95).expect("duration interval");
+        let [lo, hi] = s
+            .duration_10_90
+            .and_then(|d| d.ci95)
+            .expect("duration interval");
         let truth = 81f64.ln() / r;
-        assert!(lo <= truth && truth <= hi, "{name}: 10-90 {truth} outside [{lo}, {hi}]");
+        assert!(
+            lo <= truth && truth <= hi,
+            "{name}: 10-90 {truth} outside [{lo}, {hi}]"
+        );
     }
 }
 

@@ -121,7 +121,10 @@ fn long_errors_name_line_and_series() {
     assert_eq!((e.kind, e.line), (DataErrorKind::BadValue, Some(3)));
     assert!(e.message.starts_with("series \"b\""));
     let e = err("s,t,v\na,1,1\n,2,2\n");
-    assert_eq!((e.kind, e.line), (DataErrorKind::MissingSeriesName, Some(3)));
+    assert_eq!(
+        (e.kind, e.line),
+        (DataErrorKind::MissingSeriesName, Some(3))
+    );
     let e = parse_multi(
         "s,t,v\na,1,1\na,2\n",
         &MultiOptions {

@@ -5,6 +5,7 @@
 //!   the fit, its intervals, the 10%→90% duration and the report). The
 //!   target is at least 20,000 fits per second on the 2-core development
 //!   machine; criterion prints the rate as "thrpt".
+//! - `fits_logistic_n50_one_thread`: the same on one thread (per-core rate).
 //! - `end_to_end`: the same series as long-format CSV text in memory,
 //!   through `batch::run` (line splitting, grouping, validation, fits,
 //!   CSV output to a sink).
@@ -74,6 +75,19 @@ fn batch_bench(c: &mut Criterion) {
             |series| {
                 series
                     .into_par_iter()
+                    .map(|s| batch::fit_one(Ok(s), &opts))
+                    .collect::<Vec<_>>()
+            },
+            criterion::BatchSize::LargeInput,
+        )
+    });
+    // The same work on one thread: the per-core rate.
+    group.bench_function("fits_logistic_n50_one_thread", |b| {
+        b.iter_batched(
+            || set.series.clone(),
+            |series| {
+                series
+                    .into_iter()
                     .map(|s| batch::fit_one(Ok(s), &opts))
                     .collect::<Vec<_>>()
             },

@@ -20,7 +20,7 @@
 //! without a series name.
 
 use plateau_core::data::{
-    cumulate, sniff_delimiter, split_line, LongGrouper, NamedSeries, SeriesFailure,
+    cumulate, sniff_delimiter, split_line, LongGrouper, NamedSeries, PendingSeries, SeriesFailure,
 };
 use plateau_core::fit::{fit, FitOptions};
 use plateau_core::report::{FitReport, CAUTION};
@@ -101,6 +101,11 @@ impl fmt::Display for Stop {
     }
 }
 
+/// Validates a series read by the grouper and fits it.
+pub fn build_and_fit(pending: PendingSeries, opts: &Options) -> Outcome {
+    fit_one(pending.build(), opts)
+}
+
 /// Fits one series (or reports why it has none).
 pub fn fit_one(item: Result<NamedSeries, SeriesFailure>, opts: &Options) -> Outcome {
     let model = opts.model.name();
@@ -160,13 +165,12 @@ impl<R: BufRead> Reader<R> {
         let mut pending = std::collections::VecDeque::new();
         let mut content = 0;
         while content < SNIFF_LINES {
-            match next_line(&mut input, &mut buf, &mut line_no)? {
-                Some(text) => {
-                    content += usize::from(!text.trim().is_empty());
-                    pending.push_back((line_no, text));
-                }
-                None => break,
+            if !next_line(&mut input, &mut buf, &mut line_no)? {
+                break;
             }
+            let text = line_text(&buf, line_no)?.to_string();
+            content += usize::from(!text.trim().is_empty());
+            pending.push_back((line_no, text));
         }
         let delimiter = match opts.delimiter {
             Some(d) => d,
@@ -186,67 +190,82 @@ impl<R: BufRead> Reader<R> {
         })
     }
 
-    /// Up to `n` finished series (fewer only at the end of the input).
-    fn next_chunk(&mut self, n: usize) -> Result<Vec<Result<NamedSeries, SeriesFailure>>, Stop> {
+    /// Up to `n` finished series (fewer only at the end of the input),
+    /// not yet validated ([`PendingSeries::build`] runs on the workers).
+    fn next_chunk(&mut self, n: usize) -> Result<Vec<PendingSeries>, Stop> {
         let mut out = Vec::with_capacity(n);
         while out.len() < n && !self.done {
-            let (line_no, text) = match self.pending.pop_front() {
-                Some(p) => p,
-                None => match next_line(&mut self.input, &mut self.buf, &mut self.line_no)? {
-                    Some(t) => (self.line_no, t),
-                    None => {
-                        self.done = true;
-                        out.extend(self.grouper.finish());
-                        break;
-                    }
-                },
+            let done = if let Some((line_no, text)) = self.pending.pop_front() {
+                push_line(&mut self.grouper, line_no, &text, self.delimiter)?
+            } else if next_line(&mut self.input, &mut self.buf, &mut self.line_no)? {
+                let text = line_text(&self.buf, self.line_no)?;
+                push_line(&mut self.grouper, self.line_no, text, self.delimiter)?
+            } else {
+                self.done = true;
+                self.grouper.finish()
             };
-            let fields = split_line(line_no, &text, self.delimiter)
-                .map_err(|e| Stop::Input(e.to_string()))?;
-            // Rows of empty cells are what spreadsheets export for blank rows.
-            if fields.iter().all(|f| f.trim().is_empty()) {
-                continue;
-            }
-            let f: Vec<&str> = fields.iter().map(String::as_str).collect();
-            if let Some(done) = self
-                .grouper
-                .push(line_no, &f)
-                .map_err(|e| Stop::Input(e.to_string()))?
-            {
-                out.push(done);
-            }
+            out.extend(done);
         }
         Ok(out)
     }
 }
 
-/// The next line without its line end, or `None` at the end of the input.
+/// Splits one line and feeds it to the grouper; blank rows are skipped.
+fn push_line(
+    grouper: &mut LongGrouper,
+    line_no: usize,
+    text: &str,
+    delimiter: u8,
+) -> Result<Option<PendingSeries>, Stop> {
+    let owned;
+    let fields: Vec<&str> = if text.contains('"') {
+        owned = split_line(line_no, text, delimiter).map_err(|e| Stop::Input(e.to_string()))?;
+        owned.iter().map(String::as_str).collect()
+    } else {
+        text.split(char::from(delimiter)).collect()
+    };
+    // Rows of empty cells are what spreadsheets export for blank rows.
+    if fields.iter().all(|f| f.trim().is_empty()) {
+        return Ok(None);
+    }
+    grouper
+        .push(line_no, &fields)
+        .map_err(|e| Stop::Input(e.to_string()))
+}
+
+/// The text of the line in `buf` without its line end (and without a
+/// byte-order mark on line 1).
+fn line_text(buf: &[u8], line_no: usize) -> Result<&str, Stop> {
+    let text = std::str::from_utf8(buf)
+        .map_err(|e| {
+            Stop::Input(format!(
+                "line {line_no}: not UTF-8 text (bad byte at column {})",
+                e.valid_up_to() + 1
+            ))
+        })?
+        .trim_end_matches(['\n', '\r']);
+    Ok(if line_no == 1 {
+        text.strip_prefix('\u{feff}').unwrap_or(text)
+    } else {
+        text
+    })
+}
+
+/// Reads the next line into `buf`; `false` at the end of the input.
 fn next_line<R: BufRead>(
     input: &mut R,
     buf: &mut Vec<u8>,
     line_no: &mut usize,
-) -> Result<Option<String>, Stop> {
+) -> Result<bool, Stop> {
     buf.clear();
     let n = input
         .read_until(b'\n', buf)
         .map_err(|e| Stop::Input(format!("cannot read line {}: {e}", *line_no + 1)))?;
     if n == 0 {
-        return Ok(None);
+        return Ok(false);
     }
     *line_no += 1;
-    let mut text = std::str::from_utf8(buf)
-        .map_err(|e| {
-            Stop::Input(format!(
-                "line {}: not UTF-8 text (bad byte at column {})",
-                line_no,
-                e.valid_up_to() + 1
-            ))
-        })?
-        .trim_end_matches(['\n', '\r']);
-    if *line_no == 1 {
-        text = text.strip_prefix('\u{feff}').unwrap_or(text);
-    }
-    Ok(Some(text.to_string()))
+    Ok(true)
 }
 
 /// Runs the batch: reads `input`, writes one result per series to `out`
@@ -272,7 +291,7 @@ where
             || {
                 std::mem::take(&mut chunk)
                     .into_par_iter()
-                    .map(|item| fit_one(item, opts))
+                    .map(|item| build_and_fit(item, opts))
                     .collect::<Vec<_>>()
             },
             || reader.next_chunk(CHUNK),

@@ -25,7 +25,7 @@ mod time;
 
 pub use multi::{
     column_count, parse_multi, sniff_delimiter, split_line, Layout, LongGrouper, MultiOptions,
-    NamedSeries, SeriesFailure, SeriesSet,
+    NamedSeries, PendingSeries, SeriesFailure, SeriesSet,
 };
 
 #[cfg(test)]

@@ -349,8 +349,8 @@ fn parse_long(
 ) -> Result<SeriesSet, DataError> {
     let mut grouper = LongGrouper::new(delimiter, opts.header);
     let mut series = Vec::new();
-    let mut take = |done: Option<Result<NamedSeries, SeriesFailure>>| -> Result<(), DataError> {
-        match done {
+    let mut take = |done: Option<PendingSeries>| -> Result<(), DataError> {
+        match done.map(PendingSeries::build) {
             Some(Ok(s)) => series.push(s),
             Some(Err(f)) => return Err(f.error),
             None => {}
@@ -383,11 +383,13 @@ fn parse_long(
     })
 }
 
-/// A row of the long layout, owned (the grouper outlives the text of a line).
-struct OwnedRow {
+/// A row of the long layout kept by the grouper (which outlives the text
+/// of a line): its line and where its time and value end in the group's
+/// `text` (each starts where the previous field ended).
+struct KeptRow {
     line: usize,
-    time: String,
-    value: String,
+    time_end: usize,
+    value_end: usize,
 }
 
 /// The series being read.
@@ -395,7 +397,10 @@ struct Group {
     name: String,
     first_line: usize,
     last_line: usize,
-    rows: Vec<OwnedRow>,
+    /// The raw time and value fields of the kept rows, one after another
+    /// (one allocation per series rather than two per row).
+    text: String,
+    rows: Vec<KeptRow>,
     skipped: Vec<usize>,
     /// The first problem found; later rows of the series are only consumed.
     failure: Option<DataError>,
@@ -407,12 +412,13 @@ impl Group {
             self.failure = Some(e);
         }
         self.rows = Vec::new();
+        self.text = String::new();
     }
 }
 
 /// Reads the long layout one record at a time and hands back each series
 /// when its rows end (when a row names another series, or at
-/// [`LongGrouper::finish`]).
+/// [`LongGrouper::finish`]), as a [`PendingSeries`] to [`build`](PendingSeries::build).
 ///
 /// A problem inside one series (a bad value, a duplicate time, a series
 /// that reappears) fails that series only: it comes back as a
@@ -459,7 +465,7 @@ impl LongGrouper {
         &mut self,
         line: usize,
         fields: &[&str],
-    ) -> Result<Option<Result<NamedSeries, SeriesFailure>>, DataError> {
+    ) -> Result<Option<PendingSeries>, DataError> {
         if !self.started {
             self.started = true;
             let record = Record {
@@ -505,6 +511,7 @@ impl LongGrouper {
                 name: name.to_string(),
                 first_line: line,
                 last_line: line,
+                text: String::new(),
                 rows: Vec::new(),
                 skipped: Vec::new(),
                 failure: None,
@@ -576,23 +583,58 @@ impl LongGrouper {
                 ),
             ));
         } else {
-            g.rows.push(OwnedRow {
+            g.text.push_str(t);
+            let time_end = g.text.len();
+            g.text.push_str(v);
+            g.rows.push(KeptRow {
                 line,
-                time: t.to_string(),
-                value: v.to_string(),
+                time_end,
+                value_end: g.text.len(),
             });
         }
         Ok(done)
     }
 
     /// Ends the input: returns the last series, if any.
-    pub fn finish(&mut self) -> Option<Result<NamedSeries, SeriesFailure>> {
+    pub fn finish(&mut self) -> Option<PendingSeries> {
         let g = self.current.take()?;
         Some(self.complete(g))
     }
 
-    fn complete(&mut self, g: Group) -> Result<NamedSeries, SeriesFailure> {
+    fn complete(&mut self, g: Group) -> PendingSeries {
         self.ended.entry(g.name.clone()).or_insert(g.last_line);
+        PendingSeries {
+            meta: Meta {
+                time_name: self.time_name.clone(),
+                value_name: self.value_name.clone(),
+                columns: self.columns.clone(),
+                has_header: self.has_header.unwrap_or(false),
+                delimiter: self.delimiter,
+                value_col: 2,
+            },
+            group: g,
+        }
+    }
+}
+
+/// A series whose rows have all been seen but not yet validated and read
+/// into numbers: [`PendingSeries::build`] does that, so a caller can do it
+/// on another thread than the one reading the rows.
+pub struct PendingSeries {
+    group: Group,
+    meta: Meta,
+}
+
+impl PendingSeries {
+    /// The series' name.
+    pub fn name(&self) -> &str {
+        &self.group.name
+    }
+
+    /// Validates the rows and reads them into a series, as
+    /// [`parse_series`](super::parse_series) would for a single series.
+    pub fn build(self) -> Result<NamedSeries, SeriesFailure> {
+        let PendingSeries { group: g, meta } = self;
         let fail = |error: DataError| SeriesFailure {
             name: g.name.clone(),
             first_line: g.first_line,
@@ -601,13 +643,18 @@ impl LongGrouper {
         if let Some(e) = g.failure.clone() {
             return Err(fail(e));
         }
+        let mut start = 0;
         let rows: Vec<Row> = g
             .rows
             .iter()
-            .map(|r| Row {
-                line: r.line,
-                time: &r.time,
-                value: &r.value,
+            .map(|r| {
+                let row = Row {
+                    line: r.line,
+                    time: &g.text[start..r.time_end],
+                    value: &g.text[r.time_end..r.value_end],
+                };
+                start = r.value_end;
+                row
             })
             .collect();
         if rows.is_empty() {
@@ -623,14 +670,6 @@ impl LongGrouper {
                 ),
             )));
         }
-        let meta = Meta {
-            time_name: self.time_name.clone(),
-            value_name: self.value_name.clone(),
-            columns: self.columns.clone(),
-            has_header: self.has_header.unwrap_or(false),
-            delimiter: self.delimiter,
-            value_col: 2,
-        };
         match build_series(&rows, &g.skipped, meta, None) {
             Ok(mut s) => {
                 name_warnings(&g.name, &mut s);

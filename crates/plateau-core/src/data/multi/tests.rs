@@ -159,9 +159,9 @@ fn grouper_fails_one_series_and_goes_on() {
     for (i, r) in rows.iter().enumerate() {
         let fields = split_line(i + 1, r, b',').unwrap();
         let f: Vec<&str> = fields.iter().map(String::as_str).collect();
-        out.extend(g.push(i + 1, &f).unwrap());
+        out.extend(g.push(i + 1, &f).unwrap().map(PendingSeries::build));
     }
-    out.extend(g.finish());
+    out.extend(g.finish().map(PendingSeries::build));
     let summary: Vec<(String, Option<usize>)> = out
         .iter()
         .map(|r| match r {
@@ -354,7 +354,7 @@ proptest! {
             }
             let fields = split_line(i + 1, line, b',').unwrap();
             let f: Vec<&str> = fields.iter().map(String::as_str).collect();
-            match g.push(i + 1, &f) {
+            match g.push(i + 1, &f).map(|p| p.map(PendingSeries::build)) {
                 Ok(Some(Ok(s))) => streamed.push(s),
                 Ok(Some(Err(e))) => { first_error.get_or_insert(e.error); }
                 Ok(None) => {}
@@ -362,7 +362,7 @@ proptest! {
             }
         }
         if first_error.is_none() {
-            match g.finish() {
+            match g.finish().map(PendingSeries::build) {
                 Some(Ok(s)) => streamed.push(s),
                 Some(Err(e)) => first_error = Some(e.error),
                 None => {}

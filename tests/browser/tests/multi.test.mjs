@@ -110,12 +110,18 @@ test("several series: a bad cell names line and series, a missing one is a warni
   assert.match(status, /series "Eastwold"/);
 
   const gap = [...wide];
-  gap[9] = gap[9].replace(/,(\d+),/, ",,");
+  // Line 10's Corrie Haven cell (the third field) left empty.
+  const cells = gap[9].split(",");
+  cells[2] = "";
+  gap[9] = cells.join(",");
   await pasteData(page, gap.join("\n"));
   const rows = await summaryRows(page);
   const corrie = rows.find((r) => r.series === "Corrie Haven");
+  assert.match(corrie.text, /^Corrie Haven59/, "59 of 60 points fitted");
   assert.match(corrie.text, /missing_values_skipped/);
   const title = await page.getAttribute('#summary tr[data-series="Corrie Haven"] td:last-child', "title");
   assert.match(title, /series "Corrie Haven".*line 10/);
+  const others = rows.filter((r) => r.series !== "Corrie Haven");
+  for (const r of others) assert.doesNotMatch(r.text, /missing_values_skipped/, r.series);
   await context.close();
 });

@@ -97,6 +97,12 @@ test("with more than two columns the user picks the value column", async () => {
   const demo = readDemo("aldermoor_subscribers.csv").trim().split("\n");
   const three = demo.map((l, i) => (i === 0 ? `${l},doubled` : `${l},${2 * Number(l.split(",")[1])}`)).join("\n");
   await pasteData(page, three);
+  // Read as two series by default; "one series" offers the column choice.
+  assert.equal(await page.isVisible("#multi"), true);
+  let updates = await page.evaluate(() => Number(document.body.dataset.updates));
+  await page.selectOption("#layout", "single");
+  await waitReady(page, updates + 1);
+  assert.equal(await page.isVisible("#multi"), false);
   assert.equal(await page.isVisible("#columns"), true);
   const k1 = await paramValue(page, "K");
   const before = await page.evaluate(() => Number(document.body.dataset.updates));

@@ -102,7 +102,7 @@ pub fn draw_overlay<DB: DrawingBackend>(
     // Far tails of a badly identified fit would squash the rest: the view
     // is cut at |x| ≤ 10 (e^−10: the curve is flat there) and y in [−0.25, 1.5].
     let (x_lo, x_hi) = common::extent(points.iter().flatten().map(|p| p.0)).unwrap_or((-5.0, 5.0));
-    let x = common::padded((x_lo.max(-10.0).min(-3.0), x_hi.min(10.0).max(3.0)), 0.03);
+    let x = common::padded((x_lo.clamp(-10.0, -3.0), x_hi.clamp(3.0, 10.0)), 0.03);
     let (y_lo, y_hi) = common::extent(points.iter().flatten().map(|p| p.1)).unwrap_or((0.0, 1.0));
     let y = common::padded((y_lo.clamp(-0.25, 0.0), y_hi.clamp(1.0, 1.5)), 0.04);
 

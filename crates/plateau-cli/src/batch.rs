@@ -12,7 +12,9 @@
 //! Order: results are printed **in input order**. Series are collected in
 //! chunks of [`CHUNK`]; a chunk is fitted in parallel (rayon) while the
 //! next one is read, then printed. Memory is bounded by two chunks
-//! whatever the length of the file.
+//! whatever the number of rows; the only thing kept for the whole run is
+//! the set of series names already seen (to recognise a series that
+//! reappears), a few dozen bytes per series.
 //!
 //! A series that cannot be read or fitted gets a result line with its
 //! error; the rest go on. Only problems that make the rest of the file

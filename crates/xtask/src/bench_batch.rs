@@ -35,7 +35,14 @@ pub fn run(args: &[String]) -> Result<()> {
     let cargo = std::env::var("CARGO").unwrap_or_else(|_| "cargo".to_string());
     let status = Command::new(cargo)
         .current_dir(&root)
-        .args(["build", "--release", "-p", "plateau-cli", "--bin", "plateau"])
+        .args([
+            "build",
+            "--release",
+            "-p",
+            "plateau-cli",
+            "--bin",
+            "plateau",
+        ])
         .status()
         .context("building the release plateau")?;
     if !status.success() {

@@ -333,7 +333,11 @@ fn multi_csv(spec: &MultiSpec) -> Result<(String, String)> {
             let t = f64::from(year) + f64::from(month - 1) / 12.0;
             let y = fixed(logistic(reg.k, reg.r, reg.t0, t) + e.sample(&mut rng), 0);
             if y.starts_with('-') {
-                bail!("{}: negative value for {}; change the design", spec.long_file, reg.name);
+                bail!(
+                    "{}: negative value for {}; change the design",
+                    spec.long_file,
+                    reg.name
+                );
             }
             long.push_str(&format!("{},{year:04}-{month:02},{y}\n", reg.name));
             column.push(y);

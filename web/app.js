@@ -19,7 +19,8 @@ const bench = new Workbench();
 
 const DEFAULTS = {
   model: "logistic", fixedK: null, horizon: 12, perPeriod: false,
-  timeColumn: null, valueColumn: null, share: 95, level: null,
+  timeColumn: null, valueColumn: null, share: 95, level: null, fisherPryK: null,
+  bootstrap: false, resampling: "residual", replicates: 1000, seed: 20240601,
   layout: null, series: null,
 };
 
@@ -67,9 +68,14 @@ function readControls() {
   s.horizon = numberOrNull($("horizon")) ?? 0;
   s.share = numberOrNull($("share")) ?? 95;
   s.level = numberOrNull($("level"));
+  s.fisherPryK = numberOrNull($("fisher-pry-k"));
   s.perPeriod = $("accum-per-period").checked;
   s.layout = $("layout").value || null;
   s.series = $("multi").hidden ? null : Number($("series-select").value);
+  s.bootstrap = $("bootstrap").checked;
+  s.resampling = $("resampling").value;
+  s.replicates = Math.max(1, Math.round(numberOrNull($("replicates")) ?? 1000));
+  s.seed = Math.max(0, Math.round(numberOrNull($("seed")) ?? 20240601));
   if (!$("columns").hidden) {
     s.timeColumn = Number($("time-col").value);
     s.valueColumn = Number($("value-col").value);
@@ -84,9 +90,14 @@ function writeControls() {
   $("horizon").value = s.horizon;
   $("share").value = s.share;
   $("level").value = s.level ?? "";
+  $("fisher-pry-k").value = s.fisherPryK ?? "";
   $("accum-per-period").checked = !!s.perPeriod;
   $("accum-cumulative").checked = !s.perPeriod;
   $("layout").value = s.layout ?? "";
+  $("bootstrap").checked = !!s.bootstrap;
+  $("resampling").value = s.resampling;
+  $("replicates").value = s.replicates;
+  $("seed").value = s.seed;
 }
 
 const fmt = (x) => {
@@ -132,6 +143,7 @@ function showView(v) {
     tr.lastChild.dataset.value = String(p.estimate);
     cell(tr, p.fixed ? "fixed" : fmt(p.stdError));
     cell(tr, p.ci95 ? `${fmt(p.ci95[0])} … ${fmt(p.ci95[1])}` : "–");
+    cell(tr, "–", "boot");
     return tr;
   }));
 
@@ -150,13 +162,7 @@ function showView(v) {
     return tr;
   }));
 
-  fillBody("milestones", v.milestones.map((m) => {
-    const tr = document.createElement("tr");
-    cell(tr, m.label);
-    cell(tr, m.timeText + (m.forecast ? " (forecast)" : ""));
-    cell(tr, m.ci95Text ? `${m.ci95Text[0]} … ${m.ci95Text[1]}` : "–");
-    return tr;
-  }));
+  showMilestones(v.milestones);
   const unit = v.timeUnit ? ` ${v.timeUnit}s` : " time units";
   $("duration").textContent = v.duration1090 == null ? "" :
     `From 10% to 90% of K takes ${fmt(v.duration1090)}${unit}` + (v.model === "logistic" ? " (ln 81 / r)." : ".");
@@ -167,11 +173,11 @@ function showView(v) {
     cell(tr, c.model);
     if (c.error) {
       const td = document.createElement("td");
-      td.colSpan = 4;
+      td.colSpan = 5;
       td.textContent = c.error;
       tr.appendChild(td);
     } else {
-      cell(tr, fmt(c.aicc)); cell(tr, fmt(c.deltaAicc)); cell(tr, fmt(c.weight)); cell(tr, fmt(c.k));
+      cell(tr, fmt(c.aicc)); cell(tr, fmt(c.deltaAicc)); cell(tr, fmt(c.weight)); cell(tr, fmt(c.bic)); cell(tr, fmt(c.k));
     }
     return tr;
   }));
@@ -183,6 +189,8 @@ function showView(v) {
       : `RMS mismatch ${fmt(v.symmetry.rmsRatio)} × the noise level. ${v.symmetry.meaning}`;
 
   showMulti(v);
+  showChecks(v);
+
   const cols = v.columns;
   $("columns").hidden = cols.length <= 2 || !!v.multi;
   for (const [id, chosen] of [["time-col", v.timeColumn], ["value-col", v.valueColumn]]) {
@@ -229,6 +237,134 @@ function showMulti(v) {
   }));
 }
 
+function verdictItem(tag, verdict) {
+  const el = document.createElement(tag);
+  el.textContent = verdict.text;
+  el.dataset.code = verdict.code;
+  el.className = verdict.flagged ? "flagged" : "";
+  return el;
+}
+
+function showVerdict(id, verdict) {
+  const el = $(id);
+  el.textContent = verdict ? verdict.text : "";
+  el.dataset.code = verdict ? verdict.code : "";
+  el.className = "verdict" + (verdict && verdict.flagged ? " flagged" : "");
+}
+
+// The checks panel, the symmetry test beside the mirror chart and the
+// recommendation beside the comparison table; every sentence comes from Rust.
+function showChecks(v) {
+  const d = v.diagnostics;
+  const all = [...d.verdicts];
+  if (v.symmetryTest) all.push(v.symmetryTest.verdict);
+  if (v.fisherPry) all.push(v.fisherPry.verdict);
+  $("verdicts").replaceChildren(...all.map((x) => verdictItem("li", x)));
+  const rows = [
+    ["residuals", d.n],
+    ["runs (expected)", d.runs == null ? "–" : `${d.runs} (${fmt(d.runsExpected)})`],
+    ["runs test p", fmt(d.runsP)],
+    ["Durbin–Watson", fmt(d.durbinWatson)],
+    ["lag-1 autocorrelation", fmt(d.lag1Autocorrelation)],
+    ["Q-Q correlation", fmt(d.qqCorrelation)],
+    ["Jarque–Bera p", fmt(d.jarqueBeraP)],
+  ];
+  fillBody("diag-stats", rows.map(([k, x]) => {
+    const tr = document.createElement("tr");
+    tr.dataset.stat = k;
+    cell(tr, k);
+    cell(tr, String(x));
+    return tr;
+  }));
+  showVerdict("symmetry-test", v.symmetryTest && v.symmetryTest.verdict);
+  showVerdict("fisher-pry-verdict", v.fisherPry && v.fisherPry.verdict);
+  const rec = v.recommendation;
+  $("recommended-model").textContent = rec.model ?? "none";
+  $("recommendation-reasons").replaceChildren(...rec.reasons.map((r) => {
+    const li = document.createElement("li");
+    li.textContent = r;
+    return li;
+  }));
+  $("lr-tests").textContent = v.lrTests.map((t) => t.note ? `${t.nested} within ${t.general}: ${t.note}` : "").join(" ");
+}
+
+function showMilestones(rows) {
+  fillBody("milestones", rows.map((m) => {
+    const tr = document.createElement("tr");
+    tr.dataset.verdict = m.verdict;
+    cell(tr, m.label);
+    cell(tr, m.timeText + (m.forecast ? " (forecast)" : ""), "when");
+    if (m.note) tr.lastChild.title = m.note;
+    cell(tr, m.ci95Text ? `${m.ci95Text[0]} … ${m.ci95Text[1]}` : "–", "delta");
+    cell(tr, m.bootstrapText ? `${m.bootstrapText[0]} … ${m.bootstrapText[1]}` : "–", "boot");
+    if (m.note && !["observed", "forecast"].includes(m.verdict)) {
+      const small = document.createElement("div");
+      small.className = "hint";
+      small.textContent = m.note;
+      tr.cells[1].appendChild(small);
+    }
+    return tr;
+  }));
+}
+
+// The bootstrap runs in slices of about 12 ms of work, each in its own
+// task, so the page stays responsive; a new update cancels a running one.
+let bootRun = 0;
+function startBootstrap() {
+  const run = ++bootRun;
+  const progress = $("boot-progress");
+  const status = $("boot-status");
+  if (!state.settings.bootstrap) {
+    progress.hidden = true;
+    status.textContent = "";
+    delete document.body.dataset.bootstrap;
+    return;
+  }
+  try {
+    bench.bootstrapStart();
+  } catch (e) {
+    status.textContent = e.message;
+    document.body.dataset.bootstrap = "error";
+    return;
+  }
+  const total = state.settings.replicates;
+  progress.max = total;
+  progress.value = 0;
+  progress.hidden = false;
+  status.textContent = `0 of ${total} refits`;
+  document.body.dataset.bootstrap = "running";
+  const started = performance.now();
+  let busy = 0;
+  const slice = () => {
+    if (run !== bootRun) return;
+    const t = performance.now();
+    let done;
+    do { done = bench.bootstrapStep(10); } while (done < total && performance.now() - t < 12);
+    busy += performance.now() - t;
+    progress.value = done;
+    status.textContent = `${done} of ${total} refits`;
+    if (done < total) { setTimeout(slice, 0); return; }
+    const bv = bench.bootstrapView();
+    showBootstrap(bv);
+    // Wall time from start to finish, and the time spent computing.
+    window.plateauBootstrapMs = performance.now() - started;
+    window.plateauBootstrapComputeMs = busy;
+    document.body.dataset.bootstrap = "done";
+  };
+  setTimeout(slice, 0);
+}
+
+function showBootstrap(bv) {
+  const rows = $("params").tBodies[0].rows;
+  bv.params.forEach((p, i) => {
+    const td = rows[i] && rows[i].querySelector("td.boot");
+    if (td) td.textContent = p ? `${fmt(p[0])} … ${fmt(p[1])}` : "–";
+  });
+  showMilestones(bv.milestones);
+  $("boot-status").textContent = `B = ${bv.replicates} (${bv.resampling}), seed ${bv.seed}; ` +
+    `${bv.failed} refit${bv.failed === 1 ? "" : "s"} failed and left out; percentile intervals.`;
+}
+
 function drawCharts() {
   for (const canvas of document.querySelectorAll("canvas.chart")) {
     if (canvas.closest("[hidden]")) continue;
@@ -261,6 +397,7 @@ function update() {
   }
   showView(view);
   drawCharts();
+  startBootstrap();
   if (view.multi) {
     const chosen = view.multi.summary[view.multi.selected];
     setStatus(`${view.multi.summary.length} series read (${view.layout} layout); details below for ${chosen.series}: ${view.stats.n} points.`, false);
@@ -310,7 +447,7 @@ function loadText(text) {
 
 function wire() {
   $("data").addEventListener("input", () => changed({ text: true }));
-  for (const id of ["model", "fixed-k", "horizon", "share", "level", "time-col", "value-col", "accum-cumulative", "accum-per-period", "layout", "series-select"]) {
+  for (const id of ["model", "fixed-k", "fisher-pry-k", "horizon", "share", "level", "bootstrap", "resampling", "replicates", "seed", "time-col", "value-col", "accum-cumulative", "accum-per-period", "layout", "series-select"]) {
     $(id).addEventListener("change", () => changed({ immediate: true }));
   }
   $("file").addEventListener("change", async (ev) => {
@@ -364,6 +501,8 @@ function wire() {
     download("plateau-table.csv", new Blob([bench.tableCsv()], { type: "text/csv" })));
   $("export-json").addEventListener("click", () =>
     download("plateau-report.json", new Blob([bench.reportJson()], { type: "application/json" })));
+  $("export-checks").addEventListener("click", () =>
+    download("plateau-checks.json", new Blob([bench.diagnoseJson()], { type: "application/json" })));
   let resizeTimer = 0;
   window.addEventListener("resize", () => {
     clearTimeout(resizeTimer);

@@ -1,12 +1,14 @@
 //! The fit chart ([`draw_curve`]): observations, the fitted curve over the
 //! data, its forecast continuation (dashed) to the horizon, the shaded 95%
-//! confidence band of the mean curve, the saturation level K and the
+//! confidence band of the mean curve inside the lighter 95% prediction band
+//! for a new observation, the saturation level K and the
 //! midpoint or inflection point, with a legend.
 
 use crate::common::{self, format_value, Scale};
 use crate::palette::{BAND_ALPHA, GRAPHITE, INK, ORANGE, ROSE, SKY};
 use crate::{ChartError, ChartInput};
 use plateau_core::analysis::{sample_curve, CurveSample};
+use plateau_core::forecast::prediction_band;
 use plateau_core::Model;
 use plotters::coord::Shift;
 use plotters::prelude::*;
@@ -19,6 +21,9 @@ const SAMPLES: usize = 240;
 /// as a fraction of their span: a band that explodes in a long forecast is
 /// cut at the frame instead of squashing the data into a thin line.
 const BAND_OVERSHOOT: f64 = 0.3;
+
+/// Opacity of the prediction band (the confidence band uses `BAND_ALPHA`).
+const PREDICTION_ALPHA: f64 = 0.18;
 
 /// Draws the fit chart on `area`.
 pub fn draw_curve<DB: DrawingBackend>(
@@ -60,12 +65,22 @@ pub fn draw_curve<DB: DrawingBackend>(
     if let Some(k) = k_visible {
         y.1 = y.1.max(k);
     }
+    // The prediction band, at the same times as the confidence band.
+    let predicted: Vec<(f64, f64, f64)> = fitted
+        .iter()
+        .chain(&forecast)
+        .filter_map(|s| {
+            let (lo, hi) = prediction_band(fit, s.t, 0.95)?;
+            (lo.is_finite() && hi.is_finite()).then_some((s.t, lo, hi))
+        })
+        .collect();
     let band = common::extent(
         fitted
             .iter()
             .chain(&forecast)
             .flat_map(|s| [s.lo, s.hi])
-            .flatten(),
+            .flatten()
+            .chain(predicted.iter().flat_map(|p| [p.1, p.2])),
     );
     if let Some((lo, hi)) = band {
         let span = y.1 - y.0;
@@ -78,6 +93,25 @@ pub fn draw_curve<DB: DrawingBackend>(
     let title = format!("{} fit", model.name());
     let mut chart = common::frame(area, input, &title, input.value_caption, x, y, scale)?;
     let clamp = |v: f64| v.clamp(y.0, y.1);
+
+    // Prediction band: lighter, behind the confidence band.
+    if predicted.len() >= 2 {
+        let mut poly: Vec<(f64, f64)> = predicted.iter().map(|p| (p.0, clamp(p.2))).collect();
+        poly.extend(predicted.iter().rev().map(|p| (p.0, clamp(p.1))));
+        let light = SKY.mix(PREDICTION_ALPHA);
+        chart
+            .draw_series(std::iter::once(Polygon::new(poly, light.filled())))?
+            .label("95% prediction band (new observation)")
+            .legend(move |(x, y)| {
+                Rectangle::new(
+                    [
+                        (x, y - scale.pxi(5.0)),
+                        (x + scale.pxi(20.0), y + scale.pxi(5.0)),
+                    ],
+                    light.filled(),
+                )
+            });
+    }
 
     // Band: one polygon, upper edge forward and lower edge back.
     let edge: Vec<&CurveSample> = fitted

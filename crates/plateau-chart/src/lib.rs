@@ -3,10 +3,11 @@
 //!
 //! Main items: [`ChartInput`] (plain data: the observations, the
 //! [`Fit`], a forecast horizon, an axis label formatter and captions),
-//! [`ChartKind`], the five drawing functions [`draw_curve`],
-//! [`draw_residuals`], [`draw_symmetry`], [`draw_linear`] and [`draw_rate`]
-//! (plus the dispatcher [`draw`]), the straight-line transform
-//! [`linearise`], [`render_svg`], and [`ChartError`]; for several series,
+//! [`ChartKind`], the drawing functions [`draw_curve`],
+//! [`draw_residuals`], [`draw_symmetry`], [`draw_linear`], [`draw_rate`],
+//! [`draw_qq`] and [`draw_fisher_pry`] (plus the dispatcher [`draw`]), the straight-line transform
+//! [`linearise`], [`render_svg`], and [`ChartError`]. The drift chart
+//! ([`draw_drift`], [`render_drift_svg`]) has its own input, [`DriftInput`]. For several series,
 //! [`draw_overlay`] (all series normalised on one chart, with [`normalise`]).
 //!
 //! No fonts are loaded: text goes through plotters' built-in font handling
@@ -20,9 +21,12 @@
 
 mod common;
 mod curve;
+mod drift;
+mod fisher_pry;
 mod linear;
 mod overlay;
 pub mod palette;
+mod qq;
 mod rate;
 mod residuals;
 mod symmetry;
@@ -35,8 +39,11 @@ use std::fmt;
 
 pub use common::{format_value, plain_time};
 pub use curve::draw_curve;
+pub use drift::{draw_drift, render_drift_svg, DriftInput};
+pub use fisher_pry::draw_fisher_pry;
 pub use linear::{draw_linear, linearise};
 pub use overlay::{draw_overlay, normalise, render_overlay_svg, OverlaySeries};
+pub use qq::draw_qq;
 pub use rate::draw_rate;
 pub use residuals::draw_residuals;
 pub use symmetry::{draw_symmetry, NOT_AVAILABLE_EXPONENTIAL};
@@ -75,15 +82,22 @@ pub enum ChartKind {
     /// Observed change per unit of time against the fitted derivative,
     /// with the peak rate at t0.
     Rate,
+    /// Sorted residuals against normal quantiles.
+    Qq,
+    /// `ln(y / (K − y))` against time for a chosen K (the fitted K through
+    /// [`draw`]; [`draw_fisher_pry`] takes any K).
+    FisherPry,
 }
 
 impl ChartKind {
-    pub const ALL: [ChartKind; 5] = [
+    pub const ALL: [ChartKind; 7] = [
         ChartKind::Curve,
         ChartKind::Residuals,
         ChartKind::Symmetry,
         ChartKind::Linear,
         ChartKind::Rate,
+        ChartKind::Qq,
+        ChartKind::FisherPry,
     ];
 
     pub fn name(self) -> &'static str {
@@ -93,6 +107,8 @@ impl ChartKind {
             ChartKind::Symmetry => "symmetry",
             ChartKind::Linear => "linear",
             ChartKind::Rate => "rate",
+            ChartKind::Qq => "qq",
+            ChartKind::FisherPry => "fisher-pry",
         }
     }
 }
@@ -150,7 +166,25 @@ pub fn draw<DB: DrawingBackend>(
         ChartKind::Symmetry => draw_symmetry(area, input),
         ChartKind::Linear => draw_linear(area, input),
         ChartKind::Rate => draw_rate(area, input),
+        ChartKind::Qq => draw_qq(area, input),
+        ChartKind::FisherPry => draw_fisher_pry(area, input, None),
     }
+}
+
+/// Renders the Fisher–Pry chart for `k` as a standalone SVG document.
+pub fn render_fisher_pry_svg(
+    input: &ChartInput,
+    k: Option<f64>,
+    width: u32,
+    height: u32,
+) -> Result<String, ChartError> {
+    let mut svg = String::new();
+    {
+        let root = SVGBackend::with_string(&mut svg, (width, height)).into_drawing_area();
+        draw_fisher_pry(&root, input, k)?;
+        root.present()?;
+    }
+    Ok(svg)
 }
 
 /// Renders the chart `which` as a standalone SVG document of

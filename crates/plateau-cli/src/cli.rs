@@ -19,8 +19,19 @@ pub struct Cli {
 pub enum Command {
     /// Fit one model and print its parameters, intervals and statistics.
     Fit(FitArgs),
-    /// Fit every model and rank them by AICc, with ΔAICc and Akaike weights.
+    /// Fit every model and rank them by AICc, with ΔAICc, Akaike weights, BIC,
+    /// likelihood-ratio tests of nested models and a recommendation.
     Compare(CompareArgs),
+    /// Check a fit: residual runs, autocorrelation and normality, the
+    /// logistic's symmetry against Richards and Gompertz, and the Fisher–Pry
+    /// straight-line test, each with a one-line verdict.
+    Diagnose(DiagnoseArgs),
+    /// Forecast to a time with confidence and prediction bands, and milestones with intervals.
+    Forecast(ForecastArgs),
+    /// Refit on every prefix of the data: how K, r and t0 moved as data arrived.
+    Drift(DriftArgs),
+    /// Rolling-origin backtest: forecast errors (MAE, MAPE) by horizon for every model.
+    Backtest(BacktestArgs),
     /// Fit every series of a long-format file (rows of series, time, value) in
     /// parallel, one result line per series, in input order.
     Batch(BatchArgs),
@@ -63,6 +74,12 @@ pub struct FitArgs {
     /// Start a parameter from this value instead of the self-start (repeatable).
     #[arg(long, value_name = "NAME=VALUE")]
     pub start: Vec<String>,
+    #[command(flatten)]
+    pub errors: ErrorArgs,
+    /// 95% intervals: profile (profile likelihood, the default) or asymptotic
+    /// (estimate ± t·se, no refits).
+    #[arg(long, value_name = "METHOD", default_value = "profile")]
+    pub intervals: String,
     /// Print the JSON report instead of a table.
     #[arg(long)]
     pub json: bool,
@@ -77,6 +94,123 @@ pub struct CompareArgs {
     #[command(flatten)]
     pub input: InputArgs,
     /// Models to compare, comma-separated (default: all).
+    #[arg(long, value_name = "LIST")]
+    pub models: Option<String>,
+    /// Hold a parameter at a known value in every model that has it (repeatable).
+    #[arg(long, value_name = "NAME=VALUE")]
+    pub fix: Vec<String>,
+    #[command(flatten)]
+    pub errors: ErrorArgs,
+    /// Print the JSON report instead of a table.
+    #[arg(long)]
+    pub json: bool,
+}
+
+/// How the observations scatter about the curve, and what is fitted.
+#[derive(Args, Debug)]
+pub struct ErrorArgs {
+    /// Error model: additive (same scatter at every level), relative (scatter
+    /// proportional to the curve; weights 1/fitted², reweighted), log (fit
+    /// ln y − ln f; values must be positive) or count (variance proportional
+    /// to the curve; weights 1/fitted, reweighted).
+    #[arg(long, value_name = "MODEL", default_value = "additive")]
+    pub errors: String,
+    /// Fit the per-period increments of the curve to the differences of the
+    /// running totals instead of the totals themselves: totals carry every
+    /// earlier error forward, which makes intervals too narrow.
+    #[arg(long)]
+    pub increments: bool,
+}
+
+#[derive(Args, Debug)]
+pub struct DiagnoseArgs {
+    #[command(flatten)]
+    pub input: InputArgs,
+    /// Model whose residuals are checked: logistic, logistic4, gompertz, richards, exponential.
+    #[arg(long, short, default_value = "logistic")]
+    pub model: String,
+    /// Hold a parameter at a known value, e.g. --fix K=2500000 (repeatable).
+    #[arg(long, value_name = "NAME=VALUE")]
+    pub fix: Vec<String>,
+    /// Saturation level for the Fisher–Pry check (default: the fitted K).
+    #[arg(long, value_name = "K")]
+    pub fisher_pry_k: Option<f64>,
+    /// Print the JSON report instead of a table.
+    #[arg(long)]
+    pub json: bool,
+    /// Also write the normal Q-Q chart of the residuals as SVG to FILE.
+    #[arg(long, value_name = "FILE")]
+    pub qq_svg: Option<String>,
+    /// Also write the Fisher–Pry chart as SVG to FILE.
+    #[arg(long, value_name = "FILE")]
+    pub fisher_pry_svg: Option<String>,
+}
+
+#[derive(Args, Debug)]
+pub struct ForecastArgs {
+    #[command(flatten)]
+    pub input: InputArgs,
+    /// Forecast up to this time, written like the data's times (2030-06-30, 2031Q2, 2030-06, 48).
+    #[arg(long, value_name = "TIME")]
+    pub until: String,
+    /// Model to fit: logistic, logistic4, gompertz, richards, exponential.
+    #[arg(long, short, default_value = "logistic")]
+    pub model: String,
+    /// Hold a parameter at a known value, e.g. --fix K=2500000 (repeatable).
+    #[arg(long, value_name = "NAME=VALUE")]
+    pub fix: Vec<String>,
+    /// Also give bootstrap intervals, from B replicates (default 1000).
+    #[arg(long, value_name = "B", num_args = 0..=1, default_missing_value = "1000")]
+    pub bootstrap: Option<usize>,
+    /// How bootstrap copies are made: residual (resample residuals) or parametric (normal noise).
+    #[arg(long, value_name = "KIND", default_value = "residual")]
+    pub resampling: String,
+    /// Seed of the bootstrap's random numbers (the same seed gives the same intervals).
+    #[arg(long, value_name = "N")]
+    pub seed: Option<u64>,
+    /// A further milestone: the time the curve reaches this share of K, in percent (repeatable).
+    #[arg(long, value_name = "PERCENT")]
+    pub share: Vec<f64>,
+    /// A milestone level: when the curve passes this value, e.g. 1000000 (repeatable).
+    #[arg(long, value_name = "Y")]
+    pub level: Vec<f64>,
+    /// Grid spacing of the forecast rows in axis units (default: the data's typical spacing).
+    #[arg(long, value_name = "STEP")]
+    pub step: Option<f64>,
+    /// Print the JSON report instead of a table.
+    #[arg(long)]
+    pub json: bool,
+}
+
+#[derive(Args, Debug)]
+pub struct DriftArgs {
+    #[command(flatten)]
+    pub input: InputArgs,
+    /// Model to fit: logistic, logistic4, gompertz, richards, exponential.
+    #[arg(long, short, default_value = "logistic")]
+    pub model: String,
+    /// Hold a parameter at a known value (repeatable).
+    #[arg(long, value_name = "NAME=VALUE")]
+    pub fix: Vec<String>,
+    /// Also write the drift chart (K and its interval against the cutoff) as SVG to FILE.
+    #[arg(long, value_name = "FILE")]
+    pub svg: Option<String>,
+    /// Print the JSON report instead of a table.
+    #[arg(long)]
+    pub json: bool,
+}
+
+#[derive(Args, Debug)]
+pub struct BacktestArgs {
+    #[command(flatten)]
+    pub input: InputArgs,
+    /// Largest horizon, in observations ahead.
+    #[arg(long, value_name = "H", default_value_t = 4)]
+    pub horizon: usize,
+    /// Points in the first training window (default: half the data).
+    #[arg(long, value_name = "M")]
+    pub min_train: Option<usize>,
+    /// Models to test, comma-separated (default: all).
     #[arg(long, value_name = "LIST")]
     pub models: Option<String>,
     /// Hold a parameter at a known value in every model that has it (repeatable).

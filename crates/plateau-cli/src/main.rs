@@ -7,6 +7,7 @@
 //! page (`plateau_core::report`).
 
 mod cli;
+mod outlook;
 mod settings;
 mod table;
 
@@ -14,8 +15,13 @@ use anyhow::{Context, Result};
 use clap::Parser;
 use cli::{Cli, Command};
 use plateau_cli::batch;
+use plateau_core::bootstrap::Bootstrap;
 use plateau_core::compare::compare;
-use plateau_core::report::{CompareReport, FitReport};
+use plateau_core::data::TimeKind;
+use plateau_core::diagnostics;
+use plateau_core::forecast_report::{BacktestReport, DriftReport, ForecastReport};
+use plateau_core::report::{CompareReport, DiagnoseReport, FitReport};
+use plateau_core::{drift, forecast, milestones};
 use plateau_core::{fit, parse_series, Model, Series};
 use std::io::Read;
 use std::process::ExitCode;
@@ -111,10 +117,200 @@ fn run(cli: Cli) -> Result<(), Failure> {
                     reasons.join("\n  ")
                 )));
             }
+            let report =
+                CompareReport::with_data(&entries, &series.warnings, &series.times, &series.values);
             if args.json {
-                print_json(&CompareReport::new(&entries, &series.warnings));
+                print_json(&report);
             } else {
-                print!("{}", table::compare(&name, &series, &entries));
+                print!("{}", table::compare(&name, &series, &entries, &report));
+            }
+            Ok(())
+        }
+        Command::Diagnose(args) => {
+            let settings = settings::diagnose(&args).map_err(Failure::Input)?;
+            let (name, series) = read_series(&args.input, &settings.parse)?;
+            let (t, y) = (&series.times, &series.values);
+            let result = fit(&series, settings.model, &settings.fit)
+                .with_context(|| {
+                    format!("{}: cannot fit the {} model", name, settings.model.name())
+                })
+                .map_err(Failure::Fit)?;
+            let residuals = diagnostics::residual_diagnostics(&result, t, y);
+            let symmetry = diagnostics::symmetry_test(t, y, &settings.fit).ok();
+            let k = settings
+                .fisher_pry_k
+                .or_else(|| result.param("K").map(|p| p.estimate));
+            let fisher_pry = k.and_then(|k| diagnostics::fisher_pry(t, y, k));
+            let kind = series.time_kind;
+            let format_time = |v: f64| kind.format(v);
+            let input = plateau_chart::ChartInput {
+                times: t,
+                values: y,
+                fit: &result,
+                horizon: None,
+                format_time: &format_time,
+                time_caption: &series.time_name,
+                value_caption: &series.value_name,
+            };
+            let write = |path: &str, svg: Result<String, plateau_chart::ChartError>| {
+                svg.map_err(anyhow::Error::from)
+                    .and_then(|svg| {
+                        std::fs::write(path, svg)
+                            .with_context(|| format!("cannot write the chart to {path}"))
+                    })
+                    .map_err(Failure::Input)
+            };
+            if let Some(path) = &args.qq_svg {
+                write(
+                    path,
+                    plateau_chart::render_svg(plateau_chart::ChartKind::Qq, &input, 800, 560),
+                )?;
+            }
+            if let Some(path) = &args.fisher_pry_svg {
+                write(
+                    path,
+                    plateau_chart::render_fisher_pry_svg(&input, settings.fisher_pry_k, 900, 560),
+                )?;
+            }
+            let report =
+                DiagnoseReport::new(&result, &series.warnings, residuals, symmetry, fisher_pry);
+            if args.json {
+                print_json(&report);
+            } else {
+                print!(
+                    "{}",
+                    table::diagnose(&name, &series, &report, settings.fisher_pry_k.is_some())
+                );
+            }
+            Ok(())
+        }
+        Command::Forecast(args) => {
+            let settings = settings::forecast(&args).map_err(Failure::Input)?;
+            let (name, series) = read_series(&args.input, &settings.parse)?;
+            let kind = series.time_kind;
+            let until = kind
+                .parse_time(&args.until)
+                .map_err(|e| Failure::Input(anyhow::anyhow!("--until: {e}")))?;
+            let result = fit(&series, settings.model, &settings.fit)
+                .with_context(|| {
+                    format!("{}: cannot fit the {} model", name, settings.model.name())
+                })
+                .map_err(Failure::Fit)?;
+            let (first, last) = span(&series.times);
+            if until <= last {
+                return Err(Failure::Input(anyhow::anyhow!(
+                    "--until {}: expected a time after the last observation ({})",
+                    args.until,
+                    kind.format(last)
+                )));
+            }
+            let boot = match &settings.bootstrap {
+                None => None,
+                Some(opts) => {
+                    let mut b = Bootstrap::new(&result, &series.times, &series.values, opts)
+                        .map_err(|e| Failure::Fit(anyhow::anyhow!("{name}: no bootstrap: {e}")))?;
+                    b.run();
+                    Some(b)
+                }
+            };
+            let step = settings
+                .step
+                .unwrap_or_else(|| forecast::typical_step(&series.times));
+            let future = forecast::grid(last, until, step, MAX_FORECAST_ROWS);
+            let points = forecast::forecast(
+                &result,
+                &series.times,
+                &series.values,
+                &future,
+                boot.as_ref(),
+            );
+            let targets =
+                milestones::standard_targets(settings.model, &settings.shares, &settings.levels);
+            let assessed: Vec<_> = targets
+                .iter()
+                .map(|&t| milestones::assess(&result, t, first, last, boot.as_ref()))
+                .collect();
+            let text = derived_time_text(kind);
+            let report = ForecastReport::new(
+                &result,
+                until,
+                kind.unit(),
+                &points,
+                &assessed,
+                boot.as_ref(),
+                &text,
+                &series.warnings,
+            );
+            if args.json {
+                print_json(&report);
+            } else {
+                print!("{}", outlook::forecast(&name, &report, boot.as_ref()));
+            }
+            Ok(())
+        }
+        Command::Drift(args) => {
+            let settings = settings::drift(&args).map_err(Failure::Input)?;
+            let (name, series) = read_series(&args.input, &settings.parse)?;
+            let rows = drift::drift(&series.times, &series.values, settings.model, &settings.fit);
+            if rows.iter().all(|r| r.result.is_err()) {
+                return Err(Failure::Fit(anyhow::anyhow!(
+                    "{name}: the {} model could not be fitted to any prefix of the data",
+                    settings.model.name()
+                )));
+            }
+            let kind = series.time_kind;
+            let text = move |t: f64| kind.format(t);
+            let report = DriftReport::new(settings.model, &rows, &text, &series.warnings);
+            if let Some(path) = &args.svg {
+                let svg = plateau_chart::render_drift_svg(
+                    &rows,
+                    &plateau_chart::DriftInput {
+                        format_time: &text,
+                        time_caption: &series.time_name,
+                        value_caption: &series.value_name,
+                        model: settings.model,
+                    },
+                    900,
+                    520,
+                )
+                .map_err(anyhow::Error::from)
+                .and_then(|svg| {
+                    std::fs::write(path, svg)
+                        .with_context(|| format!("cannot write the chart to {path}"))
+                });
+                svg.map_err(Failure::Input)?;
+            }
+            if args.json {
+                print_json(&report);
+            } else {
+                print!("{}", outlook::drift(&name, &rows, &report));
+            }
+            Ok(())
+        }
+        Command::Backtest(args) => {
+            let settings = settings::backtest(&args).map_err(Failure::Input)?;
+            let (name, series) = read_series(&args.input, &settings.parse)?;
+            let bt = drift::BacktestOptions {
+                horizon: args.horizon,
+                min_train: args.min_train,
+            };
+            if series.times.len() < 4 {
+                return Err(Failure::Input(anyhow::anyhow!(
+                    "{name}: a backtest needs more points than {}",
+                    series.times.len()
+                )));
+            }
+            let rows = drift::backtest(
+                &series.times,
+                &series.values,
+                &settings.models,
+                &settings.fit,
+                &bt,
+            );
+            if args.json {
+                print_json(&BacktestReport::new(args.horizon, &rows, &series.warnings));
+            } else {
+                print!("{}", outlook::backtest(&name, args.horizon, &rows));
             }
             Ok(())
         }
@@ -215,4 +411,24 @@ fn print_json<T: serde::Serialize>(value: &T) {
     let s =
         serde_json::to_string_pretty(value).unwrap_or_else(|e| format!("{{\"error\":\"{e}\"}}"));
     println!("{s}");
+}
+
+/// Forecast rows past the data at most (the grid step widens beyond).
+const MAX_FORECAST_ROWS: usize = 500;
+
+/// First and last time.
+fn span(t: &[f64]) -> (f64, f64) {
+    t.iter()
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), v| {
+            (a.min(*v), b.max(*v))
+        })
+}
+
+/// Derived times (forecast rows, milestones) as text: month and quarter
+/// axes are shown to the day, since derived times fall between periods.
+fn derived_time_text(kind: TimeKind) -> impl Fn(f64) -> String {
+    move |t| match kind {
+        TimeKind::Month | TimeKind::Quarter => TimeKind::Date.format(t),
+        _ => kind.format(t),
+    }
 }

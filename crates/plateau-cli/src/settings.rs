@@ -1,11 +1,15 @@
 //! Validated settings: the raw flags of [`crate::cli`] turned into core
 //! options, with a message naming the flag when one is wrong.
 
-use crate::cli::{BatchArgs, CompareArgs, FitArgs, InputArgs};
+use crate::cli::{
+    BacktestArgs, BatchArgs, CompareArgs, DiagnoseArgs, DriftArgs, ErrorArgs, FitArgs,
+    ForecastArgs, InputArgs,
+};
 use anyhow::{anyhow, bail, Result};
 use plateau_cli::batch;
+use plateau_core::bootstrap::{BootstrapOptions, Resampling, DEFAULT_SEED};
 use plateau_core::data::ColumnRef;
-use plateau_core::{FitOptions, Model, ParseOptions};
+use plateau_core::{ErrorModel, FitOptions, IntervalMethod, Model, ParseOptions};
 
 pub struct FitSettings {
     pub parse: ParseOptions,
@@ -26,13 +30,37 @@ pub fn fit(args: &FitArgs) -> Result<FitSettings> {
         fit: FitOptions {
             fixed: assignments("--fix", &args.fix)?,
             start: assignments("--start", &args.start)?,
+            error_model: error_model(&args.errors)?,
+            increments: args.errors.increments,
+            intervals: intervals(&args.intervals)?,
             ..FitOptions::default()
         },
     })
 }
 
+fn error_model(args: &ErrorArgs) -> Result<ErrorModel> {
+    ErrorModel::from_name(&args.errors).ok_or_else(|| {
+        anyhow!(
+            "--errors: expected additive, relative, log or count, found {:?}",
+            args.errors
+        )
+    })
+}
+
+fn intervals(s: &str) -> Result<IntervalMethod> {
+    match s.trim() {
+        "profile" => Ok(IntervalMethod::Profile),
+        "asymptotic" => Ok(IntervalMethod::Asymptotic),
+        other => bail!("--intervals: expected profile or asymptotic, found {other:?}"),
+    }
+}
+
 pub fn compare(args: &CompareArgs) -> Result<CompareSettings> {
-    let models = match &args.models {
+    compare_like(&args.input, args.models.as_deref(), &args.fix)
+}
+
+fn compare_like(input: &InputArgs, list: Option<&str>, fix: &[String]) -> Result<CompareSettings> {
+    let models = match list {
         None => Model::ALL.to_vec(),
         Some(list) => list
             .split(',')
@@ -44,8 +72,87 @@ pub fn compare(args: &CompareArgs) -> Result<CompareSettings> {
         bail!("--models: expected a comma-separated list of model names");
     }
     Ok(CompareSettings {
-        parse: parse_options(&args.input)?,
+        parse: parse_options(input)?,
         models,
+        fit: FitOptions {
+            fixed: assignments("--fix", fix)?,
+            ..FitOptions::default()
+        },
+    })
+}
+
+pub struct ForecastSettings {
+    pub parse: ParseOptions,
+    pub model: Model,
+    pub fit: FitOptions,
+    pub bootstrap: Option<BootstrapOptions>,
+    /// Extra milestone shares, 0–1.
+    pub shares: Vec<f64>,
+    pub levels: Vec<f64>,
+    pub step: Option<f64>,
+}
+
+pub fn forecast(args: &ForecastArgs) -> Result<ForecastSettings> {
+    let resampling = Resampling::from_name(&args.resampling).ok_or_else(|| {
+        anyhow!(
+            "--resampling: expected residual or parametric, found {:?}",
+            args.resampling
+        )
+    })?;
+    let bootstrap = match args.bootstrap {
+        None => {
+            if args.seed.is_some() {
+                bail!("--seed is for the bootstrap: add --bootstrap");
+            }
+            None
+        }
+        Some(0) => bail!("--bootstrap: expected at least 1 replicate"),
+        Some(b) if b > 1_000_000 => bail!("--bootstrap: at most 1000000 replicates"),
+        Some(b) => Some(BootstrapOptions {
+            resampling,
+            replicates: b,
+            seed: args.seed.unwrap_or(DEFAULT_SEED),
+        }),
+    };
+    let shares = args
+        .share
+        .iter()
+        .map(|&s| {
+            if s > 0.0 && s < 100.0 {
+                Ok(s / 100.0)
+            } else {
+                Err(anyhow!(
+                    "--share {s}: expected a percentage strictly between 0 and 100"
+                ))
+            }
+        })
+        .collect::<Result<Vec<_>>>()?;
+    if let Some(l) = args.level.iter().find(|l| !l.is_finite()) {
+        bail!("--level {l}: expected a finite number");
+    }
+    if let Some(s) = args.step {
+        if !(s.is_finite() && s > 0.0) {
+            bail!("--step {s}: expected a positive number");
+        }
+    }
+    Ok(ForecastSettings {
+        parse: parse_options(&args.input)?,
+        model: model(&args.model)?,
+        fit: FitOptions {
+            fixed: assignments("--fix", &args.fix)?,
+            ..FitOptions::default()
+        },
+        bootstrap,
+        shares,
+        levels: args.level.clone(),
+        step: args.step,
+    })
+}
+
+pub fn drift(args: &DriftArgs) -> Result<FitSettings> {
+    Ok(FitSettings {
+        parse: parse_options(&args.input)?,
+        model: model(&args.model)?,
         fit: FitOptions {
             fixed: assignments("--fix", &args.fix)?,
             ..FitOptions::default()
@@ -87,6 +194,40 @@ fn header(s: Option<&str>) -> Result<Option<bool>> {
         Some("no" | "false") => Some(false),
         Some(other) => bail!("--header: expected yes or no, found {other:?}"),
     })
+}
+
+pub struct DiagnoseSettings {
+    pub parse: ParseOptions,
+    pub model: Model,
+    pub fit: FitOptions,
+    pub fisher_pry_k: Option<f64>,
+}
+
+pub fn diagnose(args: &DiagnoseArgs) -> Result<DiagnoseSettings> {
+    if let Some(k) = args.fisher_pry_k {
+        if !(k.is_finite() && k > 0.0) {
+            bail!("--fisher-pry-k: expected a positive number, found {k}");
+        }
+    }
+    Ok(DiagnoseSettings {
+        parse: parse_options(&args.input)?,
+        model: model(&args.model)?,
+        fit: FitOptions {
+            fixed: assignments("--fix", &args.fix)?,
+            ..FitOptions::default()
+        },
+        fisher_pry_k: args.fisher_pry_k,
+    })
+}
+
+pub fn backtest(args: &BacktestArgs) -> Result<CompareSettings> {
+    if args.horizon == 0 || args.horizon > 1000 {
+        bail!("--horizon: expected a number of steps from 1 to 1000");
+    }
+    if args.min_train == Some(0) {
+        bail!("--min-train: expected a positive number of points");
+    }
+    compare_like(&args.input, args.models.as_deref(), &args.fix)
 }
 
 fn model(name: &str) -> Result<Model> {

@@ -3,7 +3,8 @@
 
 use plateau_core::compare::Entry;
 use plateau_core::data::TimeKind;
-use plateau_core::report::CAUTION;
+use plateau_core::diagnostics::{fmt_p, Verdict};
+use plateau_core::report::{CompareReport, DiagnoseReport, CAUTION};
 use plateau_core::{Fit, Series};
 use std::fmt::Write;
 
@@ -51,7 +52,9 @@ pub fn fit(name: &str, series: &Series, f: &Fit) -> String {
     let _ = writeln!(
         s,
         "data       {name}: {} points, {} against {}",
-        f.n, series.value_name, series.time_name
+        series.times.len(),
+        series.value_name,
+        series.time_name
     );
     let _ = writeln!(
         s,
@@ -64,27 +67,70 @@ pub fn fit(name: &str, series: &Series, f: &Fit) -> String {
         f.iterations,
         f.termination.describe()
     );
+    let _ = writeln!(s, "errors     {}", f.error_model.describe());
+    if f.increments {
+        let _ = writeln!(
+            s,
+            "fitted     per-period increments: {} differences of the running totals",
+            f.n
+        );
+    }
     let _ = writeln!(s);
     let _ = writeln!(
         s,
-        "{:<10} {:>14} {:>14} {:>32}",
+        "{:<10} {:>14} {:>14} {:>32}  method",
         "parameter", "estimate", "std error", "95% interval"
     );
+    let mut open_notes = Vec::new();
     for p in &f.params {
-        let interval = match (p.fixed, p.ci95) {
+        let interval = match (p.fixed, p.interval) {
             (true, _) => "fixed".to_string(),
-            (false, Some((lo, hi))) => format!("[{}, {}]", num(lo), num(hi)),
+            (false, Some(iv)) => match (iv.lo, iv.hi) {
+                (Some(lo), Some(hi)) => format!("[{}, {}]", num(lo), num(hi)),
+                (Some(lo), None) => {
+                    open_notes.push(format!("{} ≥ {} (95%)", p.name, num(lo)));
+                    format!("≥ {}", num(lo))
+                }
+                (None, Some(hi)) => {
+                    open_notes.push(format!("{} ≤ {} (95%)", p.name, num(hi)));
+                    format!("≤ {}", num(hi))
+                }
+                (None, None) => {
+                    open_notes.push(format!("{}: no bound on either side (95%)", p.name));
+                    "unbounded".to_string()
+                }
+            },
             (false, None) => "not available".to_string(),
+        };
+        let method = p.interval.map_or("", |iv| iv.method.as_str());
+        // A parameter the data do not determine gets no standard error in
+        // the table either: it would read as an interval.
+        let se = if p.identified {
+            opt(p.std_error)
+        } else {
+            "-".to_string()
         };
         let _ = writeln!(
             s,
-            "{:<10} {:>14} {:>14} {:>32}{}",
+            "{:<10} {:>14} {:>14} {:>32}  {}{}",
             p.name,
             num(p.estimate),
-            opt(p.std_error),
+            se,
             interval,
+            method,
             time_note(series.time_kind, p.name, p.estimate)
         );
+    }
+    if f.params.iter().any(|p| !p.identified) {
+        let _ = writeln!(s);
+        let _ = writeln!(
+            s,
+            "K IS NOT DETERMINED BY THESE DATA: the estimate above is one point of a long, flat \
+             valley; only the bound shown is supported."
+        );
+    }
+    for note in &open_notes {
+        let _ = writeln!(s, "  {note}: the data set no bound on the other side");
     }
     let _ = writeln!(s);
     let _ = writeln!(
@@ -104,6 +150,15 @@ pub fn fit(name: &str, series: &Series, f: &Fit) -> String {
         num(f.bic),
         num(f.condition_number)
     );
+    if !f.increments && looks_cumulative(&series.values) {
+        let _ = writeln!(s);
+        let _ = writeln!(
+            s,
+            "note: running totals carry each period's error into every later value, so the \
+             residuals are autocorrelated and the intervals above are likely too narrow; \
+             --increments fits the per-period changes instead (King et al., Proc. R. Soc. B 2015)."
+        );
+    }
     let warnings: Vec<_> = series.warnings.iter().chain(&f.warnings).collect();
     if !warnings.is_empty() {
         let _ = writeln!(s);
@@ -117,14 +172,19 @@ pub fn fit(name: &str, series: &Series, f: &Fit) -> String {
     s
 }
 
-pub fn compare(name: &str, series: &Series, entries: &[Entry]) -> String {
+/// Values that never fall: probably running totals.
+fn looks_cumulative(values: &[f64]) -> bool {
+    values.len() > 2 && values.windows(2).all(|w| w[1] >= w[0])
+}
+
+pub fn compare(name: &str, series: &Series, entries: &[Entry], report: &CompareReport) -> String {
     let mut s = String::new();
     let _ = writeln!(s, "data       {name}: {} points", series.times.len());
     let _ = writeln!(s);
     let _ = writeln!(
         s,
-        "{:<4} {:<12} {:>3} {:>12} {:>10} {:>8} {:>12} {:>12}",
-        "rank", "model", "p", "AICc", "ΔAICc", "weight", "sigma", "K"
+        "{:<4} {:<12} {:>3} {:>12} {:>10} {:>8} {:>12} {:>10} {:>12} {:>12}",
+        "rank", "model", "p", "AICc", "ΔAICc", "weight", "BIC", "ΔBIC", "sigma", "K"
     );
     let mut rank = 0;
     for e in entries {
@@ -133,15 +193,22 @@ pub fn compare(name: &str, series: &Series, entries: &[Entry]) -> String {
                 rank += 1;
                 let k = f.param("K").map_or("-".into(), |p| num(p.estimate));
                 let flag = if f.warnings.is_empty() { "" } else { "  *" };
+                let delta_bic = report
+                    .models
+                    .iter()
+                    .find(|r| r.model == f.model.name())
+                    .and_then(|r| r.delta_bic);
                 let _ = writeln!(
                     s,
-                    "{:<4} {:<12} {:>3} {:>12} {:>10} {:>8} {:>12} {:>12}{}",
+                    "{:<4} {:<12} {:>3} {:>12} {:>10} {:>8} {:>12} {:>10} {:>12} {:>12}{}",
                     rank,
                     f.model.name(),
                     f.free.len(),
                     num(f.aicc),
                     e.delta_aicc.map_or("-".into(), |d| format!("{d:.2}")),
                     e.akaike_weight.map_or("-".into(), |w| format!("{w:.3}")),
+                    num(f.bic),
+                    delta_bic.map_or("-".into(), |d| format!("{d:.2}")),
                     num(f.sigma),
                     k,
                     flag
@@ -175,11 +242,162 @@ pub fn compare(name: &str, series: &Series, entries: &[Entry]) -> String {
             }
         }
     }
+    if !report.lr_tests.is_empty() {
+        let _ = writeln!(s);
+        let _ = writeln!(s, "likelihood-ratio tests (nested models, chi-squared)");
+        for lr in &report.lr_tests {
+            let _ = writeln!(
+                s,
+                "  {} within {}: LR {:.3}, df {}, p {}",
+                lr.nested.name(),
+                lr.general.name(),
+                lr.statistic,
+                lr.df,
+                fmt_p(lr.p_value)
+            );
+            let _ = writeln!(s, "    {}", lr.note);
+        }
+    }
+    if let Some(rec) = &report.recommendation {
+        let _ = writeln!(s);
+        match rec.model {
+            Some(m) => {
+                let _ = writeln!(s, "recommendation: {}", m.name());
+            }
+            None => {
+                let _ = writeln!(s, "recommendation: none");
+            }
+        }
+        for r in &rec.reasons {
+            let _ = writeln!(s, "  - {r}");
+        }
+    }
     let _ = writeln!(s);
     let _ = writeln!(
         s,
-        "p counts free curve parameters; AICc also counts sigma. Weights are Akaike weights."
+        "p counts free curve parameters; AICc and BIC also count sigma. Weights are Akaike weights."
     );
+    let _ = writeln!(s, "Caution: {CAUTION}");
+    s
+}
+
+fn verdict_line(s: &mut String, v: &Verdict) {
+    let _ = writeln!(s, "  {} {}", if v.flagged { "!!" } else { "ok" }, v.text);
+}
+
+pub fn diagnose(name: &str, series: &Series, r: &DiagnoseReport, k_entered: bool) -> String {
+    let mut s = String::new();
+    let f = &r.fit;
+    let _ = writeln!(s, "model      {}    {}", f.model, f.formula);
+    let _ = writeln!(
+        s,
+        "data       {name}: {} points, {} against {}",
+        f.n, series.value_name, series.time_name
+    );
+    let _ = writeln!(s);
+    let d = &r.residuals;
+    let _ = writeln!(s, "residuals ({} in time order, y - fitted)", d.n);
+    match &d.runs {
+        Some(runs) => {
+            let _ = writeln!(
+                s,
+                "  runs test        {} runs ({} at or above 0, {} below), {} expected, z {:.3}, p {}{}",
+                runs.runs,
+                runs.n_positive,
+                runs.n_negative,
+                num(runs.expected),
+                runs.z,
+                fmt_p(runs.p_value),
+                if runs.continuity_corrected {
+                    " (normal approximation, continuity-corrected)"
+                } else {
+                    " (normal approximation)"
+                }
+            );
+        }
+        None => {
+            let _ = writeln!(
+                s,
+                "  runs test        not available (all residuals of one sign)"
+            );
+        }
+    }
+    let _ = writeln!(s, "  Durbin-Watson    {}", opt(d.durbin_watson));
+    let _ = writeln!(s, "  lag-1 autocorr.  {}", opt(d.lag1_autocorrelation));
+    if let Some(q) = &d.qq {
+        let _ = writeln!(s, "  Q-Q correlation  {:.4}", q.correlation);
+    }
+    if let Some(j) = &d.jarque_bera {
+        let _ = writeln!(
+            s,
+            "  Jarque-Bera      {}, p {} (skewness {:.3}, kurtosis {:.3})",
+            num(j.statistic),
+            fmt_p(j.p_value),
+            j.skewness,
+            j.kurtosis
+        );
+    }
+    if let Some(t) = &r.symmetry_test {
+        let _ = writeln!(s);
+        let _ = writeln!(s, "symmetry (logistic against Richards and Gompertz)");
+        if let Some(nu) = t.nu {
+            let ci = t.nu_ci95.map_or(String::new(), |c| {
+                format!("  95% [{}, {}]", num(c[0]), num(c[1]))
+            });
+            let _ = writeln!(s, "  Richards nu      {}{ci}  (1 is the logistic)", num(nu));
+        }
+        if let (Some(lr), Some(p)) = (t.lr_statistic, t.lr_p_value) {
+            let _ = writeln!(
+                s,
+                "  likelihood ratio {:.3}, p {} (chi-squared, 1 df)",
+                lr,
+                fmt_p(p)
+            );
+        }
+        if let Some(d) = t.delta_aicc_richards {
+            let _ = writeln!(s, "  dAICc Richards   {d:.2}");
+        }
+        if let Some(d) = t.delta_aicc_gompertz {
+            let _ = writeln!(s, "  dAICc Gompertz   {d:.2}  (not nested: AICc only)");
+        }
+    }
+    if let Some(fp) = &r.fisher_pry {
+        let _ = writeln!(s);
+        let _ = writeln!(
+            s,
+            "Fisher-Pry, K = {} ({})",
+            num(fp.k),
+            if k_entered { "entered" } else { "fitted" }
+        );
+        let _ = writeln!(
+            s,
+            "  {} points transformed, {} outside 0 < y < K; slope {}, crosses zero at {}",
+            fp.points.len(),
+            fp.dropped,
+            num(fp.slope),
+            opt(fp.t0)
+        );
+        if let (Some(t), Some(p)) = (fp.curvature_t, fp.curvature_p) {
+            let _ = writeln!(
+                s,
+                "  curvature t {t:.3}, p {} (weighted quadratic term)",
+                fmt_p(p)
+            );
+        }
+    }
+    let _ = writeln!(s);
+    let _ = writeln!(s, "verdicts");
+    for v in &r.verdicts {
+        verdict_line(&mut s, v);
+    }
+    if !f.warnings.is_empty() {
+        let _ = writeln!(s);
+        let _ = writeln!(s, "warnings");
+        for w in &f.warnings {
+            let _ = writeln!(s, "  {}: {}", w.code.as_str(), w.message);
+        }
+    }
+    let _ = writeln!(s);
     let _ = writeln!(s, "Caution: {CAUTION}");
     s
 }

@@ -187,6 +187,20 @@ fn level_time(model: Model, q: &[f64], y: f64) -> Option<f64> {
     t.is_finite().then_some(t)
 }
 
+/// [`time_at_fraction`]'s time for any parameter vector `q` (in
+/// `param_names` order), without an interval: for bootstrap replicates.
+pub fn fraction_time_params(model: Model, q: &[f64], p: f64) -> Option<f64> {
+    fraction_time(model, q, p)
+}
+
+/// [`time_at_level`]'s time for any parameter vector `q`, without an interval.
+pub fn time_at_level_params(model: Model, q: &[f64], y: f64) -> Option<f64> {
+    if !y.is_finite() {
+        return None;
+    }
+    level_time(model, q, y)
+}
+
 /// Evaluates `h` at the estimate and attaches its 95% delta-method interval.
 fn milestone(fit: &Fit, h: impl Fn(&[f64]) -> Option<f64>) -> Option<Milestone> {
     let time = h(&fit.values())?;

@@ -5,9 +5,16 @@
 //! Δ_i = AICc_i − min AICc
 //! w_i = exp(−Δ_i / 2) / Σ_j exp(−Δ_j / 2)
 //! ```
+//!
+//! Also: likelihood-ratio tests of the nested pairs ([`nested_tests`]) and a
+//! recommendation that names its reasons ([`recommend`]).
 
+use crate::diagnostics::{fmt_p, lr_test, residual_diagnostics, Verdict, ALPHA};
 use crate::fit::{fit_xy, Fit, FitError, FitOptions};
 use crate::model::Model;
+use crate::warning::WarningCode;
+use serde::Serialize;
+use statrs::distribution::{ChiSquared, ContinuousCDF};
 
 /// One model's line in a comparison.
 #[derive(Debug, Clone)]
@@ -71,4 +78,215 @@ pub fn compare(t: &[f64], y: &[f64], models: &[Model], opts: &FitOptions) -> Vec
         (None, None) => std::cmp::Ordering::Equal,
     });
     entries
+}
+
+/// Nested pairs `(nested, general)` tested by likelihood ratio: the
+/// logistic is the four-parameter logistic with L = 0 and the Richards
+/// curve with ν = 1.
+pub const NESTED_PAIRS: [(Model, Model); 2] = [
+    (Model::Logistic, Model::Logistic4),
+    (Model::Logistic, Model::Richards),
+];
+
+/// A likelihood-ratio test of a nested pair.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct LrTest {
+    pub nested: Model,
+    pub general: Model,
+    /// `n ln(RSS_nested / RSS_general)`.
+    pub statistic: f64,
+    /// Extra free parameters of the general model.
+    pub df: usize,
+    /// From χ²(df).
+    pub p_value: f64,
+    /// What the restriction is and whether the χ² reference is regular.
+    pub note: &'static str,
+}
+
+fn restriction_note(general: Model) -> &'static str {
+    match general {
+        Model::Logistic4 => {
+            "L = 0; L may take any sign, so 0 is inside its range (not a boundary) and \
+             χ²(1) applies."
+        }
+        Model::Richards => {
+            "ν = 1, inside ν's range (ν > 0), so χ²(1) applies. The Gompertz curve is the \
+             boundary ν → 0 and is compared by AICc only."
+        }
+        _ => "",
+    }
+}
+
+/// Likelihood-ratio tests for the [`NESTED_PAIRS`] that were both fitted
+/// (converged, finite RSS, same n, same fixed parameters so the nesting
+/// holds). See [`crate::diagnostics::lr_test`] for the statistic.
+pub fn nested_tests(entries: &[Entry]) -> Vec<LrTest> {
+    let fitted = |m: Model| {
+        entries
+            .iter()
+            .find(|e| e.model == m)
+            .and_then(|e| e.result.as_ref().ok())
+            .filter(|f| f.converged && f.rss.is_finite())
+    };
+    NESTED_PAIRS
+        .iter()
+        .filter_map(|&(a, b)| {
+            let (fa, fb) = (fitted(a)?, fitted(b)?);
+            let df = fb.free.len().checked_sub(fa.free.len())?;
+            if fa.n != fb.n || df == 0 {
+                return None;
+            }
+            let (statistic, _) = lr_test(fa.n, fa.rss, fb.rss)?;
+            let chi2 = ChiSquared::new(df as f64).ok()?;
+            Some(LrTest {
+                nested: a,
+                general: b,
+                statistic,
+                df,
+                p_value: chi2.sf(statistic),
+                note: restriction_note(b),
+            })
+        })
+        .collect()
+}
+
+/// Warnings that make a fit's parameters untrustworthy (not identified by
+/// the data), so that a low AICc alone does not earn a recommendation.
+pub const IDENTIFIABILITY_WARNINGS: [WarningCode; 5] = [
+    WarningCode::NotConverged,
+    WarningCode::SingularJacobian,
+    WarningCode::IllConditioned,
+    WarningCode::ParameterAtBound,
+    WarningCode::SaturationNotIdentified,
+];
+
+/// The model to use and why.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Recommendation {
+    /// `None` when no model was fitted.
+    pub model: Option<Model>,
+    /// One short sentence per reason, most important first.
+    pub reasons: Vec<String>,
+    /// The recommended model's residual verdicts.
+    pub residual_verdicts: Vec<Verdict>,
+}
+
+/// Recommends a model from a comparison of fits to `(t, y)`:
+///
+/// 1. Among fitted models without [`IDENTIFIABILITY_WARNINGS`], take the
+///    lowest AICc (if every model has such a warning, the lowest AICc
+///    overall, said so).
+/// 2. If that model contains the logistic ([`NESTED_PAIRS`]), the logistic
+///    is clean, and the likelihood-ratio test does not reject the logistic
+///    (p ≥ 0.05), prefer the logistic: the extra parameter is not supported.
+/// 3. Name the runner-up and its ΔAICc and Akaike weight, the LR p-values,
+///    and the residual verdicts of the chosen model (a flagged one means no
+///    model here captures the pattern).
+pub fn recommend(entries: &[Entry], t: &[f64], y: &[f64]) -> Recommendation {
+    let bad = |f: &Fit| -> Vec<&'static str> {
+        IDENTIFIABILITY_WARNINGS
+            .iter()
+            .filter(|c| f.has_warning(**c))
+            .map(|c| c.as_str())
+            .collect()
+    };
+    let fitted: Vec<(&Entry, &Fit)> = entries
+        .iter()
+        .filter_map(|e| Some((e, e.result.as_ref().ok()?)))
+        .filter(|(e, _)| e.delta_aicc.is_some())
+        .collect();
+    let mut reasons = Vec::new();
+    let Some(best_overall) = fitted.first() else {
+        return Recommendation {
+            model: None,
+            reasons: vec!["no model could be fitted".into()],
+            residual_verdicts: vec![],
+        };
+    };
+    let clean: Vec<&(&Entry, &Fit)> = fitted.iter().filter(|(_, f)| bad(f).is_empty()).collect();
+    let mut choice = match clean.first() {
+        Some(c) => **c,
+        None => {
+            reasons.push(format!(
+                "every model has identifiability warnings; {} has the lowest AICc but its \
+                 parameters are poorly determined",
+                best_overall.0.model.name()
+            ));
+            *best_overall
+        }
+    };
+    // Better-AICc models passed over for their warnings.
+    for (e, f) in fitted.iter().take_while(|(e, _)| e.model != choice.0.model) {
+        reasons.push(format!(
+            "{} has a lower AICc (ΔAICc {:.2}) but is set aside: {}",
+            e.model.name(),
+            e.delta_aicc.unwrap_or(f64::NAN),
+            bad(f).join(", ")
+        ));
+    }
+    let tests = nested_tests(entries);
+    if let Some(lr) = tests.iter().find(|l| l.general == choice.0.model) {
+        let logistic = fitted
+            .iter()
+            .find(|(e, f)| e.model == lr.nested && bad(f).is_empty());
+        if let (Some(lg), true) = (logistic, lr.p_value >= ALPHA) {
+            reasons.push(format!(
+                "{} has the lower AICc, but the likelihood-ratio test does not reject the \
+                 simpler {} (p {}): the extra parameter is not supported",
+                choice.0.model.name(),
+                lr.nested.name(),
+                fmt_p(lr.p_value)
+            ));
+            choice = *lg;
+        }
+    }
+    let (ce, _) = choice;
+    reasons.insert(
+        0,
+        format!(
+            "{}: ΔAICc {:.2}, Akaike weight {:.2}",
+            ce.model.name(),
+            ce.delta_aicc.unwrap_or(f64::NAN),
+            ce.akaike_weight.unwrap_or(f64::NAN)
+        ),
+    );
+    if let Some((re, _)) = fitted.iter().find(|(e, _)| e.model != ce.model) {
+        reasons.push(format!(
+            "next: {} (ΔAICc {:.2}, weight {:.2})",
+            re.model.name(),
+            re.delta_aicc.unwrap_or(f64::NAN),
+            re.akaike_weight.unwrap_or(f64::NAN)
+        ));
+    }
+    for lr in &tests {
+        reasons.push(format!(
+            "likelihood ratio {} within {}: LR = {:.2}, p {}{}",
+            lr.nested.name(),
+            lr.general.name(),
+            lr.statistic,
+            fmt_p(lr.p_value),
+            if lr.p_value < ALPHA {
+                " (the restriction is rejected)"
+            } else {
+                " (the simpler curve suffices)"
+            }
+        ));
+    }
+    let diag = residual_diagnostics(choice.1, t, y);
+    let flagged: Vec<&Verdict> = diag.verdicts.iter().filter(|v| v.flagged).collect();
+    if flagged.is_empty() {
+        reasons.push(format!(
+            "its residuals show no pattern ({} checks)",
+            diag.verdicts.len()
+        ));
+    } else {
+        for v in flagged {
+            reasons.push(format!("but {}", v.text));
+        }
+    }
+    Recommendation {
+        model: Some(ce.model),
+        reasons,
+        residual_verdicts: diag.verdicts,
+    }
 }

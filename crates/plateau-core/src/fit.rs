@@ -27,6 +27,139 @@ pub struct FitOptions {
     pub weights: Option<Vec<f64>>,
     /// Solver settings; `None` uses [`Solver::default`].
     pub solver: Option<Solver>,
+    /// How the observations scatter about the curve (default additive).
+    pub error_model: ErrorModel,
+    /// Fit the per-period increments `y(t_i) − y(t_{i−1})` of the curve to
+    /// the differences of the (cumulative) data instead of the totals.
+    ///
+    /// A running total carries every earlier error forward, so residuals
+    /// of a fit to cumulative data are strongly autocorrelated and the
+    /// usual intervals come out too narrow (King et al., Proc. R. Soc. B
+    /// 2015). The differences of a cumulative series are (close to)
+    /// independent. `n − 1` differences are fitted; the first observation
+    /// only anchors them. Weights, when given, belong to the later
+    /// observation of each difference.
+    pub increments: bool,
+    /// How the 95% intervals are computed (default profile likelihood).
+    pub intervals: IntervalMethod,
+}
+
+/// The error model: how the observations are assumed to scatter about
+/// the curve. Each one is a Gaussian likelihood, so `sigma` and AICc keep
+/// their meaning, and AICc is the likelihood of the values as given (see
+/// [`stats::criteria_with`]): it can be compared across error models for
+/// the same data, but not between a cumulative and an increments fit
+/// (different data).
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
+pub enum ErrorModel {
+    /// `y = f + e`, `Var e = σ²`: the same scatter at every level.
+    /// `sigma` is in the data's units.
+    #[default]
+    Additive,
+    /// `Var e = σ² f²`: scatter proportional to the level. Fitted by
+    /// iteratively reweighted least squares with weights `1/f̂²`;
+    /// `sigma` is a relative error (0.05 = 5%).
+    Relative,
+    /// `ln y = ln f + e`, `Var e = σ²`: multiplicative log-normal errors;
+    /// residuals are `ln y − ln f` and every value must be positive.
+    /// `sigma` is on the log scale (≈ a relative error when small).
+    Log,
+    /// `Var e = σ² f`: count-like (Poisson-like) scatter. Weights `1/f̂`,
+    /// iteratively reweighted; `sigma²` is the dispersion (1 for Poisson).
+    Count,
+}
+
+impl ErrorModel {
+    pub const ALL: [ErrorModel; 4] = [
+        ErrorModel::Additive,
+        ErrorModel::Relative,
+        ErrorModel::Log,
+        ErrorModel::Count,
+    ];
+
+    /// The name used by the CLI, the page and the JSON report.
+    pub fn name(self) -> &'static str {
+        match self {
+            ErrorModel::Additive => "additive",
+            ErrorModel::Relative => "relative",
+            ErrorModel::Log => "log",
+            ErrorModel::Count => "count",
+        }
+    }
+
+    pub fn from_name(name: &str) -> Option<ErrorModel> {
+        let name = name.trim().to_ascii_lowercase();
+        ErrorModel::ALL.into_iter().find(|e| e.name() == name)
+    }
+
+    /// One sentence for people.
+    pub fn describe(self) -> &'static str {
+        match self {
+            ErrorModel::Additive => "additive errors: the same scatter at every level (sigma in data units)",
+            ErrorModel::Relative => "relative errors: scatter proportional to the curve, weights 1/fitted² (sigma is a fraction)",
+            ErrorModel::Log => "log-scale errors: ln y − ln f fitted, multiplicative scatter (sigma on the log scale)",
+            ErrorModel::Count => "count-like errors: variance proportional to the curve, weights 1/fitted (sigma² is the dispersion)",
+        }
+    }
+
+    /// The weight of an observation whose fitted value is `f` (on the
+    /// residual scale), for the reweighted models.
+    fn weight(self, f: f64, floor: f64) -> f64 {
+        let f = f.max(floor);
+        match self {
+            ErrorModel::Relative => 1.0 / (f * f),
+            ErrorModel::Count => 1.0 / f,
+            ErrorModel::Additive | ErrorModel::Log => 1.0,
+        }
+    }
+
+    fn reweights(self) -> bool {
+        matches!(self, ErrorModel::Relative | ErrorModel::Count)
+    }
+}
+
+/// How the reported 95% intervals are computed.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
+pub enum IntervalMethod {
+    /// Profile likelihood (Bates & Watts 1988, §6.1), falling back to the
+    /// asymptotic interval for a parameter whose profile cannot be traced.
+    #[default]
+    Profile,
+    /// `estimate ± t(0.975, dof) · se` only (faster; no profile refits).
+    Asymptotic,
+}
+
+/// Which method produced a reported interval.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum CiMethod {
+    Profile,
+    Asymptotic,
+}
+
+impl CiMethod {
+    pub fn as_str(self) -> &'static str {
+        match self {
+            CiMethod::Profile => "profile",
+            CiMethod::Asymptotic => "asymptotic",
+        }
+    }
+}
+
+/// A reported 95% interval. A profile interval may be open on a side
+/// (`None`): within the wide search made, the profile never rose to the
+/// 95% threshold there, so the data set no bound on that side.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Interval {
+    pub lo: Option<f64>,
+    pub hi: Option<f64>,
+    pub method: CiMethod,
+}
+
+impl Interval {
+    /// Whether `v` lies inside (an open side extends without limit).
+    pub fn contains(&self, v: f64) -> bool {
+        self.lo.is_none_or(|lo| lo <= v) && self.hi.is_none_or(|hi| v <= hi)
+    }
 }
 
 /// One parameter's estimate.
@@ -37,9 +170,17 @@ pub struct ParamEstimate {
     /// Asymptotic standard error; `None` for fixed parameters or when the
     /// covariance does not exist (singular Jacobian).
     pub std_error: Option<f64>,
-    /// 95% interval `estimate ± t(0.975, dof) · std_error`.
+    /// Asymptotic 95% interval `estimate ± t(0.975, dof) · std_error`.
     pub ci95: Option<(f64, f64)>,
     pub fixed: bool,
+    /// The reported 95% interval (profile likelihood by default, see
+    /// [`IntervalMethod`]); `None` for a fixed parameter (nothing is
+    /// estimated, so nothing is propagated) or when no interval exists.
+    pub interval: Option<Interval>,
+    /// `false` when the data do not determine the parameter (K under the
+    /// `saturation_not_identified` warning): its interval is then open
+    /// above and the asymptotic interval is not to be shown.
+    pub identified: bool,
 }
 
 /// A finished fit.
@@ -72,6 +213,9 @@ pub struct Fit {
     /// Fitted values at the input times, in input order.
     pub fitted: Vec<f64>,
     pub warnings: Vec<Warning>,
+    pub error_model: ErrorModel,
+    /// Whether per-period increments were fitted (then `n` counts them).
+    pub increments: bool,
 }
 
 impl Fit {
@@ -135,16 +279,28 @@ fn error(kind: FitErrorKind, message: impl Into<String>) -> FitError {
     }
 }
 
+/// How residuals are formed from the model's values.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
+pub struct Scale {
+    /// Per-period differences `f(t_i) − f(t_{i−1})`, `i = 1..n`.
+    pub increments: bool,
+    /// Log scale: residual `ln y − ln f`.
+    pub log: bool,
+}
+
 /// The curve-fitting least-squares problem over the free parameters.
 pub struct CurveProblem<'a> {
     pub model: Model,
     pub t: &'a [f64],
+    /// The target on the residual scale (differenced and/or logged, see
+    /// `scale`): one per residual.
     pub y: &'a [f64],
-    /// Square roots of the weights, if any.
+    /// Square roots of the weights, if any, one per residual.
     pub sqrt_w: Option<Vec<f64>>,
     /// Full parameter vector; free entries are overwritten from `x`.
     pub base: Vec<f64>,
     pub free: Vec<usize>,
+    pub scale: Scale,
 }
 
 impl CurveProblem<'_> {
@@ -170,7 +326,7 @@ impl CurveProblem<'_> {
 
 impl LeastSquares for CurveProblem<'_> {
     fn n_residuals(&self) -> usize {
-        self.t.len()
+        self.t.len() - usize::from(self.scale.increments)
     }
     fn n_unknowns(&self) -> usize {
         self.free.len()
@@ -182,6 +338,10 @@ impl LeastSquares for CurveProblem<'_> {
             .all(|(v, &j)| v.is_finite() && (doms[j] == Domain::Real || *v > 0.0))
     }
     fn residuals(&self, x: &[f64], res: &mut [f64]) -> bool {
+        if self.scale != Scale::default() {
+            let mut jac = DMatrix::zeros(self.n_residuals(), self.free.len());
+            return self.fill_scaled(x, res, &mut jac);
+        }
         self.curve(x).values(self.t, res);
         let mut finite = true;
         for (i, r) in res.iter_mut().enumerate() {
@@ -208,6 +368,9 @@ impl CurveProblem<'_> {
     /// Writes residuals and Jacobian in one pass over the data, a block of
     /// points at a time; `false` if a residual is not finite.
     fn fill(&self, x: &[f64], res: &mut [f64], jac: &mut DMatrix<f64>) -> bool {
+        if self.scale != Scale::default() {
+            return self.fill_scaled(x, res, jac);
+        }
         #[cfg(target_arch = "x86_64")]
         if std::is_x86_feature_detected!("avx2") {
             // SAFETY: the processor supports AVX2, checked just above.
@@ -284,6 +447,73 @@ impl CurveProblem<'_> {
     }
 }
 
+impl CurveProblem<'_> {
+    /// [`CurveProblem::fill`] for increments and/or the log scale: the
+    /// model's values and gradient at every time, then differenced
+    /// (`Δf_i = f_i − f_{i−1}`, `ΔJ_i = J_i − J_{i−1}`) and/or taken to the
+    /// log scale (`ln Δf`, gradient `ΔJ / Δf`), then weighted.
+    fn fill_scaled(&self, x: &[f64], res: &mut [f64], jac: &mut DMatrix<f64>) -> bool {
+        let n = self.t.len();
+        let k = self.free.len();
+        let zeros = vec![0.0; n];
+        let plain = CurveProblem {
+            model: self.model,
+            t: self.t,
+            y: &zeros,
+            sqrt_w: None,
+            base: self.base.clone(),
+            free: self.free.clone(),
+            scale: Scale::default(),
+        };
+        // `neg` = −f (residuals against zero), `g` = ∂f/∂θ.
+        let mut neg = vec![0.0; n];
+        let mut g = DMatrix::zeros(n, k);
+        let mut finite = plain.fill(x, &mut neg, &mut g);
+        let off = usize::from(self.scale.increments);
+        for i in 0..n - off {
+            let v = if off == 1 {
+                neg[i] - neg[i + 1]
+            } else {
+                -neg[i]
+            };
+            let w = self.sqrt_w.as_ref().map_or(1.0, |w| w[i]);
+            let (r, d) = if self.scale.log {
+                if v > 0.0 {
+                    (self.y[i] - v.ln(), 1.0 / v)
+                } else {
+                    finite = false;
+                    (f64::NAN, 0.0)
+                }
+            } else {
+                (self.y[i] - v, 1.0)
+            };
+            res[i] = r * w;
+            finite &= res[i].is_finite();
+            for c in 0..k {
+                let gi = if off == 1 {
+                    g[(i + 1, c)] - g[(i, c)]
+                } else {
+                    g[(i, c)]
+                };
+                jac[(i, c)] = gi * d * w;
+            }
+        }
+        finite
+    }
+}
+
+/// The model's values on the residual scale before the log: `f(t_i)`, or
+/// the increments `f(t_i) − f(t_{i−1})`.
+fn on_scale(model: Model, p: &[f64], t: &[f64], increments: bool) -> Vec<f64> {
+    let mut f = vec![0.0; t.len()];
+    Curve::new(model, p).values(t, &mut f);
+    if increments {
+        f.windows(2).map(|w| w[1] - w[0]).collect()
+    } else {
+        f
+    }
+}
+
 /// Rows `start..end` of a Jacobian column, or the scratch block for a fixed
 /// parameter.
 fn block_of<'a>(
@@ -308,7 +538,12 @@ pub fn fit(series: &Series, model: Model, opts: &FitOptions) -> Result<Fit, FitE
 /// Fits `model` to the points `(t[i], y[i])`.
 pub fn fit_xy(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<Fit, FitError> {
     let solved = solve(t, y, model, opts)?;
-    Ok(statistics(t, y, model, solved))
+    let mut fit = statistics(t, model, &solved, opts);
+    if opts.intervals == IntervalMethod::Profile {
+        profile::apply(&mut fit, &solved, model, y, opts);
+    }
+    diagnose(&mut fit, t, y);
+    Ok(fit)
 }
 
 /// A solved fit before its statistics: the best outcome over the starts.
@@ -323,6 +558,15 @@ struct Solved {
     free: Vec<usize>,
     /// The exponential's time origin (0 for the other models).
     t_ref: f64,
+    /// The times on the solver's (shifted) axis.
+    tt: Vec<f64>,
+    /// The target on the residual scale (see [`CurveProblem::y`]).
+    target: Vec<f64>,
+    /// Square roots of the final weights (user's × error model's).
+    sqrt_w: Option<Vec<f64>>,
+    scale: Scale,
+    /// Added to the Gaussian log-likelihood (see [`stats::criteria_with`]).
+    loglik_extra: f64,
 }
 
 /// Validates the inputs, self-starts and minimises from every start;
@@ -357,6 +601,18 @@ fn solve(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<Solved
             ),
         ));
     }
+    if opts.increments && n < n_free + 2 {
+        return Err(error(
+            FitErrorKind::TooFewPoints,
+            format!(
+                "fitting increments of the {} model needs at least {} points ({} differences); got {}",
+                model.name(),
+                n_free + 2,
+                n_free + 1,
+                n
+            ),
+        ));
+    }
     let first = y.first().copied().unwrap_or(0.0);
     if y.iter().all(|v| *v == first) {
         return Err(error(
@@ -366,7 +622,7 @@ fn solve(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<Solved
             ),
         ));
     }
-    let sqrt_w = match &opts.weights {
+    let user_w = match &opts.weights {
         None => None,
         Some(w) => {
             if w.len() != n || w.iter().any(|v| !(v.is_finite() && *v >= 0.0)) {
@@ -375,9 +631,18 @@ fn solve(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<Solved
                     "weights must be one finite, non-negative number per observation",
                 ));
             }
-            Some(w.iter().map(|v| v.sqrt()).collect::<Vec<_>>())
+            let w = if opts.increments { &w[1..] } else { &w[..] };
+            Some(w.to_vec())
         }
     };
+    let scale = Scale {
+        increments: opts.increments,
+        log: opts.error_model == ErrorModel::Log,
+    };
+    let target = target_values(t, y, scale)?;
+    let mut sqrt_w: Option<Vec<f64>> = user_w
+        .as_ref()
+        .map(|w| w.iter().map(|v| v.sqrt()).collect());
     let mut user_start = vec![None; np];
     for (name, v) in &opts.start {
         let j = param_index(model, name)?;
@@ -400,7 +665,20 @@ fn solve(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<Solved
         t
     };
 
-    let (starts, mut gompertz_pending) = starting_points(model, tt, y, &fixed, &user_start, opts)?;
+    // A long series is self-started on its presolve subsample (the start
+    // only has to land in the basin of the minimum, and the Richards start
+    // is a whole logistic fit); on the full data when that fails.
+    let (starts, mut gompertz_pending) = match subsample(tt, y, opts.weights.as_deref()) {
+        Some((ts, ys, ws)) => {
+            let sub_opts = FitOptions {
+                weights: ws,
+                ..opts.clone()
+            };
+            starting_points(model, &ts, &ys, &fixed, &user_start, &sub_opts)
+                .or_else(|_| starting_points(model, tt, y, &fixed, &user_start, opts))?
+        }
+        None => starting_points(model, tt, y, &fixed, &user_start, opts)?,
+    };
     let solver = opts.solver.clone().unwrap_or_default();
     let free: Vec<usize> = (0..np).filter(|j| fixed[*j].is_none()).collect();
     let mut best: Option<(crate::solver::Outcome, Vec<f64>, Vec<f64>)> = None;
@@ -410,10 +688,11 @@ fn solve(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<Solved
         let problem = CurveProblem {
             model,
             t: tt,
-            y,
+            y: &target,
             sqrt_w: sqrt_w.clone(),
             base: p0.clone(),
             free: free.clone(),
+            scale,
         };
         let x0: Vec<f64> = free.iter().map(|&j| p0[j]).collect();
         let out = match presolve(&problem, &solver, &x0) {
@@ -450,8 +729,57 @@ fn solve(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<Solved
             }
         }
     }
-    let Some((outcome, p, r)) = best else {
+    let Some((mut outcome, mut p, mut r)) = best else {
         return Err(error(FitErrorKind::NoStart, "no starting values"));
+    };
+    // Relative and count errors: iteratively reweighted least squares, the
+    // weights from the current fitted values, until the estimate settles.
+    let mut model_w: Option<Vec<f64>> = None;
+    if opts.error_model.reweights() && outcome.rss.is_finite() {
+        let floor = 1e-9 * target.iter().fold(0.0_f64, |a, v| a.max(v.abs()));
+        for _ in 0..IRLS_MAX_ROUNDS {
+            let f = on_scale(model, &p, tt, scale.increments);
+            let w: Vec<f64> = f
+                .iter()
+                .map(|v| opts.error_model.weight(*v, floor))
+                .collect();
+            sqrt_w = Some(match &user_w {
+                Some(u) => u.iter().zip(&w).map(|(a, b)| (a * b).sqrt()).collect(),
+                None => w.iter().map(|v| v.sqrt()).collect(),
+            });
+            model_w = Some(w);
+            let problem = CurveProblem {
+                model,
+                t: tt,
+                y: &target,
+                sqrt_w: sqrt_w.clone(),
+                base: p.clone(),
+                free: free.clone(),
+                scale,
+            };
+            let x0: Vec<f64> = free.iter().map(|&j| p[j]).collect();
+            let out = solver.minimize_factored(&problem, &x0, &mut r);
+            if !out.rss.is_finite() {
+                break;
+            }
+            let change = out
+                .x
+                .iter()
+                .zip(&x0)
+                .map(|(a, b)| (a - b).abs() / b.abs().max(f64::MIN_POSITIVE))
+                .fold(0.0, f64::max);
+            p = problem.full(&out.x);
+            outcome = out;
+            if change < IRLS_TOLERANCE {
+                break;
+            }
+        }
+    }
+    let loglik_extra = match (&model_w, scale.log) {
+        (Some(w), _) => 0.5 * w.iter().map(|v| v.ln()).sum::<f64>(),
+        // ln y_i are the targets: −Σ ln y_i.
+        (None, true) => -target.iter().sum::<f64>(),
+        (None, false) => 0.0,
     };
     if outcome.termination == Termination::InvalidStart || !outcome.rss.is_finite() {
         return Err(error(
@@ -470,7 +798,49 @@ fn solve(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<Solved
         fixed,
         free,
         t_ref,
+        tt: tt.to_vec(),
+        target,
+        sqrt_w,
+        scale,
+        loglik_extra,
     })
+}
+
+/// Rounds of reweighting for the relative and count error models, and the
+/// largest relative parameter change that counts as settled.
+const IRLS_MAX_ROUNDS: usize = 50;
+const IRLS_TOLERANCE: f64 = 1e-10;
+
+/// The data on the residual scale: differences for increments, logs for
+/// the log error model (every one must then be positive).
+fn target_values(t: &[f64], y: &[f64], scale: Scale) -> Result<Vec<f64>, FitError> {
+    let off = usize::from(scale.increments);
+    let mut out: Vec<f64> = if scale.increments {
+        y.windows(2).map(|w| w[1] - w[0]).collect()
+    } else {
+        y.to_vec()
+    };
+    if scale.log {
+        for (i, v) in out.iter_mut().enumerate() {
+            if v.is_nan() || *v <= 0.0 {
+                let what = if scale.increments {
+                    "increment"
+                } else {
+                    "value"
+                };
+                return Err(error(
+                    FitErrorKind::InvalidValue,
+                    format!(
+                        "the log error model needs positive values, but the {what} at time {} is {};                          use the additive, relative or count error model",
+                        t[i + off],
+                        v
+                    ),
+                ));
+            }
+            *v = v.ln();
+        }
+    }
+    Ok(out)
 }
 
 /// Data sets longer than this are first fitted on [`PRESOLVE_POINTS`] of
@@ -497,50 +867,91 @@ const PRESOLVED_DAMPING: f64 = 1e-9;
 /// estimate is still the full data's least-squares minimum, to the same
 /// tolerances: only the start differs.
 fn presolve(problem: &CurveProblem<'_>, solver: &Solver, x0: &[f64]) -> Option<Vec<f64>> {
-    let n = problem.t.len();
-    if n <= PRESOLVE_ABOVE {
+    // A subsample of differences is not the differences of a subsample.
+    if problem.scale != Scale::default() {
         return None;
     }
-    let m = PRESOLVE_POINTS;
-    let pick = |i: usize| (i * (n - 1) + (m - 1) / 2) / (m - 1);
-    let t: Vec<f64> = (0..m).map(|i| problem.t[pick(i)]).collect();
-    let y: Vec<f64> = (0..m).map(|i| problem.y[pick(i)]).collect();
+    let (t, y, sqrt_w) = subsample(problem.t, problem.y, problem.sqrt_w.as_deref())?;
     let sub = CurveProblem {
         model: problem.model,
         t: &t,
         y: &y,
-        sqrt_w: problem
-            .sqrt_w
-            .as_ref()
-            .map(|w| (0..m).map(|i| w[pick(i)]).collect()),
+        sqrt_w,
         base: problem.base.clone(),
         free: problem.free.clone(),
+        scale: problem.scale,
     };
     let out = solver.minimize(&sub, x0);
     (out.converged() && problem.feasible(&out.x)).then_some(out.x)
 }
 
+/// Times, values and (when given) per-point weights at
+/// [`PRESOLVE_POINTS`] evenly spread indices, first and last included;
+/// `None` for a series of at most [`PRESOLVE_ABOVE`] points.
+#[allow(clippy::type_complexity)]
+fn subsample(
+    t: &[f64],
+    y: &[f64],
+    w: Option<&[f64]>,
+) -> Option<(Vec<f64>, Vec<f64>, Option<Vec<f64>>)> {
+    let n = t.len();
+    if n <= PRESOLVE_ABOVE {
+        return None;
+    }
+    let m = PRESOLVE_POINTS;
+    let pick = |i: usize| (i * (n - 1) + (m - 1) / 2) / (m - 1);
+    let take = |v: &[f64]| (0..m).map(|i| v[pick(i)]).collect::<Vec<_>>();
+    Some((take(t), take(y), w.map(take)))
+}
+
 /// Standard errors, intervals, criteria, fitted values and warnings.
-fn statistics(t: &[f64], y: &[f64], model: Model, solved: Solved) -> Fit {
+fn statistics(t: &[f64], model: Model, solved: &Solved, opts: &FitOptions) -> Fit {
     let Solved {
         outcome,
-        mut p,
+        p,
         r,
         fixed,
         free,
         t_ref,
+        tt,
+        target,
+        sqrt_w,
+        scale,
+        loglik_extra,
     } = solved;
+    let (t_ref, scale) = (*t_ref, *scale);
+    let mut p = p.clone();
+    let free = free.clone();
     let names = model.param_names();
     let np = names.len();
-    let n = t.len();
+    // Residuals (observations, or differences for increments).
+    let n = target.len();
     // Statistics on the (possibly shifted) axis, from the solver's
     // factorisation of the Jacobian at the estimate.
     let dof = n - free.len();
+    // R² on the data's own scale, unweighted.
+    let rss_plain = if scale == Scale::default() && sqrt_w.is_none() {
+        outcome.rss
+    } else {
+        let f = on_scale(model, &p, tt, scale.increments);
+        f.iter()
+            .zip(target)
+            .map(|(f, y)| {
+                let y = if scale.log { y.exp() } else { *y };
+                (y - f) * (y - f)
+            })
+            .sum()
+    };
+    let plain_target: Vec<f64> = if scale.log {
+        target.iter().map(|v| v.exp()).collect()
+    } else {
+        target.clone()
+    };
     let rss = outcome.rss;
     let sigma2 = rss / dof as f64;
     let k = free.len();
     let cov = if r.len() == k * k {
-        stats::covariance_from_triangle(&r, k, n, sigma2)
+        stats::covariance_from_triangle(r, k, n, sigma2)
     } else {
         // No finite factorisation: nothing can be told apart.
         stats::Covariance {
@@ -596,20 +1007,26 @@ fn statistics(t: &[f64], y: &[f64], model: Model, solved: Solved) -> Fit {
                 std_error: se,
                 ci95: se.map(|s| (estimate - tq * s, estimate + tq * s)),
                 fixed: is_fixed,
+                interval: se.map(|s| Interval {
+                    lo: Some(estimate - tq * s),
+                    hi: Some(estimate + tq * s),
+                    method: CiMethod::Asymptotic,
+                }),
+                identified: true,
             }
         })
         .collect();
 
-    let mut fitted = vec![0.0; n];
+    let mut fitted = vec![0.0; t.len()];
     Curve::new(model, &p).values(t, &mut fitted);
-    let crit = stats::criteria(rss, n, free.len());
-    let mut fit = Fit {
+    let crit = stats::criteria_with(rss, n, free.len(), *loglik_extra);
+    Fit {
         model,
         n,
         dof,
         rss,
         sigma: sigma2.sqrt(),
-        r_squared: stats::r_squared(rss, y),
+        r_squared: stats::r_squared(rss_plain, &plain_target),
         log_likelihood: crit.log_likelihood,
         aic: crit.aic,
         aicc: crit.aicc,
@@ -623,9 +1040,9 @@ fn statistics(t: &[f64], y: &[f64], model: Model, solved: Solved) -> Fit {
         covariance,
         fitted,
         warnings,
-    };
-    diagnose(&mut fit, t, y);
-    fit
+        error_model: opts.error_model,
+        increments: scale.increments,
+    }
 }
 
 fn param_index(model: Model, name: &str) -> Result<usize, FitError> {
@@ -795,6 +1212,9 @@ fn richards_start(
             ..base
         }),
         start: Vec::new(),
+        error_model: opts.error_model,
+        increments: opts.increments,
+        intervals: IntervalMethod::Asymptotic,
     };
     let nu = if sub_model == Model::Logistic {
         1.0
@@ -861,7 +1281,8 @@ fn diagnose(fit: &mut Fit, t: &[f64], y: &[f64]) {
             ));
         }
     }
-    if let Some(k) = fit.param("K").filter(|k| !k.fixed) {
+    if let Some(kj) = fit.params.iter().position(|p| p.name == "K" && !p.fixed) {
+        let k = &fit.params[kj];
         let floor = fit.param("L").map_or(0.0, |l| l.estimate);
         let observed_rise = ymax - floor;
         let rel_se = k.std_error.map(|s| s / k.estimate.abs());
@@ -882,7 +1303,25 @@ fn diagnose(fit: &mut Fit, t: &[f64], y: &[f64]) {
         if fit.condition_number > stats::ILL_CONDITIONED {
             reasons.push("the fit is ill-conditioned".to_string());
         }
+        if let Some(iv) = k.interval.filter(|i| i.method == CiMethod::Profile) {
+            if iv.hi.is_none() {
+                reasons.push(format!(
+                    "its profile likelihood stays inside the 95% threshold for every K up to {} times                      the data's range above the estimate",
+                    profile::WIDE
+                ));
+            }
+        }
+        if k.estimate - floor < 1e-9 * ymax.abs().max(f64::MIN_POSITIVE) {
+            reasons.push("K ended at the edge of its allowed range".to_string());
+        }
         if !reasons.is_empty() {
+            // No upper bound is claimed, and the asymptotic interval is
+            // withheld by the report (`identified == false`).
+            let k = &mut fit.params[kj];
+            k.identified = false;
+            if let Some(iv) = k.interval.as_mut() {
+                iv.hi = None;
+            }
             w.push(Warning::new(
                 WarningCode::SaturationNotIdentified,
                 format!(
@@ -907,6 +1346,8 @@ fn diagnose(fit: &mut Fit, t: &[f64], y: &[f64]) {
     }
     fit.warnings.extend(w);
 }
+
+mod profile;
 
 #[cfg(test)]
 mod tests;
@@ -947,6 +1388,7 @@ mod avx2_tests {
                     sqrt_w: weights,
                     base: p.to_vec(),
                     free: free.clone(),
+                    scale: Scale::default(),
                 };
                 let x: Vec<f64> = free.iter().map(|&j| p[j] * 1.01).collect();
                 let (mut r1, mut r2) = (vec![0.0; 77], vec![0.0; 77]);

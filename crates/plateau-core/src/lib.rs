@@ -16,14 +16,21 @@
 //!
 //! Main entry points: [`data::parse_series`] turns pasted or file text into
 //! a [`data::Series`]; [`fit::fit`] fits a [`model::Model`] to it and returns
-//! a [`fit::Fit`]; [`compare::compare`] ranks every model by AICc.
+//! a [`fit::Fit`]; [`compare::compare`] ranks every model by AICc;
+//! [`diagnostics`] reads the residuals and tests the curve's symmetry.
 
 pub mod analysis;
+pub mod bootstrap;
 pub mod compare;
 pub mod data;
+pub mod diagnostics;
+pub mod drift;
 pub mod fit;
+pub mod forecast;
+pub mod forecast_report;
 mod linalg;
 mod mathfn;
+pub mod milestones;
 pub mod model;
 pub mod report;
 pub mod solver;
@@ -33,6 +40,6 @@ pub mod summary;
 pub mod warning;
 
 pub use data::{parse_series, ParseOptions, Series};
-pub use fit::{fit, Fit, FitError, FitOptions};
+pub use fit::{fit, ErrorModel, Fit, FitError, FitOptions, IntervalMethod};
 pub use model::Model;
 pub use warning::{Warning, WarningCode};

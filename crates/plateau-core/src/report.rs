@@ -9,7 +9,8 @@
 //! Main types: [`FitReport`] (from a [`Fit`]) and [`CompareReport`] (from
 //! [`compare::Entry`](crate::compare::Entry) rows).
 
-use crate::compare::Entry;
+use crate::compare::{nested_tests, recommend, Entry, LrTest, Recommendation};
+use crate::diagnostics::{FisherPry, ResidualDiagnostics, SymmetryTest, Verdict};
 use crate::fit::Fit;
 use crate::warning::Warning;
 use serde::ser::{SerializeMap, Serializer};
@@ -26,9 +27,23 @@ pub struct ParamReport {
     pub estimate: f64,
     /// `null` for a fixed parameter or when the covariance does not exist.
     pub std_error: Option<f64>,
-    /// 95% interval `[lo, hi]`, or `null`.
-    pub ci95: Option<[f64; 2]>,
+    /// The 95% interval `[lo, hi]`, by `ci_method`. A side is `null` when
+    /// the interval is open there (the profile never reached the 95%
+    /// threshold within the search, so the data set no bound); the whole
+    /// field is `null` for a fixed parameter (nothing is propagated for
+    /// it) or when no interval exists.
+    pub ci95: Option<[Option<f64>; 2]>,
+    /// `"profile"` (profile likelihood) or `"asymptotic"` (estimate ±
+    /// t·se, used when the profile could not be traced; a
+    /// `profile_not_computed` warning says why); `null` with `ci95`.
+    pub ci_method: Option<&'static str>,
+    /// `estimate ± t(0.975, dof) · std_error`; `null` for a fixed
+    /// parameter, without a covariance, or when `identified` is false.
+    pub ci95_asymptotic: Option<[f64; 2]>,
     pub fixed: bool,
+    /// `false` when the data do not determine the parameter (K under
+    /// `saturation_not_identified`): no upper bound is given then.
+    pub identified: bool,
 }
 
 /// Parameters in the model's own order (a JSON object keeps the order the
@@ -51,6 +66,12 @@ impl Serialize for Params {
 pub struct FitReport {
     pub model: &'static str,
     pub formula: &'static str,
+    /// `additive`, `relative`, `log` or `count` (see `fit::ErrorModel`):
+    /// it sets what `rss`, `sigma` and the criteria are measured on.
+    pub error_model: &'static str,
+    /// `true` when per-period increments were fitted instead of the
+    /// cumulative values; `n` then counts the increments.
+    pub increments: bool,
     pub n: usize,
     pub dof: usize,
     pub rss: f64,
@@ -82,8 +103,11 @@ impl FitReport {
                     ParamReport {
                         estimate: p.estimate,
                         std_error: p.std_error,
-                        ci95: p.ci95.map(|(a, b)| [a, b]),
+                        ci95: p.interval.map(|i| [i.lo, i.hi]),
+                        ci_method: p.interval.map(|i| i.method.as_str()),
+                        ci95_asymptotic: p.ci95.filter(|_| p.identified).map(|(a, b)| [a, b]),
                         fixed: p.fixed,
+                        identified: p.identified,
                     },
                 )
             })
@@ -91,6 +115,8 @@ impl FitReport {
         FitReport {
             model: fit.model.name(),
             formula: fit.model.formula(),
+            error_model: fit.error_model.name(),
+            increments: fit.increments,
             n: fit.n,
             dof: fit.dof,
             rss: fit.rss,
@@ -123,6 +149,9 @@ pub struct CompareRow {
     pub aicc: Option<f64>,
     pub delta_aicc: Option<f64>,
     pub akaike_weight: Option<f64>,
+    pub bic: Option<f64>,
+    /// `BIC − min BIC` over the fitted models.
+    pub delta_bic: Option<f64>,
     pub fit: Option<FitReport>,
     /// Why there is no fit, when there is none.
     pub error: Option<String>,
@@ -133,11 +162,22 @@ pub struct CompareRow {
 pub struct CompareReport {
     /// Best (lowest AICc) first.
     pub models: Vec<CompareRow>,
+    /// Likelihood-ratio tests of the nested pairs that were both fitted.
+    pub lr_tests: Vec<LrTest>,
+    /// Which model to use and why; `null` from [`CompareReport::new`],
+    /// filled by [`CompareReport::with_data`].
+    pub recommendation: Option<Recommendation>,
     pub warnings: Vec<Warning>,
 }
 
 impl CompareReport {
     pub fn new(entries: &[Entry], data_warnings: &[Warning]) -> CompareReport {
+        let min_bic = entries
+            .iter()
+            .filter_map(|e| e.result.as_ref().ok())
+            .map(|f| f.bic)
+            .filter(|b| b.is_finite())
+            .fold(f64::INFINITY, f64::min);
         let mut rank = 0;
         let models = entries
             .iter()
@@ -153,6 +193,8 @@ impl CompareReport {
                         aicc: Some(f.aicc),
                         delta_aicc: e.delta_aicc,
                         akaike_weight: e.akaike_weight,
+                        bic: Some(f.bic),
+                        delta_bic: Some(f.bic - min_bic).filter(|d| d.is_finite()),
                         fit: Some(FitReport::new(f, &[])),
                         error: None,
                     },
@@ -162,6 +204,8 @@ impl CompareReport {
                         aicc: None,
                         delta_aicc: None,
                         akaike_weight: None,
+                        bic: None,
+                        delta_bic: None,
                         fit: None,
                         error: Some(err.message.clone()),
                     },
@@ -170,7 +214,64 @@ impl CompareReport {
             .collect();
         CompareReport {
             models,
+            lr_tests: nested_tests(entries),
+            recommendation: None,
             warnings: data_warnings.to_vec(),
+        }
+    }
+
+    /// [`CompareReport::new`] with the recommendation, which needs the data
+    /// the models were fitted to (for the residual verdicts).
+    pub fn with_data(
+        entries: &[Entry],
+        data_warnings: &[Warning],
+        t: &[f64],
+        y: &[f64],
+    ) -> CompareReport {
+        let mut r = CompareReport::new(entries, data_warnings);
+        r.recommendation = Some(recommend(entries, t, y));
+        r
+    }
+}
+
+/// The shape of `plateau diagnose --json`: one fit, its residual
+/// diagnostics, the symmetry test and (optionally) the Fisher–Pry check,
+/// with every verdict gathered in one list.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct DiagnoseReport {
+    pub fit: FitReport,
+    pub residuals: ResidualDiagnostics,
+    /// `null` when the logistic could not be fitted.
+    pub symmetry_test: Option<SymmetryTest>,
+    /// For the K given, else the fitted K of a saturating model.
+    pub fisher_pry: Option<FisherPry>,
+    /// Residual verdicts, then the symmetry and Fisher–Pry verdicts.
+    pub verdicts: Vec<Verdict>,
+    pub caution: &'static str,
+}
+
+impl DiagnoseReport {
+    pub fn new(
+        fit: &Fit,
+        data_warnings: &[Warning],
+        residuals: ResidualDiagnostics,
+        symmetry_test: Option<SymmetryTest>,
+        fisher_pry: Option<FisherPry>,
+    ) -> DiagnoseReport {
+        let verdicts = residuals
+            .verdicts
+            .iter()
+            .cloned()
+            .chain(symmetry_test.as_ref().map(|s| s.verdict.clone()))
+            .chain(fisher_pry.as_ref().map(|f| f.verdict.clone()))
+            .collect();
+        DiagnoseReport {
+            fit: FitReport::new(fit, data_warnings),
+            residuals,
+            symmetry_test,
+            fisher_pry,
+            verdicts,
+            caution: CAUTION,
         }
     }
 }

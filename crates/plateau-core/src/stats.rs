@@ -227,12 +227,22 @@ pub struct Criteria {
 }
 
 pub fn criteria(rss: f64, n: usize, p: usize) -> Criteria {
+    criteria_with(rss, n, p, 0.0)
+}
+
+/// [`criteria`] with `extra` added to the log-likelihood before the
+/// criteria are formed. The error models use it (see `fit::ErrorModel`):
+/// `½ Σ ln w_i` for weighted residuals with variance `σ² / w_i`, and
+/// `−Σ ln y_i` (the Jacobian of `y ↦ ln y`) for residuals on the log
+/// scale, so that the likelihood is always that of the data as given and
+/// AICc stays comparable across error models fitted to the same values.
+pub fn criteria_with(rss: f64, n: usize, p: usize, extra: f64) -> Criteria {
     let nf = n as f64;
     let k = (p + 1) as f64;
     // A perfect fit has an unbounded likelihood; keep the numbers finite and
     // ordered by flooring RSS at a relative rounding level.
     let rss = rss.max(f64::MIN_POSITIVE);
-    let log_likelihood = -0.5 * nf * ((2.0 * std::f64::consts::PI * rss / nf).ln() + 1.0);
+    let log_likelihood = -0.5 * nf * ((2.0 * std::f64::consts::PI * rss / nf).ln() + 1.0) + extra;
     let aic = -2.0 * log_likelihood + 2.0 * k;
     let aicc = if nf - k - 1.0 > 0.0 {
         aic + 2.0 * k * (k + 1.0) / (nf - k - 1.0)

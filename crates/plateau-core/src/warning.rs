@@ -32,6 +32,9 @@ pub enum WarningCode {
     ParameterNotRepresentable,
     /// Values meant as running totals fall well below their peak: probably per-period counts.
     ValuesDecline,
+    /// A parameter's profile-likelihood interval could not be traced; its
+    /// asymptotic interval is reported instead.
+    ProfileNotComputed,
 }
 
 impl WarningCode {
@@ -48,6 +51,7 @@ impl WarningCode {
             WarningCode::BeforeInflection => "before_inflection",
             WarningCode::ParameterNotRepresentable => "parameter_not_representable",
             WarningCode::ValuesDecline => "values_decline",
+            WarningCode::ProfileNotComputed => "profile_not_computed",
         }
     }
 }

@@ -11,6 +11,7 @@
 pub mod session;
 
 use plateau_chart::{ChartInput, ChartKind};
+use plateau_core::bootstrap::Bootstrap;
 use plotters::prelude::IntoDrawingArea;
 use plotters_canvas::CanvasBackend;
 use session::{Analysis, Settings};
@@ -73,6 +74,9 @@ pub fn demo_multi_label() -> String {
 #[derive(Default)]
 pub struct Workbench {
     last: Option<Analysis>,
+    /// The bootstrap of `last`'s fit, while it runs and after; dropped on
+    /// every update.
+    boot: Option<Bootstrap>,
 }
 
 #[wasm_bindgen]
@@ -91,11 +95,44 @@ impl Workbench {
         let view = serde_wasm_bindgen::to_value(&analysis.view)
             .map_err(|e| JsError::new(&e.to_string()))?;
         self.last = Some(analysis);
+        self.boot = None;
         Ok(view)
     }
 
-    /// Draws chart `chart` ("curve", "residuals", "symmetry", "linear",
-    /// "rate", or "overlay" for several series) on the
+    /// Sets up a bootstrap of the current fit with the settings of the last
+    /// update (B, seed, resampling); no replicate is run yet.
+    #[wasm_bindgen(js_name = bootstrapStart)]
+    pub fn bootstrap_start(&mut self) -> Result<(), JsError> {
+        let b = session::start_bootstrap(self.analysis()?).map_err(|e| JsError::new(&e.message))?;
+        self.boot = Some(b);
+        Ok(())
+    }
+
+    /// Runs up to `k` more replicates; returns the replicates done so far.
+    /// The page calls this in slices between frames.
+    #[wasm_bindgen(js_name = bootstrapStep)]
+    pub fn bootstrap_step(&mut self, k: usize) -> Result<usize, JsError> {
+        let b = self
+            .boot
+            .as_mut()
+            .ok_or_else(|| JsError::new("no bootstrap has been started"))?;
+        Ok(b.step(k))
+    }
+
+    /// Progress and, when finished, the bootstrap intervals.
+    #[wasm_bindgen(js_name = bootstrapView)]
+    pub fn bootstrap_view(&self) -> Result<JsValue, JsError> {
+        let a = self.analysis()?;
+        let b = self
+            .boot
+            .as_ref()
+            .ok_or_else(|| JsError::new("no bootstrap has been started"))?;
+        serde_wasm_bindgen::to_value(&session::bootstrap_view(a, b))
+            .map_err(|e| JsError::new(&e.to_string()))
+    }
+
+    /// Draws chart `chart` (a `ChartKind` name: "curve", "qq", "fisher-pry", …,
+    /// "drift", or "overlay" for several series) on the
     /// canvas at its current pixel size (the page sets it for the device
     /// pixel ratio).
     pub fn draw(&self, chart: &str, canvas: HtmlCanvasElement) -> Result<(), JsError> {
@@ -109,9 +146,22 @@ impl Workbench {
             .map_err(|e| JsError::new(&e.to_string()))?;
             return area.present().map_err(|e| JsError::new(&e.to_string()));
         }
-        let (analysis, kind) = self.target(chart)?;
-        with_input(analysis, |input| plateau_chart::draw(kind, &area, input))
+        if chart == DRIFT {
+            let analysis = self.analysis()?;
+            with_drift_input(analysis, |input| {
+                plateau_chart::draw_drift(&area, &analysis.drift, input)
+            })
             .map_err(|e| JsError::new(&e.to_string()))?;
+            return area.present().map_err(|e| JsError::new(&e.to_string()));
+        }
+        let (analysis, kind) = self.target(chart)?;
+        let k = analysis.settings.fisher_pry_k;
+        with_input(analysis, |input| match kind {
+            // The Fisher–Pry view takes the K entered on the page.
+            ChartKind::FisherPry => plateau_chart::draw_fisher_pry(&area, input, k),
+            _ => plateau_chart::draw(kind, &area, input),
+        })
+        .map_err(|e| JsError::new(&e.to_string()))?;
         area.present().map_err(|e| JsError::new(&e.to_string()))
     }
 
@@ -123,9 +173,18 @@ impl Workbench {
             })
             .map_err(|e| JsError::new(&e.to_string()));
         }
+        if chart == DRIFT {
+            let analysis = self.analysis()?;
+            return with_drift_input(analysis, |input| {
+                plateau_chart::render_drift_svg(&analysis.drift, input, width, height)
+            })
+            .map_err(|e| JsError::new(&e.to_string()));
+        }
         let (analysis, kind) = self.target(chart)?;
-        with_input(analysis, |input| {
-            plateau_chart::render_svg(kind, input, width, height)
+        let k = analysis.settings.fisher_pry_k;
+        with_input(analysis, |input| match kind {
+            ChartKind::FisherPry => plateau_chart::render_fisher_pry_svg(input, k, width, height),
+            _ => plateau_chart::render_svg(kind, input, width, height),
         })
         .map_err(|e| JsError::new(&e.to_string()))
     }
@@ -134,6 +193,12 @@ impl Workbench {
     #[wasm_bindgen(js_name = reportJson)]
     pub fn report_json(&self) -> Result<String, JsError> {
         Ok(self.analysis()?.report_json())
+    }
+
+    /// The checks as JSON, the schema of `plateau diagnose --json`.
+    #[wasm_bindgen(js_name = diagnoseJson)]
+    pub fn diagnose_json(&self) -> Result<String, JsError> {
+        Ok(self.analysis()?.diagnose_json())
     }
 
     /// With several series: the summary table as CSV (`plateau batch --csv`'s shape).
@@ -211,6 +276,23 @@ pub fn with_input<T>(a: &Analysis, f: impl FnOnce(&ChartInput) -> T) -> T {
         format_time: &format_time,
         time_caption: &a.series.time_name,
         value_caption: &value_caption,
+    };
+    f(&input)
+}
+
+/// The drift chart's name on the page (it is not a [`ChartKind`]: it draws
+/// the prefix refits, not the fit).
+const DRIFT: &str = "drift";
+
+/// Builds the drift chart's input from an analysis.
+pub fn with_drift_input<T>(a: &Analysis, f: impl FnOnce(&plateau_chart::DriftInput) -> T) -> T {
+    let kind = a.series.time_kind;
+    let format_time = move |t: f64| kind.format(t);
+    let input = plateau_chart::DriftInput {
+        format_time: &format_time,
+        time_caption: &a.series.time_name,
+        value_caption: &a.series.value_name,
+        model: a.fit.model,
     };
     f(&input)
 }

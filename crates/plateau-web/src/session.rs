@@ -7,12 +7,16 @@
 //! to the error.
 
 use plateau_core::analysis;
-use plateau_core::compare::compare;
+use plateau_core::bootstrap::{Bootstrap, BootstrapOptions, Resampling, DEFAULT_SEED};
+use plateau_core::compare::{compare, nested_tests, recommend};
 use plateau_core::data::{
     column_count, cumulate, decline_warning, parse_multi, ColumnRef, DataError, Layout,
     MultiOptions, TimeKind,
 };
+use plateau_core::diagnostics::{self, Verdict};
+use plateau_core::drift::{drift_sampled, DriftRow};
 use plateau_core::fit::{fit_xy, Fit, FitOptions};
+use plateau_core::milestones::{self, Assessment, Target};
 use plateau_core::report::{FitReport, CAUTION};
 use plateau_core::summary::{summary_csv, SeriesSummary};
 use plateau_core::{parse_series, Model, ParseOptions, Series, Warning};
@@ -58,6 +62,16 @@ pub struct Settings {
     pub layout: Option<String>,
     /// With several series: which one the detailed results show (0-based).
     pub series: Option<usize>,
+    /// K for the Fisher–Pry view; `None` uses the fitted K.
+    pub fisher_pry_k: Option<f64>,
+    /// Whether bootstrap intervals are computed (in slices, after each update).
+    pub bootstrap: bool,
+    /// `residual` or `parametric`.
+    pub resampling: String,
+    /// Bootstrap replicates B.
+    pub replicates: usize,
+    /// Seed of the bootstrap's random numbers.
+    pub seed: u64,
 }
 
 impl Default for Settings {
@@ -73,6 +87,11 @@ impl Default for Settings {
             level: None,
             layout: None,
             series: None,
+            fisher_pry_k: None,
+            bootstrap: false,
+            resampling: "residual".into(),
+            replicates: plateau_core::bootstrap::DEFAULT_REPLICATES,
+            seed: DEFAULT_SEED,
         }
     }
 }
@@ -119,6 +138,8 @@ pub struct Analysis {
     pub view: View,
     /// End of the forecast on the time axis.
     pub horizon_end: f64,
+    /// The fit refitted on prefixes of the data (at most [`DRIFT_ROWS`]).
+    pub drift: Vec<DriftRow>,
     /// Every series, when the text held several.
     pub multi: Option<Multi>,
 }
@@ -145,6 +166,9 @@ pub struct MultiView {
     /// One row per series, in input order (the shape of `plateau batch --json`).
     pub summary: Vec<SeriesSummary>,
 }
+
+/// Prefixes the page refits for its drift chart, at most.
+pub const DRIFT_ROWS: usize = 120;
 
 /// The page's numbers, ready to show. Times come both as axis values and as
 /// display text (dates when the input had dates).
@@ -173,6 +197,16 @@ pub struct View {
     pub duration_10_90: Option<f64>,
     pub symmetry: Option<SymmetryRow>,
     pub comparison: Vec<CompareRow>,
+    /// The residual diagnostics of the chosen fit.
+    pub diagnostics: DiagnosticsRow,
+    /// Logistic against Richards (likelihood ratio) and Gompertz (ΔAICc).
+    pub symmetry_test: Option<diagnostics::SymmetryTest>,
+    /// The Fisher–Pry check for the entered K, else the fitted K.
+    pub fisher_pry: Option<FisherPryRow>,
+    /// Likelihood-ratio tests of the nested pairs.
+    pub lr_tests: Vec<plateau_core::compare::LrTest>,
+    /// Which model to use and why.
+    pub recommendation: plateau_core::compare::Recommendation,
     pub caution: &'static str,
     pub time_unit: &'static str,
     /// Present when the text held several series.
@@ -211,11 +245,36 @@ pub struct Stats {
 #[serde(rename_all = "camelCase")]
 pub struct MilestoneRow {
     pub label: String,
-    pub time: f64,
+    /// Axis value (or duration); `None` when the milestone has no time.
+    pub time: Option<f64>,
+    /// The time as text, or what stands in its place ("not reached", …).
     pub time_text: String,
+    /// Delta-method 95% interval as text.
     pub ci95_text: Option<[String; 2]>,
+    /// Bootstrap 95% percentile interval as text (an open end reads
+    /// "never"); `None` until a bootstrap has run.
+    pub bootstrap_text: Option<[String; 2]>,
     /// Whether the milestone lies past the last observation (a forecast).
     pub forecast: bool,
+    /// `milestones::Verdict` code.
+    pub verdict: &'static str,
+    pub note: String,
+}
+
+/// Bootstrap results for the page: progress, then intervals.
+#[derive(Debug, Clone, Serialize, PartialEq)]
+#[serde(rename_all = "camelCase")]
+pub struct BootstrapView {
+    pub done: usize,
+    pub replicates: usize,
+    pub failed: usize,
+    pub seed: u64,
+    pub resampling: &'static str,
+    pub finished: bool,
+    /// Per parameter (model order): the percentile interval, `None` for
+    /// fixed parameters.
+    pub params: Vec<Option<[f64; 2]>>,
+    pub milestones: Vec<MilestoneRow>,
 }
 
 #[derive(Debug, Clone, Serialize, PartialEq)]
@@ -226,11 +285,38 @@ pub struct SymmetryRow {
     pub meaning: &'static str,
 }
 
+/// The residual diagnostics as the page shows them (the Q-Q points are
+/// drawn in Rust and not sent).
+#[derive(Debug, Clone, Serialize, PartialEq)]
+#[serde(rename_all = "camelCase")]
+pub struct DiagnosticsRow {
+    pub n: usize,
+    pub runs: Option<usize>,
+    pub runs_expected: Option<f64>,
+    pub runs_p: Option<f64>,
+    pub durbin_watson: Option<f64>,
+    pub lag1_autocorrelation: Option<f64>,
+    pub qq_correlation: Option<f64>,
+    pub jarque_bera_p: Option<f64>,
+    pub verdicts: Vec<Verdict>,
+}
+
+#[derive(Debug, Clone, Serialize, PartialEq)]
+#[serde(rename_all = "camelCase")]
+pub struct FisherPryRow {
+    pub k: f64,
+    /// Whether K was entered (else it is the fitted K).
+    pub entered: bool,
+    pub curvature_p: Option<f64>,
+    pub verdict: Verdict,
+}
+
 #[derive(Debug, Clone, Serialize, PartialEq)]
 #[serde(rename_all = "camelCase")]
 pub struct CompareRow {
     pub model: &'static str,
     pub aicc: Option<f64>,
+    pub bic: Option<f64>,
     pub delta_aicc: Option<f64>,
     pub weight: Option<f64>,
     pub k: Option<f64>,
@@ -441,41 +527,8 @@ fn analyse_series(
         })
         .collect();
 
-    let mut milestones = Vec::new();
-    let mut push = |label: String, m: Option<analysis::Milestone>| {
-        if let Some(m) = m {
-            milestones.push(MilestoneRow {
-                label,
-                time: m.time,
-                time_text: fmt_t(m.time),
-                ci95_text: m.ci95.map(|(a, b)| [fmt_t(a), fmt_t(b)]),
-                forecast: m.time > t_max,
-            });
-        }
-    };
-    if model.saturates() {
-        for p in [10.0, 50.0, 90.0] {
-            push(
-                format!("{p:.0}% of K"),
-                analysis::time_at_fraction(&fit, p / 100.0),
-            );
-        }
-        if settings.share > 0.0
-            && settings.share < 100.0
-            && ![10.0, 50.0, 90.0].contains(&settings.share)
-        {
-            push(
-                format!("{}% of K", trim_number(settings.share)),
-                analysis::time_at_fraction(&fit, settings.share / 100.0),
-            );
-        }
-    }
-    if let Some(level) = settings.level.filter(|l| l.is_finite()) {
-        push(
-            format!("level {}", trim_number(level)),
-            analysis::time_at_level(&fit, level),
-        );
-    }
+    let (t_min, _) = range(&series.times);
+    let milestones = milestone_rows(&fit, settings, t_min, t_max, None, &fmt_t);
 
     let symmetry = analysis::symmetry(&fit, &series.times, &values).map(|s| SymmetryRow {
         rms_ratio: s.rms_ratio,
@@ -486,6 +539,7 @@ fn analyse_series(
         .map(|e| CompareRow {
             model: e.model.name(),
             aicc: e.result.as_ref().ok().map(|f| f.aicc),
+            bic: e.result.as_ref().ok().map(|f| f.bic),
             delta_aicc: e.delta_aicc,
             weight: e.akaike_weight,
             k: e.result
@@ -496,6 +550,45 @@ fn analyse_series(
             error: e.result.as_ref().err().map(|err| err.to_string()),
         })
         .collect();
+
+    let diag = diagnostics::residual_diagnostics(&fit, &series.times, &values);
+    let diagnostics_row = DiagnosticsRow {
+        n: diag.n,
+        runs: diag.runs.as_ref().map(|r| r.runs),
+        runs_expected: diag.runs.as_ref().map(|r| r.expected),
+        runs_p: diag.runs.as_ref().map(|r| r.p_value),
+        durbin_watson: diag.durbin_watson,
+        lag1_autocorrelation: diag.lag1_autocorrelation,
+        qq_correlation: diag.qq.as_ref().map(|q| q.correlation),
+        jarque_bera_p: diag.jarque_bera.map(|j| j.p_value),
+        verdicts: diag.verdicts,
+    };
+    let fitted_of = |m: Model| {
+        entries
+            .iter()
+            .find(|e| e.model == m)
+            .and_then(|e| e.result.as_ref().ok())
+    };
+    let symmetry_test = fitted_of(Model::Logistic).map(|l| {
+        diagnostics::symmetry_test_of(l, fitted_of(Model::Richards), fitted_of(Model::Gompertz))
+    });
+    if let Some(k) = settings.fisher_pry_k {
+        if !(k.is_finite() && k > 0.0) {
+            return Err(setting_error("Fisher–Pry K: expected a positive number"));
+        }
+    }
+    let fisher_pry = settings
+        .fisher_pry_k
+        .or_else(|| fit.param("K").map(|p| p.estimate))
+        .and_then(|k| diagnostics::fisher_pry(&series.times, &values, k))
+        .map(|f| FisherPryRow {
+            k: f.k,
+            entered: settings.fisher_pry_k.is_some(),
+            curvature_p: f.curvature_p,
+            verdict: f.verdict,
+        });
+    let lr_tests = nested_tests(&entries);
+    let recommendation = recommend(&entries, &series.times, &values);
 
     let view = View {
         model: model.name(),
@@ -532,11 +625,17 @@ fn analyse_series(
         duration_10_90: analysis::duration_10_90(&fit).map(|m| m.time),
         symmetry,
         comparison,
+        diagnostics: diagnostics_row,
+        symmetry_test,
+        fisher_pry,
+        lr_tests,
+        recommendation,
         caution: CAUTION,
         time_unit: kind.unit(),
         multi: None,
         layout: "single",
     };
+    let drift = drift_sampled(&series.times, &values, model, &fit_opts, DRIFT_ROWS);
     Ok(Analysis {
         settings: settings.clone(),
         series,
@@ -545,7 +644,142 @@ fn analyse_series(
         view,
         horizon_end,
         multi: None,
+        drift,
     })
+}
+
+/// Milestones the page shows: 10%, 50%, 90% of K, the chosen share and
+/// level, and the 10→90 duration, each with its verdict.
+fn milestone_rows(
+    fit: &Fit,
+    settings: &Settings,
+    t_first: f64,
+    t_last: f64,
+    boot: Option<&Bootstrap>,
+    fmt_t: &dyn Fn(f64) -> String,
+) -> Vec<MilestoneRow> {
+    let share = settings.share / 100.0;
+    let shares: Vec<f64> = (share > 0.0 && share < 1.0)
+        .then_some(share)
+        .into_iter()
+        .collect();
+    let levels: Vec<f64> = settings
+        .level
+        .filter(|l| l.is_finite())
+        .into_iter()
+        .collect();
+    milestones::standard_targets(fit.model, &shares, &levels)
+        .into_iter()
+        .map(|t| milestones::assess(fit, t, t_first, t_last, boot))
+        .map(|a| milestone_row(&a, fmt_t))
+        .collect()
+}
+
+fn milestone_row(a: &Assessment, fmt_t: &dyn Fn(f64) -> String) -> MilestoneRow {
+    let duration = a.target == Target::Duration1090;
+    let show = a.verdict.shows_time();
+    // Durations are lengths of time (years on calendar axes), not dates.
+    let text = |t: f64| {
+        if duration {
+            trim4(t)
+        } else {
+            fmt_t(t)
+        }
+    };
+    let time_text = match (a.estimate, show) {
+        (Some(t), true) => text(t),
+        _ => match a.verdict {
+            milestones::Verdict::TooFar => "beyond what the data can say".to_string(),
+            milestones::Verdict::NotApplicable => "not applicable".to_string(),
+            _ => "not reached".to_string(),
+        },
+    };
+    MilestoneRow {
+        label: a.target.label(),
+        time: a.estimate,
+        time_text,
+        ci95_text: a.delta.filter(|_| show).map(|(lo, hi)| {
+            let open = a.verdict == milestones::Verdict::MayNeverBeReached;
+            [text(lo), if open { "never".into() } else { text(hi) }]
+        }),
+        bootstrap_text: a.bootstrap.filter(|_| show).map(|q| {
+            [
+                q.lo.map_or("–".into(), text),
+                q.hi.map_or("never".into(), text),
+            ]
+        }),
+        forecast: !duration && a.verdict == milestones::Verdict::Forecast,
+        verdict: a.verdict.as_str(),
+        note: a.note.clone(),
+    }
+}
+
+/// A duration to four decimals, without trailing zeros.
+fn trim4(x: f64) -> String {
+    format!("{}", (x * 1e4).round() / 1e4)
+}
+
+/// Starts a bootstrap of `a`'s fit with `a`'s settings.
+pub fn start_bootstrap(a: &Analysis) -> Result<Bootstrap, UpdateError> {
+    let resampling = Resampling::from_name(&a.settings.resampling).ok_or_else(|| {
+        setting_error(format!(
+            "bootstrap: expected residual or parametric resampling, found {:?}",
+            a.settings.resampling
+        ))
+    })?;
+    if a.settings.replicates == 0 || a.settings.replicates > 100_000 {
+        return Err(setting_error(
+            "bootstrap: expected from 1 to 100000 replicates",
+        ));
+    }
+    Bootstrap::new(
+        &a.fit,
+        &a.series.times,
+        &a.values,
+        &BootstrapOptions {
+            resampling,
+            replicates: a.settings.replicates,
+            seed: a.settings.seed,
+        },
+    )
+    .map_err(|e| setting_error(format!("bootstrap: {e}")))
+}
+
+/// The bootstrap's progress and, once it has replicates, its intervals.
+pub fn bootstrap_view(a: &Analysis, b: &Bootstrap) -> BootstrapView {
+    let kind = a.series.time_kind;
+    let fmt_t = |t: f64| match kind {
+        TimeKind::Month | TimeKind::Quarter => TimeKind::Date.format(t),
+        _ => kind.format(t),
+    };
+    let (t_min, t_max) = range(&a.series.times);
+    let finished = b.is_finished();
+    let o = b.options();
+    BootstrapView {
+        done: b.done(),
+        replicates: o.replicates,
+        failed: b.failed(),
+        seed: o.seed,
+        resampling: o.resampling.name(),
+        finished,
+        params: a
+            .fit
+            .params
+            .iter()
+            .enumerate()
+            .map(|(j, p)| {
+                (!p.fixed && finished)
+                    .then(|| b.param_interval(j, 0.95))
+                    .flatten()
+                    .map(|(x, y)| [x, y])
+            })
+            .collect(),
+        milestones: if finished {
+            milestone_rows(&a.fit, &a.settings, t_min, t_max, Some(b), &fmt_t)
+        } else {
+            Vec::new()
+        },
+    }
 }
 
 fn range(t: &[f64]) -> (f64, f64) {
@@ -571,11 +805,6 @@ pub fn typical_step(t: &[f64]) -> f64 {
     d[d.len() / 2]
 }
 
-/// `95` rather than `95.0`, `1000000` rather than `1e6`.
-fn trim_number(x: f64) -> String {
-    format!("{x}")
-}
-
 impl Analysis {
     /// `plateau fit --json`'s report for this fit.
     pub fn report_json(&self) -> String {
@@ -587,6 +816,26 @@ impl Analysis {
     /// --csv`); `None` for a single series.
     pub fn summary_csv(&self) -> Option<String> {
         self.multi.as_ref().map(|m| summary_csv(&m.summary))
+    }
+
+    /// `plateau diagnose --json`'s report for this fit: residual
+    /// diagnostics, the symmetry test and the Fisher–Pry check (entered K,
+    /// else the fitted K).
+    pub fn diagnose_json(&self) -> String {
+        let (t, y) = (&self.series.times, &self.values);
+        let fisher_pry = self
+            .settings
+            .fisher_pry_k
+            .or_else(|| self.fit.param("K").map(|p| p.estimate))
+            .and_then(|k| diagnostics::fisher_pry(t, y, k));
+        let report = plateau_core::report::DiagnoseReport::new(
+            &self.fit,
+            &self.series.warnings,
+            diagnostics::residual_diagnostics(&self.fit, t, y),
+            self.view.symmetry_test.clone(),
+            fisher_pry,
+        );
+        serde_json::to_string_pretty(&report).unwrap_or_else(|e| format!("{{\"error\":\"{e}\"}}"))
     }
 
     /// One row per observation (time, observed, fitted, 95% band), then one

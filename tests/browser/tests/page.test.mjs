@@ -190,7 +190,7 @@ test("every chart downloads as PNG and as SVG", async () => {
   };
   // The several-series overlay is hidden for a single series (its own test covers it).
   const charts = await page.$$eval("canvas.chart", (cs) => cs.filter((c) => !c.closest("[hidden]")).map((c) => c.dataset.chart));
-  assert.equal(charts.length, 5, charts.join());
+  assert.equal(charts.length, 8, charts.join());
   for (const chart of charts) {
     const png = await grab(`button[data-png="${chart}"]`);
     assert.deepEqual([...png.subarray(0, 4)], [0x89, 0x50, 0x4e, 0x47], `${chart} PNG signature`);
@@ -215,7 +215,7 @@ test("charts are drawn at the device pixel ratio and are not blank", async () =>
     }
     return { id: c.id, width: c.width, css: c.clientWidth, height: c.height, cssH: c.clientHeight, inked: inked / (c.width * c.height) };
   }));
-  assert.equal(charts.length, 5);
+  assert.equal(charts.length, 6);
   for (const c of charts) {
     assert.equal(c.width, Math.round(c.css * 2), `${c.id} width`);
     assert.equal(c.height, Math.round(c.cssH * 2), `${c.id} height`);

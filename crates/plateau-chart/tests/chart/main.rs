@@ -4,8 +4,8 @@
 //! or a chart but never to panic.
 
 use plateau_chart::{
-    draw, format_value, linearise, plain_time, render_svg, ChartError, ChartInput, ChartKind,
-    NOT_AVAILABLE_EXPONENTIAL,
+    draw, format_value, linearise, plain_time, render_fisher_pry_svg, render_svg, ChartError,
+    ChartInput, ChartKind, NOT_AVAILABLE_EXPONENTIAL,
 };
 use plateau_core::analysis::symmetry;
 use plateau_core::fit::{fit_xy, Fit, FitOptions};
@@ -108,6 +108,7 @@ fn curve_chart_has_points_k_label_and_legend() {
             &format!("fitted {name}"),
             "forecast",
             "95% confidence band",
+            "95% prediction band (new observation)",
             "observed",
             "year",
             "users",
@@ -121,8 +122,8 @@ fn curve_chart_has_points_k_label_and_legend() {
             "inflection (t0, f(t0))"
         };
         assert!(svg.contains(marker));
-        // The band is one polygon.
-        assert!(count(&svg, "<polygon") >= 1);
+        // The confidence and the prediction band are one polygon each.
+        assert!(count(&svg, "<polygon") >= 2);
     }
 }
 
@@ -347,7 +348,15 @@ fn chart_names_include_the_new_views() {
     let names: Vec<&str> = ChartKind::ALL.iter().map(|k| k.name()).collect();
     assert_eq!(
         names,
-        ["curve", "residuals", "symmetry", "linear", "rate"],
+        [
+            "curve",
+            "residuals",
+            "symmetry",
+            "linear",
+            "rate",
+            "qq",
+            "fisher-pry"
+        ],
         "names the page looks charts up by"
     );
 }
@@ -540,6 +549,89 @@ fn degenerate_inputs_to_the_new_views_never_panic() {
     let svg = render_text(ChartKind::Linear, &inputs[2].1);
     assert!(svg.contains("4 points outside the transform's range are not shown"));
     assert_eq!(count(&svg, "<circle"), 1, "only the legend sample");
+}
+
+/// The Q-Q chart: one marker per residual (plus the legend's), its
+/// theoretical quantiles symmetric about zero, and the correlation printed.
+#[test]
+fn qq_chart_has_one_marker_per_residual_and_the_verdict() {
+    for case in [logistic(), gompertz(), exponential()] {
+        let svg = render_text(ChartKind::Qq, &case.input());
+        let name = case.fit.model.name();
+        assert_eq!(count(&svg, "<circle"), case.t.len() + 1, "{name}");
+        for text in [
+            "normal Q-Q plot",
+            "standard normal quantile",
+            "Q-Q correlation",
+            "least-squares line",
+        ] {
+            assert!(svg.contains(text), "{name}: missing {text:?}");
+        }
+        assert!(
+            svg.contains("Jarque–Bera") || svg.contains("too few"),
+            "{name}"
+        );
+    }
+}
+
+/// The Fisher–Pry chart with an entered K: logistic data with their true K
+/// read as straight, the same data with K set 40% too high as curved (an
+/// analytic fact of the transform: K too high bends the late points down).
+#[test]
+fn fisher_pry_chart_with_an_entered_k() {
+    let case = logistic();
+    let svg = render_fisher_pry_svg(&case.input(), Some(2.5e6), W, H)
+        .unwrap()
+        .replace("&apos;", "'");
+    assert!(svg.contains("Fisher–Pry view, K = 2.5M (entered)"), "{svg}");
+    assert!(svg.contains("straight line"), "logistic data, true K");
+    let svg = render_fisher_pry_svg(&case.input(), Some(3.5e6), W, H).unwrap();
+    assert!(svg.contains("bend downward"), "K too high");
+    // Through the dispatcher: the fitted K.
+    let svg = render_text(ChartKind::FisherPry, &case.input());
+    assert!(svg.contains("(fitted)"));
+    // K below the data: the dropped points are counted.
+    let svg = render_fisher_pry_svg(&case.input(), Some(1.5e6), W, H).unwrap();
+    assert!(
+        svg.contains("outside 0 &lt; y &lt; K not shown")
+            || svg.contains("outside 0 < y < K not shown")
+    );
+    // The exponential has no K: a message, unless one is entered.
+    let exp = exponential();
+    let svg = render_text(ChartKind::FisherPry, &exp.input());
+    assert!(svg.contains("needs a saturation level K"));
+}
+
+#[test]
+fn drift_chart_shows_one_marker_and_bar_per_prefix() {
+    use plateau_chart::{render_drift_svg, DriftInput};
+    use plateau_core::drift::drift;
+    let case = logistic();
+    let rows = drift(&case.t, &case.y, Model::Logistic, &FitOptions::default());
+    let input = DriftInput {
+        format_time: &plain_time,
+        time_caption: "year",
+        value_caption: "users",
+        model: Model::Logistic,
+    };
+    let svg = render_drift_svg(&rows, &input, W, H).expect("render");
+    let fitted = rows.iter().filter(|r| r.result.is_ok()).count();
+    // One circle per fitted prefix plus the legend's sample.
+    assert_eq!(count(&svg, "<circle"), fitted + 1);
+    let k = case.fit.param("K").unwrap().estimate;
+    for text in [
+        "K as the data arrived (logistic)",
+        "95% interval",
+        &format!("all data: K = {}", format_value(k)) as &str,
+        "cutoff: last year used",
+        "K (users)",
+    ] {
+        assert!(svg.contains(text), "missing {text:?}");
+    }
+    // Too few rows: a message, not a panic.
+    let svg = render_drift_svg(&rows[..1], &input, W, H).unwrap();
+    assert!(svg.contains("Too few prefixes"));
+    assert!(render_drift_svg(&rows, &input, 1, 1).is_err());
 }
 
 /// Several logistic series with different K, r and t0: normalised by

@@ -161,8 +161,116 @@ fn fixed_k_is_reported_as_fixed() {
     ));
     assert_eq!(v["params"]["K"]["estimate"], 8000.0);
     assert_eq!(v["params"]["K"]["fixed"], true);
-    assert!(v["params"]["K"]["std_error"].is_null());
+    // Nothing is propagated for a fixed parameter.
+    for field in ["std_error", "ci95", "ci_method", "ci95_asymptotic"] {
+        assert!(v["params"]["K"][field].is_null(), "{field}");
+    }
     assert_eq!(v["dof"], v["n"].as_u64().unwrap() - 2);
+    // The rest is fitted and has intervals.
+    for p in ["r", "t0"] {
+        assert_eq!(v["params"][p]["fixed"], false);
+        assert_eq!(v["params"][p]["ci_method"], "profile");
+        assert!(v["params"][p]["ci95"][0].as_f64().is_some());
+    }
+}
+
+#[test]
+fn intervals_are_profile_by_default_with_the_asymptotic_kept() {
+    let v = json(&plateau(
+        &["fit", &demo("aldermoor_subscribers.csv"), "--json"],
+        None,
+    ));
+    assert_eq!(v["error_model"], "additive");
+    assert_eq!(v["increments"], false);
+    for p in ["K", "r", "t0"] {
+        assert_eq!(v["params"][p]["ci_method"], "profile");
+        assert_eq!(v["params"][p]["identified"], true);
+        let asym = v["params"][p]["ci95_asymptotic"].as_array().unwrap();
+        let est = v["params"][p]["estimate"].as_f64().unwrap();
+        let se = v["params"][p]["std_error"].as_f64().unwrap();
+        // The asymptotic interval is symmetric: estimate ± t·se.
+        let lo = asym[0].as_f64().unwrap();
+        let hi = asym[1].as_f64().unwrap();
+        assert!(((est - lo) - (hi - est)).abs() < 1e-9 * se);
+    }
+    let asym = json(&plateau(
+        &[
+            "fit",
+            &demo("aldermoor_subscribers.csv"),
+            "--intervals",
+            "asymptotic",
+            "--json",
+        ],
+        None,
+    ));
+    assert_eq!(asym["params"]["K"]["ci_method"], "asymptotic");
+    assert_eq!(
+        asym["params"]["K"]["ci95"],
+        v["params"]["K"]["ci95_asymptotic"]
+    );
+}
+
+/// A series that ends far before its inflection (values of 10·e^(0.3 t),
+/// the early part of a logistic with K ≫ 200): K gets no upper bound.
+#[test]
+fn early_series_gives_an_open_k_interval_and_the_warning() {
+    let text =
+        "t,y\n0,10.1\n1,13.4\n2,18.3\n3,24.5\n4,33.2\n5,44.9\n6,60.4\n7,81.7\n8,110.0\n9,148.9\n";
+    let v = json(&plateau(&["fit", "-", "--json"], Some(text)));
+    let codes: Vec<&str> = v["warnings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|w| w["code"].as_str().unwrap())
+        .collect();
+    assert!(codes.contains(&"saturation_not_identified"), "{codes:?}");
+    let k = &v["params"]["K"];
+    assert_eq!(k["identified"], false);
+    assert!(k["ci95"][1].is_null(), "{k}");
+    assert!(k["ci95_asymptotic"].is_null());
+    let table = plateau(&["fit", "-"], Some(text));
+    let out = String::from_utf8_lossy(&table.stdout);
+    assert!(out.contains("K ≥ "), "{out}");
+    assert!(out.contains("NOT DETERMINED"), "{out}");
+}
+
+#[test]
+fn error_models_and_increments_are_reported() {
+    let path = demo("weekly_signups.csv");
+    let v = json(&plateau(
+        &[
+            "fit",
+            &path,
+            "--per-period",
+            "--increments",
+            "--errors",
+            "count",
+            "--json",
+        ],
+        None,
+    ));
+    assert_eq!(v["error_model"], "count");
+    assert_eq!(v["increments"], true);
+    // 52 weekly rows give 51 differences; fitted values stay one per row.
+    assert_eq!(v["n"], 51);
+    assert_eq!(v["fitted"].as_array().unwrap().len(), 52);
+    for e in ["additive", "relative", "log"] {
+        let w = json(&plateau(
+            &["fit", &path, "--per-period", "--errors", e, "--json"],
+            None,
+        ));
+        assert_eq!(w["error_model"], e);
+    }
+    let bad = plateau(&["fit", &path, "--errors", "poisson"], None);
+    assert_eq!(bad.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&bad.stderr).contains("--errors"));
+    // The log scale needs positive values: a zero is named, not dropped.
+    let zero = plateau(
+        &["fit", "-", "--errors", "log"],
+        Some("t,y\n1,0\n2,3\n3,8\n4,15\n5,20\n6,22\n"),
+    );
+    assert_eq!(zero.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&zero.stderr).contains("time 1"));
 }
 
 /// Akaike weights as defined by Burnham & Anderson (2002, §2.9): ranked by
@@ -235,6 +343,302 @@ fn per_period_counts_are_summed_before_fitting() {
     let b = json(&plateau(&["fit", "-", "--json"], Some(&cumulative)));
     assert_eq!(a["params"], b["params"]);
     assert_eq!(a["fitted"], b["fitted"]);
+}
+
+/// `plateau diagnose --json`: the diagnostics, the symmetry test and the
+/// verdicts. On the Gompertz demo file (demo-data/README.md) a logistic fit
+/// must be read as streaky and asymmetric with the late phase slower; on a
+/// logistic file with its true K (12000) the Fisher–Pry points must read as
+/// straight, and with K = 14000 as curved.
+#[test]
+fn diagnose_json_reads_the_generating_shape() {
+    let v = json(&plateau(
+        &["diagnose", &demo("harrow_fields_capacity.csv"), "--json"],
+        None,
+    ));
+    for key in [
+        "fit",
+        "residuals",
+        "symmetry_test",
+        "fisher_pry",
+        "verdicts",
+        "caution",
+    ] {
+        assert!(v.get(key).is_some(), "missing {key}");
+    }
+    let r = &v["residuals"];
+    assert!(r["durbin_watson"].as_f64().unwrap() < 1.5);
+    assert!(r["runs"]["p_value"].as_f64().unwrap() < 0.05);
+    assert_eq!(r["qq"]["points"].as_array().unwrap().len(), 36);
+    let s = &v["symmetry_test"];
+    assert_eq!(s["asymmetric"], true);
+    assert_eq!(s["direction"], "late_slower");
+    let codes: Vec<&str> = v["verdicts"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|x| x["code"].as_str().unwrap())
+        .collect();
+    assert!(
+        codes.contains(&"runs_streaks") && codes.contains(&"asymmetric"),
+        "{codes:?}"
+    );
+
+    let k = |k: &str| {
+        json(&plateau(
+            &[
+                "diagnose",
+                &demo("aldermoor_subscribers.csv"),
+                "--json",
+                "--fisher-pry-k",
+                k,
+            ],
+            None,
+        ))
+    };
+    assert_eq!(k("12000")["fisher_pry"]["verdict"]["code"], "straight");
+    assert_eq!(k("14000")["fisher_pry"]["verdict"]["code"], "curved");
+    assert_eq!(k("14000")["fisher_pry"]["k"], 14000.0);
+}
+
+#[test]
+fn diagnose_table_svgs_and_bad_k() {
+    let dir = std::env::temp_dir().join(format!("plateau-diag-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let qq = dir.join("qq.svg");
+    let fp = dir.join("fp.svg");
+    let out = plateau(
+        &[
+            "diagnose",
+            &demo("aldermoor_subscribers.csv"),
+            "--qq-svg",
+            qq.to_str().unwrap(),
+            "--fisher-pry-svg",
+            fp.to_str().unwrap(),
+            "--fisher-pry-k",
+            "13000",
+        ],
+        None,
+    );
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let text = String::from_utf8(out.stdout).unwrap();
+    for needle in [
+        "runs test",
+        "Durbin-Watson",
+        "verdicts",
+        "Fisher-Pry, K = 13000 (entered)",
+        "Caution:",
+    ] {
+        assert!(text.contains(needle), "missing {needle:?}:\n{text}");
+    }
+    assert!(std::fs::read_to_string(&qq)
+        .unwrap()
+        .contains("normal Q-Q plot"));
+    assert!(std::fs::read_to_string(&fp).unwrap().contains("(entered)"));
+    let _ = std::fs::remove_dir_all(&dir);
+    let out = plateau(
+        &[
+            "diagnose",
+            &demo("aldermoor_subscribers.csv"),
+            "--fisher-pry-k=0",
+        ],
+        None,
+    );
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("--fisher-pry-k"));
+}
+
+/// `plateau compare --json` carries BIC, the likelihood-ratio tests and a
+/// recommendation with reasons; on the logistic4 demo file
+/// (demo-data/README.md) it recommends logistic4.
+#[test]
+fn compare_json_has_lr_tests_and_a_recommendation() {
+    let v = json(&plateau(
+        &["compare", &demo("tariff_share_monthly.csv"), "--json"],
+        None,
+    ));
+    let rows = v["models"].as_array().unwrap();
+    assert!(rows
+        .iter()
+        .all(|r| r.get("bic").is_some() && r.get("delta_bic").is_some()));
+    let lr = v["lr_tests"].as_array().unwrap();
+    assert_eq!(lr.len(), 2);
+    assert_eq!(lr[0]["nested"], "logistic");
+    assert!(lr[0]["p_value"].as_f64().unwrap() < 0.05);
+    assert_eq!(v["recommendation"]["model"], "logistic4");
+    assert!(v["recommendation"]["reasons"].as_array().unwrap().len() >= 3);
+    let out = plateau(&["compare", &demo("tariff_share_monthly.csv")], None);
+    let text = String::from_utf8(out.stdout).unwrap();
+    assert!(text.contains("recommendation: logistic4") && text.contains("likelihood-ratio tests"));
+}
+
+#[test]
+fn forecast_json_has_bands_milestones_and_a_reproducible_bootstrap() {
+    let file = demo("fenwick_vale_subscribers.csv");
+    let args = [
+        "forecast",
+        &file,
+        "--until",
+        "50",
+        "--bootstrap",
+        "200",
+        "--seed",
+        "5",
+        "--level",
+        "9000",
+        "--share",
+        "75",
+        "--json",
+    ];
+    let v = json(&plateau(&args, None));
+    let again = json(&plateau(&args, None));
+    assert_eq!(v, again, "same seed, same report");
+    let b = &v["bootstrap"];
+    assert_eq!(b["replicates"], 200);
+    assert_eq!(b["seed"], 5);
+    assert_eq!(b["resampling"], "residual");
+    assert!(b["failed"].as_u64().unwrap() < 200);
+    // 20 data rows, then the grid 21..=50.
+    let points = v["points"].as_array().unwrap();
+    assert_eq!(points.len(), 20 + 30);
+    assert!(points[0]["observed"].is_number());
+    let last = points.last().unwrap();
+    assert_eq!(last["t"], 50.0);
+    assert!(last["observed"].is_null());
+    for p in points {
+        let c = p["confidence95"].as_array().unwrap();
+        let pr = p["prediction95"].as_array().unwrap();
+        assert!(pr[0].as_f64() < c[0].as_f64() && c[1].as_f64() < pr[1].as_f64());
+        assert!(p["bootstrap95"].is_array());
+    }
+    let ms = v["milestones"].as_array().unwrap();
+    let labels: Vec<&str> = ms.iter().map(|m| m["label"].as_str().unwrap()).collect();
+    assert_eq!(
+        labels,
+        [
+            "10% of K",
+            "50% of K",
+            "90% of K",
+            "75% of K",
+            "level 9000",
+            "10% → 90% of K (duration)"
+        ]
+    );
+    let level = &ms[4];
+    assert_eq!(level["verdict"], "not_reached");
+    assert!(level["time_text"].is_null());
+    // Common practice: 10→90 takes ln(81)/r for the logistic.
+    let r = v["params"]["r"]["estimate"].as_f64().unwrap();
+    let d = ms[5]["estimate"].as_f64().unwrap();
+    assert!((d - 81f64.ln() / r).abs() < 1e-9);
+    assert!(v["params"]["K"]["bootstrap_ci95"].is_array());
+    assert!(v["caution"].as_str().unwrap().contains("extrapolations"));
+
+    // Another seed, other numbers.
+    let mut other = args.to_vec();
+    other[7] = "6";
+    let w = json(&plateau(&other, None));
+    assert_ne!(
+        v["params"]["K"]["bootstrap_ci95"],
+        w["params"]["K"]["bootstrap_ci95"]
+    );
+}
+
+#[test]
+fn forecast_reads_until_in_the_data_time_format_and_refuses_bad_values() {
+    let file = demo("tariff_share_monthly.csv");
+    let v = json(&plateau(
+        &[
+            "forecast",
+            &file,
+            "-m",
+            "logistic4",
+            "--until",
+            "2026-06-01",
+            "--json",
+        ],
+        None,
+    ));
+    assert_eq!(v["until_text"], "2026-06-01");
+    assert!(v["bootstrap"].is_null());
+    let out = plateau(&["forecast", &file, "--until", "2026Q9"], None);
+    assert_eq!(out.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        err.contains("--until") && err.contains("YYYY-MM-DD"),
+        "{err}"
+    );
+    let out = plateau(&["forecast", &file, "--until", "2019-06-01"], None);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("after the last observation"));
+    let out = plateau(&["forecast", &file, "--until", "2030", "--seed", "3"], None);
+    assert_eq!(out.status.code(), Some(2));
+    let out = plateau(
+        &["forecast", &file, "--until", "2030", "--share", "100"],
+        None,
+    );
+    assert_eq!(out.status.code(), Some(2));
+    // Tables for people carry the caution.
+    let out = plateau(
+        &["forecast", &file, "-m", "logistic4", "--until", "2026"],
+        None,
+    );
+    assert!(out.status.success());
+    assert!(String::from_utf8_lossy(&out.stdout).contains("Forecasts are extrapolations"));
+}
+
+#[test]
+fn drift_reports_every_prefix_and_writes_its_chart() {
+    let file = demo("aldermoor_subscribers.csv");
+    let v = json(&plateau(&["drift", &file, "--json"], None));
+    let rows = v["rows"].as_array().unwrap();
+    assert_eq!(rows.len(), 30 - 3);
+    assert_eq!(rows[0]["m"], 4);
+    assert_eq!(rows.last().unwrap()["m"], 30);
+    // The last prefix is all the data: the same K as `plateau fit`.
+    let fit = json(&plateau(&["fit", &file, "--json"], None));
+    let k = rows.last().unwrap()["params"]["K"]["estimate"]
+        .as_f64()
+        .unwrap();
+    let k_fit = fit["params"]["K"]["estimate"].as_f64().unwrap();
+    assert!((k - k_fit).abs() < 1e-6 * k_fit);
+    let dir = std::env::temp_dir().join(format!("plateau-drift-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let svg = dir.join("drift.svg");
+    let out = plateau(&["drift", &file, "--svg", svg.to_str().unwrap()], None);
+    assert!(out.status.success());
+    let text = std::fs::read_to_string(&svg).unwrap();
+    assert!(text.contains("K as the data arrived"));
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn backtest_scores_every_model_by_horizon() {
+    let file = demo("aldermoor_subscribers.csv");
+    let v = json(&plateau(
+        &["backtest", &file, "--horizon", "3", "--json"],
+        None,
+    ));
+    assert_eq!(v["method"], "rolling_origin");
+    let models = v["models"].as_array().unwrap();
+    assert_eq!(models.len(), 5);
+    for m in models {
+        let hs = m["horizons"].as_array().unwrap();
+        assert_eq!(hs.len(), 3);
+        assert_eq!(hs[0]["h"], 1);
+    }
+    let lg = models.iter().find(|m| m["model"] == "logistic").unwrap();
+    // Origins 15..29 (half of 30 to n − 1): 15 one-step forecasts, 13 three-step.
+    assert_eq!(lg["origins"], 15);
+    assert_eq!(lg["horizons"][0]["count"], 15);
+    assert_eq!(lg["horizons"][2]["count"], 13);
+    assert!(lg["horizons"][0]["mae"].as_f64().unwrap() > 0.0);
+    let out = plateau(&["backtest", &file, "--horizon", "0"], None);
+    assert_eq!(out.status.code(), Some(2));
 }
 
 /// JSON Lines of `plateau batch --json`.

@@ -62,6 +62,33 @@ impl TimeKind {
         text.unwrap_or_else(|| format_number(t))
     }
 
+    /// Reads one time written in this kind's format (e.g. a forecast
+    /// horizon `2030-06-30`, `2031Q2` or `48`) and places it on the axis.
+    /// On the calendar axes a plain number is also accepted as a decimal
+    /// year (`2031.5`). The error says what was expected.
+    pub fn parse_time(self, s: &str) -> Result<f64, String> {
+        let text = s.trim();
+        match parse(text, self, Decimal::Point) {
+            Ok(t) => Ok(t),
+            Err(e) => {
+                if self != TimeKind::Number {
+                    if let Ok(t) = parse(text, TimeKind::Number, Decimal::Point) {
+                        return Ok(t);
+                    }
+                }
+                let why = match e {
+                    TimeError::NoSuchTime => "no such time: ",
+                    TimeError::OutOfRange => "out of range: ",
+                    _ => "",
+                };
+                Err(format!(
+                    "{why}expected {} (the data's time format), found {text:?}",
+                    self.expected_form()
+                ))
+            }
+        }
+    }
+
     /// The unit of the axis: `"year"` for dates, months and quarters (a
     /// difference of 1 is one year, so a growth rate is per year), `""` for
     /// plain numbers, whose unit is whatever the input used.

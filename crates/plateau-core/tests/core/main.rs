@@ -1,7 +1,14 @@
 //! Integration tests of the core against outside references: NIST StRD
 //! certified values, analytic facts, known-parameter recovery and scipy.
 
+mod bands;
+mod bootstrap_calibration;
+mod calibration;
+mod diagnostics;
+mod error_models;
 mod multi;
 mod nist;
+mod profile;
 mod recovery;
 mod scipy;
+mod symmetry;

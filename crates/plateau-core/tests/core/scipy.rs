@@ -22,11 +22,11 @@ const PARAM_RTOL: f64 = 1e-6;
 const SE_RTOL: f64 = 1e-4;
 const RSS_RTOL: f64 = 1e-8;
 
-fn root() -> PathBuf {
+pub fn root() -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("../..")
 }
 
-fn decimal_year(iso: &str) -> f64 {
+pub fn decimal_year(iso: &str) -> f64 {
     let date = chrono::NaiveDate::parse_from_str(iso, "%Y-%m-%d")
         .unwrap_or_else(|e| panic!("bad date {iso}: {e}"));
     let year = chrono::Datelike::year(&date);
@@ -39,7 +39,7 @@ fn decimal_year(iso: &str) -> f64 {
 }
 
 /// Two-column demo CSV with a header row; dates or plain numbers in column 1.
-fn load(file: &str, dates: bool) -> (Vec<f64>, Vec<f64>) {
+pub fn load(file: &str, dates: bool) -> (Vec<f64>, Vec<f64>) {
     let path = root().join(file);
     let text = std::fs::read_to_string(&path).unwrap_or_else(|e| panic!("{path:?}: {e}"));
     let mut t = vec![];

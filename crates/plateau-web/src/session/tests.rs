@@ -135,6 +135,116 @@ fn derived_times_on_period_axes_are_shown_as_dates() {
     assert!(lo < hi, "{lo} .. {hi}");
 }
 
+/// The page's diagnostics are the CLI's: the same core calls on the same
+/// data give the same verdicts, symmetry test and recommendation.
+#[test]
+fn diagnostics_match_the_core_and_take_the_entered_k() {
+    let a = demo();
+    let direct =
+        plateau_core::diagnostics::residual_diagnostics(&a.fit, &a.series.times, &a.values);
+    assert_eq!(a.view.diagnostics.verdicts, direct.verdicts);
+    assert_eq!(a.view.diagnostics.durbin_watson, direct.durbin_watson);
+    let sym = plateau_core::diagnostics::symmetry_test(
+        &a.series.times,
+        &a.values,
+        &FitOptions::default(),
+    )
+    .unwrap();
+    let shown = a.view.symmetry_test.as_ref().unwrap();
+    assert_eq!(shown.verdict, sym.verdict);
+    assert_eq!(shown.lr_p_value, sym.lr_p_value);
+    assert!(a.view.recommendation.model.is_some());
+    assert_eq!(a.view.lr_tests.len(), 2);
+    let fp = a.view.fisher_pry.as_ref().unwrap();
+    assert!(!fp.entered);
+    assert_eq!(fp.k, a.fit.param("K").unwrap().estimate);
+
+    let entered = analyse(
+        DEMO_TEXT,
+        &Settings {
+            fisher_pry_k: Some(2.0 * fp.k),
+            ..Settings::default()
+        },
+    )
+    .unwrap();
+    let fp2 = entered.view.fisher_pry.clone().unwrap();
+    assert!(fp2.entered);
+    // K twice the fitted saturation level: the points bend.
+    assert_eq!(fp2.verdict.code, "curved");
+    let bad = analyse(
+        DEMO_TEXT,
+        &Settings {
+            fisher_pry_k: Some(-1.0),
+            ..Settings::default()
+        },
+    )
+    .unwrap_err();
+    assert!(bad.message.contains("Fisher–Pry K"));
+    // The checks export has the CLI's diagnose shape and the entered K.
+    let v: serde_json::Value = serde_json::from_str(&entered.diagnose_json()).unwrap();
+    let mut keys: Vec<&str> = v.as_object().unwrap().keys().map(String::as_str).collect();
+    keys.sort_unstable();
+    let want = [
+        "caution",
+        "fisher_pry",
+        "fit",
+        "residuals",
+        "symmetry_test",
+        "verdicts",
+    ];
+    assert_eq!(keys, want);
+    assert_eq!(v["fisher_pry"]["k"], 2.0 * fp.k);
+}
+
+#[test]
+fn bootstrap_in_slices_gives_the_cli_numbers_and_milestone_intervals() {
+    let a = demo();
+    let mut sliced = start_bootstrap(&a).unwrap();
+    let mut steps = 0;
+    while !sliced.is_finished() {
+        let v = bootstrap_view(&a, &sliced);
+        assert!(!v.finished && v.params.iter().all(Option::is_none));
+        sliced.step(37);
+        steps += 1;
+    }
+    assert_eq!(steps, 1000usize.div_ceil(37));
+    let v = bootstrap_view(&a, &sliced);
+    assert!(v.finished && v.done == 1000 && v.seed == Settings::default().seed);
+    // The same numbers as a bootstrap run at once with the same options
+    // (what `plateau forecast --bootstrap` does).
+    let mut whole = start_bootstrap(&a).unwrap();
+    whole.run();
+    for (j, p) in v.params.iter().enumerate() {
+        let [lo, hi] = p.unwrap();
+        assert_eq!(whole.param_interval(j, 0.95), Some((lo, hi)));
+    }
+    let half = v.milestones.iter().find(|m| m.label == "50% of K").unwrap();
+    assert!(half.bootstrap_text.is_some() && half.ci95_text.is_some());
+}
+
+#[test]
+fn unreachable_levels_say_so_and_drift_rows_are_there() {
+    let a = analyse(
+        DEMO_TEXT,
+        &Settings {
+            level: Some(1e9),
+            ..Settings::default()
+        },
+    )
+    .unwrap();
+    let row = a
+        .view
+        .milestones
+        .iter()
+        .find(|m| m.label == "level 1000000000")
+        .unwrap();
+    assert_eq!(row.verdict, "not_reached");
+    assert_eq!(row.time_text, "not reached");
+    assert!(row.ci95_text.is_none() && row.note.contains("never reaches"));
+    assert!(!a.drift.is_empty() && a.drift.len() <= DRIFT_ROWS);
+    assert_eq!(a.drift.last().unwrap().m, a.series.times.len());
+}
+
 const LONG: &str = include_str!("../../../../demo-data/regional_adoption_long.csv");
 
 #[test]

@@ -1,0 +1,190 @@
+//! `plateau forecast`, `plateau drift` and `plateau backtest`: the runs and
+//! their tables for people (`--json` prints the core's report shapes).
+
+use crate::table::num;
+use plateau_core::bootstrap::Bootstrap;
+use plateau_core::drift::{DriftRow, ModelBacktest};
+use plateau_core::forecast_report::{DriftReport, ForecastReport};
+use plateau_core::report::CAUTION;
+use std::fmt::Write;
+
+fn pair(x: Option<[f64; 2]>) -> String {
+    x.map_or("-".into(), |[a, b]| format!("{} … {}", num(a), num(b)))
+}
+
+/// The forecast table: parameters, milestones, then one row per time.
+pub fn forecast(name: &str, r: &ForecastReport, boot: Option<&Bootstrap>) -> String {
+    let mut s = String::new();
+    let _ = writeln!(s, "model      {}    {}", r.model, r.formula);
+    let _ = writeln!(
+        s,
+        "data       {name}: {} points; forecast to {}",
+        r.n, r.until_text
+    );
+    match (&r.bootstrap, boot) {
+        (Some(b), Some(_)) => {
+            let _ = writeln!(
+                s,
+                "bootstrap  {} resampling, B = {}, seed {}, {} refits failed (left out); percentile intervals",
+                b.resampling, b.replicates, b.seed, b.failed
+            );
+        }
+        _ => {
+            let _ = writeln!(
+                s,
+                "bootstrap  not run (add --bootstrap for bootstrap intervals)"
+            );
+        }
+    }
+    let _ = writeln!(s);
+    let _ = writeln!(
+        s,
+        "{:<6} {:>14}  {:<31} {:<31}",
+        "param", "estimate", "95% interval (t)", "95% bootstrap"
+    );
+    for (n, p) in &r.params.0 {
+        let _ = writeln!(
+            s,
+            "{:<6} {:>14}  {:<31} {:<31}",
+            n,
+            num(p.estimate),
+            if p.fixed {
+                "fixed".into()
+            } else {
+                pair(p.ci95)
+            },
+            pair(p.bootstrap_ci95)
+        );
+    }
+    let _ = writeln!(s);
+    let _ = writeln!(s, "milestones");
+    for m in &r.milestones {
+        let when = m.time_text.clone().unwrap_or_else(|| "—".into());
+        let unit = if m.kind == "duration_10_90" && !r.time_unit.is_empty() {
+            format!(" {}s", r.time_unit)
+        } else {
+            String::new()
+        };
+        let delta = if m.time_text.is_some() {
+            pair(m.delta95)
+        } else {
+            "-".into()
+        };
+        let boot = match (m.bootstrap95, m.time_text.is_some()) {
+            (Some([lo, hi]), true) => format!(
+                "{} … {}",
+                lo.map_or("-".into(), num),
+                hi.map_or("never (open)".into(), num)
+            ),
+            _ => "-".into(),
+        };
+        let _ = writeln!(
+            s,
+            "  {:<28} {:>12}{unit}  delta {:<28} bootstrap {:<28} {}",
+            m.label, when, delta, boot, m.verdict
+        );
+        if !m.note.is_empty() {
+            let _ = writeln!(s, "  {:<28} {}", "", m.note);
+        }
+    }
+    let _ = writeln!(s);
+    let _ = writeln!(
+        s,
+        "{:<12} {:>12} {:>12}  {:<29} {:<29} {:<29}",
+        "time", "observed", "fit", "95% confidence", "95% prediction", "95% bootstrap"
+    );
+    for p in &r.points {
+        let _ = writeln!(
+            s,
+            "{:<12} {:>12} {:>12}  {:<29} {:<29} {:<29}",
+            p.time,
+            p.observed.map_or(String::new(), num),
+            num(p.fit),
+            pair(p.confidence95),
+            pair(p.prediction95),
+            pair(p.bootstrap95)
+        );
+    }
+    for w in &r.warnings {
+        let _ = writeln!(s, "warning    {} [{}]", w.message, w.code.as_str());
+    }
+    let _ = writeln!(s, "\n{CAUTION}");
+    s
+}
+
+/// One line per prefix: cutoff, points, each parameter with its interval.
+pub fn drift(name: &str, rows: &[DriftRow], r: &DriftReport) -> String {
+    let mut s = String::new();
+    let _ = writeln!(
+        s,
+        "drift      {} refitted on every prefix of {name} (first m points in time order)",
+        r.model
+    );
+    let names: Vec<&str> = rows
+        .iter()
+        .find_map(|r| r.result.as_ref().ok())
+        .map(|f| f.params.iter().map(|p| p.name).collect())
+        .unwrap_or_default();
+    let _ = write!(s, "{:<12} {:>4}", "cutoff", "m");
+    for n in &names {
+        let _ = write!(s, "  {:<34}", format!("{n} (95% interval)"));
+    }
+    let _ = writeln!(s);
+    for (row, rep) in rows.iter().zip(&r.rows) {
+        let _ = write!(s, "{:<12} {:>4}", rep.cutoff_text, row.m);
+        match &row.result {
+            Ok(f) => {
+                for p in &f.params {
+                    let ci = p
+                        .ci95
+                        .map_or("-".into(), |(a, b)| format!("{} … {}", num(a), num(b)));
+                    let _ = write!(s, "  {:<34}", format!("{} ({ci})", num(p.estimate)));
+                }
+                if !f.converged {
+                    let _ = write!(s, "  not converged");
+                }
+            }
+            Err(e) => {
+                let _ = write!(s, "  no fit: {e}");
+            }
+        }
+        let _ = writeln!(s);
+    }
+    let _ = writeln!(s, "\n{CAUTION}");
+    s
+}
+
+/// MAE and MAPE by horizon, one block per model.
+pub fn backtest(name: &str, horizon: usize, rows: &[ModelBacktest]) -> String {
+    let mut s = String::new();
+    let _ = writeln!(
+        s,
+        "backtest   rolling origin on {name}: forecasts 1 to {horizon} observations ahead"
+    );
+    for m in rows {
+        let _ = writeln!(
+            s,
+            "\n{}: {} origins, {} without a fit",
+            m.model.name(),
+            m.origins,
+            m.failed
+        );
+        let _ = writeln!(
+            s,
+            "  {:>3} {:>6} {:>14} {:>10}",
+            "h", "count", "MAE", "MAPE %"
+        );
+        for h in &m.by_horizon {
+            let _ = writeln!(
+                s,
+                "  {:>3} {:>6} {:>14} {:>10}",
+                h.h,
+                h.count,
+                h.mae.map_or("-".into(), num),
+                h.mape.map_or("-".into(), |v| format!("{v:.2}"))
+            );
+        }
+    }
+    let _ = writeln!(s, "\n{CAUTION}");
+    s
+}

@@ -1,0 +1,264 @@
+//! Drift and backtests: how the estimates and the forecasts would have
+//! looked with less data.
+//!
+//! [`drift`] refits the model on every prefix of the series (the first m
+//! points in time order, from the smallest m the model can be fitted to up
+//! to n) and reports the parameters with their intervals against the
+//! cutoff time: a K that keeps climbing as data arrive is not yet
+//! determined, whatever its last interval says.
+//!
+//! [`backtest`] is a rolling-origin evaluation (Tashman 2000, "Out-of-sample
+//! tests of forecasting accuracy", *Int. J. Forecasting* 16): for every
+//! origin o (the first o points are known), forecast the next h = 1..H
+//! points and record the errors; MAE and MAPE are then averaged per horizon
+//! h, for each model.
+//!
+//! Both warm-start each fit from the previous prefix's estimate (the
+//! prefixes differ by one point, so it is a close start) and fall back to
+//! the self-start when that does not converge.
+
+use crate::fit::{fit_xy, Fit, FitOptions, ParamEstimate};
+use crate::model::Model;
+
+/// One prefix of the series and its fit.
+#[derive(Debug, Clone)]
+pub struct DriftRow {
+    /// Points used (the first `m` in time order).
+    pub m: usize,
+    /// Time of the last point used.
+    pub cutoff: f64,
+    /// The fit's parameters (with `ci95`), or why it failed.
+    pub result: Result<DriftFit, String>,
+}
+
+/// The parts of a prefix fit that drift reports.
+#[derive(Debug, Clone)]
+pub struct DriftFit {
+    pub params: Vec<ParamEstimate>,
+    pub converged: bool,
+    pub sigma: f64,
+    /// Warning codes of the fit (e.g. `before_inflection`).
+    pub warnings: Vec<&'static str>,
+}
+
+/// Indices of the points in time order (stable for equal times).
+fn time_order(t: &[f64]) -> Vec<usize> {
+    let mut idx: Vec<usize> = (0..t.len()).collect();
+    idx.sort_by(|&a, &b| t[a].total_cmp(&t[b]));
+    idx
+}
+
+/// Fits from `prev`'s estimate, or self-started when there is none or the
+/// warm start does not converge.
+fn warm_fit(
+    t: &[f64],
+    y: &[f64],
+    model: Model,
+    opts: &FitOptions,
+    prev: Option<&Fit>,
+) -> Result<Fit, String> {
+    if let Some(p) = prev {
+        let start: Vec<(String, f64)> = p
+            .params
+            .iter()
+            .filter(|q| !q.fixed)
+            .map(|q| (q.name.to_string(), q.estimate))
+            .collect();
+        let warm = FitOptions {
+            start,
+            ..opts.clone()
+        };
+        if let Ok(f) = fit_xy(t, y, model, &warm) {
+            if f.converged {
+                return Ok(f);
+            }
+        }
+    }
+    fit_xy(t, y, model, opts).map_err(|e| e.message)
+}
+
+/// Free parameters of `model` under `opts` (fixed names that the model
+/// does not have are ignored here; the fit reports them).
+fn n_free(model: Model, opts: &FitOptions) -> usize {
+    let fixed = model
+        .param_names()
+        .iter()
+        .filter(|n| opts.fixed.iter().any(|(f, _)| f.trim() == **n))
+        .count();
+    model.n_params() - fixed
+}
+
+/// Refits `model` on every prefix of `(t, y)` from `n_free + 1` points to
+/// all of them, in time order. See the module docs.
+pub fn drift(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Vec<DriftRow> {
+    drift_sampled(t, y, model, opts, usize::MAX)
+}
+
+/// [`drift`] on at most `max_rows` prefixes, evenly spread from the
+/// smallest to all the data (the last one always included): for long
+/// series on the page, where a chart cannot show a thousand bars anyway.
+pub fn drift_sampled(
+    t: &[f64],
+    y: &[f64],
+    model: Model,
+    opts: &FitOptions,
+    max_rows: usize,
+) -> Vec<DriftRow> {
+    let order = time_order(t);
+    let ts: Vec<f64> = order.iter().map(|&i| t[i]).collect();
+    let ys: Vec<f64> = order.iter().map(|&i| y[i]).collect();
+    let first = n_free(model, opts) + 1;
+    let n = ts.len();
+    if n < first || max_rows == 0 {
+        return Vec::new();
+    }
+    let count = n - first + 1;
+    let sizes: Vec<usize> = if count <= max_rows {
+        (first..=n).collect()
+    } else if max_rows == 1 {
+        vec![n]
+    } else {
+        let mut v: Vec<usize> = (0..max_rows)
+            .map(|i| first + (i * (count - 1) + (max_rows - 1) / 2) / (max_rows - 1))
+            .collect();
+        v.dedup();
+        v
+    };
+    let mut prev: Option<Fit> = None;
+    let mut rows = Vec::new();
+    for m in sizes {
+        let result = warm_fit(&ts[..m], &ys[..m], model, opts, prev.as_ref());
+        let row = DriftRow {
+            m,
+            cutoff: ts[m - 1],
+            result: result.as_ref().map_err(Clone::clone).map(|f| DriftFit {
+                params: f.params.clone(),
+                converged: f.converged,
+                sigma: f.sigma,
+                warnings: f.warnings.iter().map(|w| w.code.as_str()).collect(),
+            }),
+        };
+        if let Ok(f) = result {
+            if f.converged {
+                prev = Some(f);
+            }
+        }
+        rows.push(row);
+    }
+    rows
+}
+
+/// Settings of [`backtest`].
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct BacktestOptions {
+    /// Largest horizon H (steps ahead, in observations).
+    pub horizon: usize,
+    /// Points in the first origin; `None`: half the series, at least the
+    /// model's free parameters plus two.
+    pub min_train: Option<usize>,
+}
+
+impl Default for BacktestOptions {
+    fn default() -> Self {
+        BacktestOptions {
+            horizon: 4,
+            min_train: None,
+        }
+    }
+}
+
+/// Errors at one horizon, averaged over the origins that reach it.
+#[derive(Debug, Clone, PartialEq)]
+pub struct HorizonScore {
+    /// Steps ahead.
+    pub h: usize,
+    /// Forecasts scored (origins with a fit and an observation h ahead).
+    pub count: usize,
+    /// Mean absolute error.
+    pub mae: Option<f64>,
+    /// Mean absolute percentage error, over observations that are not 0.
+    pub mape: Option<f64>,
+}
+
+/// One model's backtest.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ModelBacktest {
+    pub model: Model,
+    /// Origins tried.
+    pub origins: usize,
+    /// Origins at which the model could not be fitted (no forecasts made).
+    pub failed: usize,
+    pub by_horizon: Vec<HorizonScore>,
+}
+
+/// Rolling-origin evaluation of every model in `models` (see the module
+/// docs). Origins run from the first training size to n − 1; an origin's
+/// forecasts are the points o+1 … o+H that exist.
+pub fn backtest(
+    t: &[f64],
+    y: &[f64],
+    models: &[Model],
+    opts: &FitOptions,
+    bt: &BacktestOptions,
+) -> Vec<ModelBacktest> {
+    let order = time_order(t);
+    let ts: Vec<f64> = order.iter().map(|&i| t[i]).collect();
+    let ys: Vec<f64> = order.iter().map(|&i| y[i]).collect();
+    let n = ts.len();
+    let horizon = bt.horizon.max(1);
+    models
+        .iter()
+        .map(|&model| {
+            let smallest = n_free(model, opts) + 2;
+            let first = bt.min_train.unwrap_or(n.div_ceil(2)).max(smallest);
+            let mut abs = vec![(0usize, 0.0f64); horizon];
+            let mut pct = vec![(0usize, 0.0f64); horizon];
+            let mut origins = 0;
+            let mut failed = 0;
+            let mut prev: Option<Fit> = None;
+            for o in first..n {
+                origins += 1;
+                match warm_fit(&ts[..o], &ys[..o], model, opts, prev.as_ref()) {
+                    Ok(f) => {
+                        for h in 1..=horizon {
+                            let Some(&actual) = ys.get(o + h - 1) else {
+                                break;
+                            };
+                            let e = (f.predict(ts[o + h - 1]) - actual).abs();
+                            if !e.is_finite() {
+                                continue;
+                            }
+                            abs[h - 1].0 += 1;
+                            abs[h - 1].1 += e;
+                            if actual != 0.0 {
+                                pct[h - 1].0 += 1;
+                                pct[h - 1].1 += 100.0 * e / actual.abs();
+                            }
+                        }
+                        if f.converged {
+                            prev = Some(f);
+                        }
+                    }
+                    Err(_) => failed += 1,
+                }
+            }
+            let mean = |(c, s): (usize, f64)| (c > 0).then(|| s / c as f64);
+            ModelBacktest {
+                model,
+                origins,
+                failed,
+                by_horizon: (0..horizon)
+                    .map(|i| HorizonScore {
+                        h: i + 1,
+                        count: abs[i].0,
+                        mae: mean(abs[i]),
+                        mape: mean(pct[i]),
+                    })
+                    .collect(),
+            }
+        })
+        .collect()
+}
+
+#[cfg(test)]
+mod tests;

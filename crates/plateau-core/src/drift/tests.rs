@@ -1,0 +1,148 @@
+//! Drift and backtest on exact and noisy curves: exact data are recovered
+//! from every prefix that determines them, warm starts agree with cold
+//! ones, and the backtest's errors are those of the forecasts it made.
+
+use super::*;
+
+fn logistic_exact(n: usize) -> (Vec<f64>, Vec<f64>) {
+    let t: Vec<f64> = (0..n).map(|i| i as f64).collect();
+    let y = t
+        .iter()
+        .map(|&ti| Model::Logistic.eval(&[1000.0, 0.4, 12.0], ti))
+        .collect();
+    (t, y)
+}
+
+#[test]
+fn drift_recovers_exact_parameters_from_every_prefix_past_the_inflection() {
+    let (t, y) = logistic_exact(30);
+    let rows = drift(&t, &y, Model::Logistic, &FitOptions::default());
+    assert_eq!(rows.first().unwrap().m, 4, "3 free parameters + 1");
+    assert_eq!(rows.last().unwrap().m, 30);
+    assert_eq!(rows.len(), 27);
+    for r in rows.iter().filter(|r| r.cutoff >= 14.0) {
+        let f = r.result.as_ref().expect("fit");
+        assert!(f.converged);
+        let k = f.params[0].estimate;
+        assert!((k - 1000.0).abs() < 1e-6, "m = {}: K = {k}", r.m);
+    }
+}
+
+#[test]
+fn drift_warm_starts_agree_with_self_starts_and_input_order_does_not_matter() {
+    let mut state = 12345u64;
+    let mut noise = || {
+        // A small fixed-sequence LCG (Knuth's MMIX constants) for noise.
+        state = state
+            .wrapping_mul(6364136223846793005)
+            .wrapping_add(1442695040888963407);
+        ((state >> 11) as f64 / (1u64 << 53) as f64 - 0.5) * 20.0
+    };
+    let (t, y0) = logistic_exact(30);
+    let y: Vec<f64> = y0.iter().map(|v| v + noise()).collect();
+    let rows = drift(&t, &y, Model::Logistic, &FitOptions::default());
+    for r in rows.iter().filter(|r| r.m >= 18) {
+        let cold = fit_xy(
+            &t[..r.m],
+            &y[..r.m],
+            Model::Logistic,
+            &FitOptions::default(),
+        )
+        .unwrap();
+        let warm = r.result.as_ref().unwrap();
+        for (a, b) in warm.params.iter().zip(&cold.params) {
+            assert!(
+                (a.estimate - b.estimate).abs() <= 1e-6 * b.estimate.abs().max(1.0),
+                "m = {} {}: {} vs {}",
+                r.m,
+                a.name,
+                a.estimate,
+                b.estimate
+            );
+        }
+    }
+    // Reversed input: the same prefixes (in time order), the same numbers.
+    let tr: Vec<f64> = t.iter().rev().copied().collect();
+    let yr: Vec<f64> = y.iter().rev().copied().collect();
+    let rev = drift(&tr, &yr, Model::Logistic, &FitOptions::default());
+    let last = |rs: &[DriftRow]| rs.last().unwrap().result.as_ref().unwrap().params[0].estimate;
+    assert!((last(&rows) - last(&rev)).abs() < 1e-6 * last(&rows));
+}
+
+#[test]
+fn backtest_scores_are_the_errors_of_the_forecasts_made() {
+    let (t, y0) = logistic_exact(24);
+    // Exact data: the logistic forecasts are exact once the data determine
+    // the curve (from the first origin, 12 points here, at t0).
+    let rows = backtest(
+        &t,
+        &y0,
+        &[Model::Logistic],
+        &FitOptions::default(),
+        &BacktestOptions {
+            horizon: 3,
+            min_train: Some(14),
+        },
+    );
+    let lg = &rows[0];
+    assert_eq!(lg.origins, 10);
+    assert_eq!(lg.failed, 0);
+    assert_eq!(lg.by_horizon.len(), 3);
+    assert_eq!(lg.by_horizon[0].count, 10);
+    assert_eq!(lg.by_horizon[2].count, 8);
+    for s in &lg.by_horizon {
+        assert!(s.mae.unwrap() < 1e-6, "{s:?}");
+    }
+
+    // Noisy data, two models: recompute the h = 2 MAE and MAPE of the
+    // Gompertz by hand from cold fits at every origin.
+    let y: Vec<f64> = y0
+        .iter()
+        .enumerate()
+        .map(|(i, v)| v + [7.0, -5.0, 3.0, -9.0, 4.0][i % 5])
+        .collect();
+    let opts = BacktestOptions {
+        horizon: 2,
+        min_train: None,
+    };
+    let rows = backtest(
+        &t,
+        &y,
+        &[Model::Logistic, Model::Gompertz],
+        &FitOptions::default(),
+        &opts,
+    );
+    let g = &rows[1];
+    assert_eq!(g.model, Model::Gompertz);
+    let (mut sum, mut sum_pct, mut count) = (0.0, 0.0, 0);
+    for o in 12..23 {
+        let f = fit_xy(&t[..o], &y[..o], Model::Gompertz, &FitOptions::default()).unwrap();
+        let e = (f.predict(t[o + 1]) - y[o + 1]).abs();
+        sum += e;
+        sum_pct += 100.0 * e / y[o + 1].abs();
+        count += 1;
+    }
+    let s = &g.by_horizon[1];
+    assert_eq!(s.count, count);
+    let mae = sum / count as f64;
+    assert!(
+        (s.mae.unwrap() - mae).abs() < 1e-4 * mae,
+        "{} vs {mae}",
+        s.mae.unwrap()
+    );
+    let mape = sum_pct / count as f64;
+    assert!((s.mape.unwrap() - mape).abs() < 1e-4 * mape);
+}
+
+#[test]
+fn sampled_drift_keeps_the_ends_and_matches_the_full_rows() {
+    let (t, y) = logistic_exact(60);
+    let full = drift(&t, &y, Model::Logistic, &FitOptions::default());
+    let some = drift_sampled(&t, &y, Model::Logistic, &FitOptions::default(), 10);
+    assert_eq!(some.len(), 10);
+    assert_eq!(some[0].m, 4);
+    assert_eq!(some[9].m, 60);
+    assert!(some.windows(2).all(|w| w[0].m < w[1].m));
+    let k = |r: &DriftRow| r.result.as_ref().unwrap().params[0].estimate;
+    assert!((k(&some[9]) - k(full.last().unwrap())).abs() < 1e-6);
+}

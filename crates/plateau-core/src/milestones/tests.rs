@@ -1,0 +1,127 @@
+//! Milestones: analytic facts of the logistic (common practice), and the
+//! verdicts for milestones the data cannot speak to.
+
+use super::*;
+use crate::bootstrap::{BootstrapOptions, Resampling};
+use crate::fit::{fit_xy, FitOptions};
+use rand_chacha::rand_core::SeedableRng;
+use rand_chacha::ChaCha8Rng;
+use rand_distr::{Distribution, Normal};
+
+fn noisy(model: Model, p: &[f64], n: usize, sd: f64, seed: u64) -> (Vec<f64>, Vec<f64>, Fit) {
+    let mut rng = ChaCha8Rng::seed_from_u64(seed);
+    let normal = Normal::new(0.0, sd).unwrap();
+    let t: Vec<f64> = (0..n).map(|i| i as f64).collect();
+    let y: Vec<f64> = t
+        .iter()
+        .map(|&ti| model.eval(p, ti) + normal.sample(&mut rng))
+        .collect();
+    let f = fit_xy(&t, &y, model, &FitOptions::default()).unwrap();
+    (t, y, f)
+}
+
+fn boot(f: &Fit, t: &[f64], y: &[f64]) -> Bootstrap {
+    let mut b = Bootstrap::new(
+        f,
+        t,
+        y,
+        &BootstrapOptions {
+            resampling: Resampling::Residual,
+            replicates: 600,
+            seed: 17,
+        },
+    )
+    .unwrap();
+    b.run();
+    b
+}
+
+#[test]
+fn logistic_half_time_is_t0_and_10_90_is_ln81_over_r() {
+    // Common practice for the logistic: f(t0) = K/2, and the rise from 10%
+    // to 90% of K takes ln(81)/r. Both hold for the estimate and for every
+    // bootstrap replicate, so the bootstrap intervals are t0's own interval
+    // and ln(81) over r's interval, ends swapped.
+    let (t, y, f) = noisy(Model::Logistic, &[2000.0, 0.35, 15.0], 30, 20.0, 4);
+    let b = boot(&f, &t, &y);
+    let half = assess(&f, Target::Share(0.5), 0.0, 29.0, Some(&b));
+    let t0 = f.param("t0").unwrap().estimate;
+    assert!((half.estimate.unwrap() - t0).abs() < 1e-9 * t0);
+    assert_eq!(half.verdict, Verdict::Observed);
+    let (lo, hi) = b.param_interval(2, 0.95).unwrap();
+    let q = half.bootstrap.unwrap();
+    assert!((q.lo.unwrap() - lo).abs() < 1e-9 && (q.hi.unwrap() - hi).abs() < 1e-9);
+
+    let d = assess(&f, Target::Duration1090, 0.0, 29.0, Some(&b));
+    let r = f.param("r").unwrap().estimate;
+    let ln81 = 81f64.ln();
+    assert!((d.estimate.unwrap() - ln81 / r).abs() < 1e-9);
+    let (rlo, rhi) = b.param_interval(1, 0.95).unwrap();
+    let q = d.bootstrap.unwrap();
+    // Interpolating between order statistics of r or of 1/r differs in
+    // the fourth digit at most for 600 replicates.
+    assert!((q.lo.unwrap() / (ln81 / rhi) - 1.0).abs() < 1e-3);
+    assert!((q.hi.unwrap() / (ln81 / rlo) - 1.0).abs() < 1e-3);
+    // The delta interval contains the estimate.
+    let (dlo, dhi) = d.delta.unwrap();
+    assert!(dlo < ln81 / r && ln81 / r < dhi);
+}
+
+#[test]
+fn level_milestones_say_when_the_data_cannot_answer() {
+    let (t, y, f) = noisy(Model::Logistic, &[2000.0, 0.35, 15.0], 30, 20.0, 5);
+    let b = boot(&f, &t, &y);
+    let k = f.param("K").unwrap();
+    let (klo, khi) = k.ci95.unwrap();
+
+    // Above K: never reached, no time.
+    let a = assess(&f, Target::Level(khi * 1.1), 0.0, 29.0, Some(&b));
+    assert_eq!(a.verdict, Verdict::NotReached);
+    assert!(a.estimate.is_none() && !a.verdict.shows_time());
+    assert!(a.note.contains("never reaches"), "{}", a.note);
+
+    // Inside K's interval, below K̂: a time, but no upper end.
+    let inside = 0.5 * (klo + k.estimate);
+    let a = assess(&f, Target::Level(inside), 0.0, 29.0, Some(&b));
+    assert!(
+        matches!(a.verdict, Verdict::MayNeverBeReached | Verdict::TooFar),
+        "{:?}",
+        a
+    );
+    if a.verdict == Verdict::MayNeverBeReached {
+        assert!(a.note.contains("interval of K"), "{}", a.note);
+    }
+
+    // Half of K: an ordinary milestone with both intervals.
+    let a = assess(&f, Target::Level(0.5 * k.estimate), 0.0, 29.0, Some(&b));
+    assert_eq!(a.verdict, Verdict::Observed);
+    assert!(a.delta.is_some() && a.bootstrap.unwrap().hi.is_some());
+}
+
+#[test]
+fn milestones_far_past_the_data_are_not_given_as_times() {
+    // Data that end well before the inflection: 99.9% of K lies far out.
+    let (_, _, f) = noisy(Model::Logistic, &[1000.0, 0.3, 30.0], 25, 2.0, 6);
+    let a = assess(&f, Target::Share(0.999), 0.0, 24.0, None);
+    assert_eq!(a.verdict, Verdict::TooFar, "{a:?}");
+    assert!(!a.verdict.shows_time());
+    assert!(a.note.contains("data spans"));
+}
+
+#[test]
+fn exponential_has_no_shares_but_has_levels() {
+    let (t, y, f) = noisy(Model::Exponential, &[5.0, 0.2], 20, 0.5, 7);
+    let a = assess(&f, Target::Share(0.5), 0.0, 19.0, None);
+    assert_eq!(a.verdict, Verdict::NotApplicable);
+    let target = 5.0 * (0.2f64 * 22.0).exp();
+    let b = boot(&f, &t, &y);
+    let a = assess(&f, Target::Level(target), 0.0, 19.0, Some(&b));
+    assert_eq!(a.verdict, Verdict::Forecast, "{a:?}");
+    // Analytic: t = ln(y / a) / r.
+    let p = f.values();
+    assert!((a.estimate.unwrap() - (target / p[0]).ln() / p[1]).abs() < 1e-9);
+    let targets = standard_targets(Model::Exponential, &[0.3], &[target]);
+    assert_eq!(targets, vec![Target::Level(target)]);
+    let targets = standard_targets(Model::Logistic, &[0.5, 0.95], &[]);
+    assert_eq!(targets.len(), 5);
+}

@@ -106,6 +106,32 @@ pub struct CompareArgs {
     pub json: bool,
 }
 
+#[derive(Args, Debug)]
+pub struct DiagnoseArgs {
+    #[command(flatten)]
+    pub input: InputArgs,
+    /// Model whose residuals are checked: logistic, logistic4, gompertz, richards, exponential.
+    #[arg(long, short, default_value = "logistic")]
+    pub model: String,
+    /// Hold a parameter at a known value, e.g. --fix K=2500000 (repeatable).
+    #[arg(long, value_name = "NAME=VALUE")]
+    pub fix: Vec<String>,
+    #[command(flatten)]
+    pub errors: ErrorArgs,
+    /// Saturation level for the Fisher–Pry check (default: the fitted K).
+    #[arg(long, value_name = "K")]
+    pub fisher_pry_k: Option<f64>,
+    /// Print the JSON report instead of a table.
+    #[arg(long)]
+    pub json: bool,
+    /// Also write the normal Q-Q chart of the residuals as SVG to FILE.
+    #[arg(long, value_name = "FILE")]
+    pub qq_svg: Option<String>,
+    /// Also write the Fisher–Pry chart as SVG to FILE.
+    #[arg(long, value_name = "FILE")]
+    pub fisher_pry_svg: Option<String>,
+}
+
 /// How the observations scatter about the curve, and what is fitted.
 #[derive(Args, Debug)]
 pub struct ErrorArgs {
@@ -120,30 +146,6 @@ pub struct ErrorArgs {
     /// earlier error forward, which makes intervals too narrow.
     #[arg(long)]
     pub increments: bool,
-}
-
-#[derive(Args, Debug)]
-pub struct DiagnoseArgs {
-    #[command(flatten)]
-    pub input: InputArgs,
-    /// Model whose residuals are checked: logistic, logistic4, gompertz, richards, exponential.
-    #[arg(long, short, default_value = "logistic")]
-    pub model: String,
-    /// Hold a parameter at a known value, e.g. --fix K=2500000 (repeatable).
-    #[arg(long, value_name = "NAME=VALUE")]
-    pub fix: Vec<String>,
-    /// Saturation level for the Fisher–Pry check (default: the fitted K).
-    #[arg(long, value_name = "K")]
-    pub fisher_pry_k: Option<f64>,
-    /// Print the JSON report instead of a table.
-    #[arg(long)]
-    pub json: bool,
-    /// Also write the normal Q-Q chart of the residuals as SVG to FILE.
-    #[arg(long, value_name = "FILE")]
-    pub qq_svg: Option<String>,
-    /// Also write the Fisher–Pry chart as SVG to FILE.
-    #[arg(long, value_name = "FILE")]
-    pub fisher_pry_svg: Option<String>,
 }
 
 #[derive(Args, Debug)]

@@ -214,6 +214,10 @@ pub fn diagnose(args: &DiagnoseArgs) -> Result<DiagnoseSettings> {
         model: model(&args.model)?,
         fit: FitOptions {
             fixed: assignments("--fix", &args.fix)?,
+            error_model: error_model(&args.errors)?,
+            increments: args.errors.increments,
+            // The checks read residuals and likelihoods, not intervals.
+            intervals: IntervalMethod::Asymptotic,
             ..FitOptions::default()
         },
         fisher_pry_k: args.fisher_pry_k,

@@ -9,12 +9,11 @@
 //! Also: likelihood-ratio tests of the nested pairs ([`nested_tests`]) and a
 //! recommendation that names its reasons ([`recommend`]).
 
-use crate::diagnostics::{fmt_p, lr_test, residual_diagnostics, Verdict, ALPHA};
+use crate::diagnostics::{fmt_p, lr_of_fits, residual_diagnostics, Verdict, ALPHA};
 use crate::fit::{fit_xy, Fit, FitError, FitOptions};
 use crate::model::Model;
 use crate::warning::WarningCode;
 use serde::Serialize;
-use statrs::distribution::{ChiSquared, ContinuousCDF};
 
 /// One model's line in a comparison.
 #[derive(Debug, Clone)]
@@ -93,7 +92,8 @@ pub const NESTED_PAIRS: [(Model, Model); 2] = [
 pub struct LrTest {
     pub nested: Model,
     pub general: Model,
-    /// `n ln(RSS_nested / RSS_general)`.
+    /// `2 (ℓ_general − ℓ_nested)` (`n ln(RSS_nested / RSS_general)` for
+    /// additive errors).
     pub statistic: f64,
     /// Extra free parameters of the general model.
     pub df: usize,
@@ -118,8 +118,8 @@ fn restriction_note(general: Model) -> &'static str {
 }
 
 /// Likelihood-ratio tests for the [`NESTED_PAIRS`] that were both fitted
-/// (converged, finite RSS, same n, same fixed parameters so the nesting
-/// holds). See [`crate::diagnostics::lr_test`] for the statistic.
+/// (converged, finite RSS, same n and error model). See
+/// [`crate::diagnostics::lr_of_fits`] for the statistic.
 pub fn nested_tests(entries: &[Entry]) -> Vec<LrTest> {
     let fitted = |m: Model| {
         entries
@@ -132,18 +132,13 @@ pub fn nested_tests(entries: &[Entry]) -> Vec<LrTest> {
         .iter()
         .filter_map(|&(a, b)| {
             let (fa, fb) = (fitted(a)?, fitted(b)?);
-            let df = fb.free.len().checked_sub(fa.free.len())?;
-            if fa.n != fb.n || df == 0 {
-                return None;
-            }
-            let (statistic, _) = lr_test(fa.n, fa.rss, fb.rss)?;
-            let chi2 = ChiSquared::new(df as f64).ok()?;
+            let (statistic, p_value, df) = lr_of_fits(fa, fb)?;
             Some(LrTest {
                 nested: a,
                 general: b,
                 statistic,
                 df,
-                p_value: chi2.sf(statistic),
+                p_value,
                 note: restriction_note(b),
             })
         })

@@ -18,8 +18,9 @@
 //! thumb, common practice: DW ≈ 2 (1 − r₁), so these bounds are |r₁| ≳ 0.25);
 //! fewer than [`MIN_RESIDUALS`] residuals give no verdict.
 
-use crate::fit::{fit_xy, Fit, FitError, FitOptions};
+use crate::fit::{fit_xy, ErrorModel, Fit, FitError, FitOptions};
 use crate::model::Model;
+use crate::warning::WarningCode;
 use serde::Serialize;
 use statrs::distribution::{ChiSquared, ContinuousCDF, Normal, StudentsT};
 
@@ -303,18 +304,43 @@ pub struct ResidualDiagnostics {
     pub verdicts: Vec<Verdict>,
 }
 
-/// Residuals `y − f(t)` of `fit` in time order (stable for equal times),
-/// finite ones only.
+/// Residuals of `fit` in time order (stable for equal times), finite ones
+/// only, on the scale the fit's error model makes equal-variance
+/// (Pearson-type residuals):
+///
+/// ```text
+/// additive  e = y − f           relative  e = (y − f) / f
+/// log       e = ln y − ln f     count     e = (y − f) / √f
+/// ```
+///
+/// For a fit to per-period increments, `y` and `f` are the differences of
+/// consecutive (time-ordered) values and curve values, n − 1 of them.
 pub fn residuals_in_time_order(fit: &Fit, t: &[f64], y: &[f64]) -> Vec<f64> {
     let p = fit.values();
-    let mut pts: Vec<(f64, f64)> = t
+    let mut pts: Vec<(f64, f64, f64)> = t
         .iter()
         .zip(y)
-        .map(|(&a, &b)| (a, b - fit.model.eval(&p, a)))
-        .filter(|(a, e)| a.is_finite() && e.is_finite())
+        .filter(|(a, b)| a.is_finite() && b.is_finite())
+        .map(|(&a, &b)| (a, b, fit.model.eval(&p, a)))
         .collect();
     pts.sort_by(|a, b| a.0.total_cmp(&b.0));
-    pts.into_iter().map(|q| q.1).collect()
+    let pairs: Vec<(f64, f64)> = if fit.increments {
+        pts.windows(2)
+            .map(|w| (w[1].1 - w[0].1, w[1].2 - w[0].2))
+            .collect()
+    } else {
+        pts.iter().map(|q| (q.1, q.2)).collect()
+    };
+    pairs
+        .into_iter()
+        .map(|(obs, f)| match fit.error_model {
+            ErrorModel::Additive => obs - f,
+            ErrorModel::Relative => (obs - f) / f,
+            ErrorModel::Log => obs.ln() - f.ln(),
+            ErrorModel::Count => (obs - f) / f.sqrt(),
+        })
+        .filter(|e| e.is_finite())
+        .collect()
 }
 
 /// Runs test, Durbin–Watson, lag-1 autocorrelation, Q-Q data and the
@@ -514,6 +540,25 @@ pub fn lr_test(n: usize, rss_nested: f64, rss_general: f64) -> Option<(f64, f64)
     lr.is_finite().then(|| (lr, chi2.sf(lr)))
 }
 
+/// The likelihood-ratio test of two fits to the same data, the first
+/// nested in the second with `df` fewer free parameters:
+/// `LR = 2 (ℓ_general − ℓ_nested)` against χ²(df), floored at 0. For
+/// additive Gaussian errors this is [`lr_test`]'s `n ln(RSS₀/RSS₁)`; with
+/// the other error models it uses their full log-likelihoods.
+pub fn lr_of_fits(nested: &Fit, general: &Fit) -> Option<(f64, f64, usize)> {
+    let df = general.free.len().checked_sub(nested.free.len())?;
+    if df == 0
+        || nested.n != general.n
+        || nested.error_model != general.error_model
+        || nested.increments != general.increments
+    {
+        return None;
+    }
+    let lr = (2.0 * (general.log_likelihood - nested.log_likelihood)).max(0.0);
+    let chi2 = ChiSquared::new(df as f64).ok()?;
+    lr.is_finite().then(|| (lr, chi2.sf(lr), df))
+}
+
 /// Which phase of the curve is the slower one.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "snake_case")]
@@ -533,7 +578,8 @@ pub struct SymmetryTest {
     /// Richards' shape parameter: 1 is the logistic, → 0 the Gompertz.
     pub nu: Option<f64>,
     pub nu_ci95: Option<[f64; 2]>,
-    /// `n ln(RSS_logistic / RSS_richards)`.
+    /// `2 (ℓ_richards − ℓ_logistic)`, i.e. `n ln(RSS_logistic / RSS_richards)`
+    /// for additive errors.
     pub lr_statistic: Option<f64>,
     /// From χ²(1).
     pub lr_p_value: Option<f64>,
@@ -579,7 +625,9 @@ pub fn symmetry_test_of(
         .and_then(|f| f.param("nu"))
         .and_then(|p| p.ci95)
         .map(|(a, b)| [a, b]);
-    let lr = richards.and_then(|f| lr_test(n, logistic.rss, f.rss));
+    let lr = richards
+        .and_then(|f| lr_of_fits(logistic, f))
+        .map(|(lr, p, _)| (lr, p));
     let d_rich = richards.map(|f| f.aicc - logistic.aicc);
     let d_gomp = gompertz.map(|f| f.aicc - logistic.aicc);
     let dir_of_nu = |nu: f64| {
@@ -640,8 +688,12 @@ pub fn symmetry_test_of(
             false,
             format!(
                 "no evidence against the logistic's symmetry: a free shape does not fit \
-                 significantly better ({evidence}); with data only before the midpoint the \
-                 test has little power"
+                 significantly better ({evidence}){}",
+                if logistic.has_warning(WarningCode::BeforeInflection) {
+                    "; the data end before the midpoint, where the test has little power"
+                } else {
+                    ""
+                }
             ),
         ),
         _ => verdict(

@@ -756,3 +756,32 @@ fn batch_table_shows_the_caution_and_intervals() {
         .lines()
         .any(|l| l.starts_with("Corrie Haven") && l.contains('[')));
 }
+
+/// `plateau diagnose` takes the error model and increments of `plateau fit`;
+/// the residuals follow them (n − 1 increments).
+#[test]
+fn diagnose_follows_the_error_model_and_increments() {
+    let rel = json(&plateau(
+        &[
+            "diagnose",
+            &demo("aldermoor_subscribers.csv"),
+            "--json",
+            "--errors",
+            "relative",
+        ],
+        None,
+    ));
+    assert_eq!(rel["fit"]["error_model"], "relative");
+    assert_eq!(rel["residuals"]["n"], 30);
+    let inc = json(&plateau(
+        &[
+            "diagnose",
+            &demo("aldermoor_subscribers.csv"),
+            "--json",
+            "--increments",
+        ],
+        None,
+    ));
+    assert_eq!(inc["residuals"]["n"], 29);
+    assert!(inc["symmetry_test"]["lr_p_value"].as_f64().is_some());
+}

@@ -174,3 +174,35 @@ fn recommendation_prefers_the_nested_logistic_when_lr_does_not_reject() {
         .iter()
         .any(|r| r.contains("does not reject the simpler logistic")));
 }
+
+/// Residuals follow the fit's error model and increments setting (the
+/// definitions in `residuals_in_time_order`).
+#[test]
+fn residuals_follow_the_error_model() {
+    let (t, y) = noisy(Model::Logistic, &[1000.0, 0.3, 14.5], 10.0, 5);
+    let y: Vec<f64> = y.iter().map(|v| v.max(1.0)).collect();
+    for em in [ErrorModel::Relative, ErrorModel::Log, ErrorModel::Count] {
+        let o = FitOptions {
+            error_model: em,
+            ..FitOptions::default()
+        };
+        let f = fit_xy(&t, &y, Model::Logistic, &o).unwrap();
+        let res = residuals_in_time_order(&f, &t, &y);
+        let p = f.values();
+        for (i, e) in res.iter().enumerate() {
+            let fv = Model::Logistic.eval(&p, t[i]);
+            let want = match em {
+                ErrorModel::Relative => (y[i] - fv) / fv,
+                ErrorModel::Log => y[i].ln() - fv.ln(),
+                _ => (y[i] - fv) / fv.sqrt(),
+            };
+            assert!((e - want).abs() < 1e-12, "{em:?} {i}");
+        }
+    }
+    let o = FitOptions {
+        increments: true,
+        ..FitOptions::default()
+    };
+    let f = fit_xy(&t, &y, Model::Logistic, &o).unwrap();
+    assert_eq!(residuals_in_time_order(&f, &t, &y).len(), t.len() - 1);
+}

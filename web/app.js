@@ -22,6 +22,7 @@ const DEFAULTS = {
   timeColumn: null, valueColumn: null, share: 95, level: null, fisherPryK: null,
   bootstrap: false, resampling: "residual", replicates: 1000, seed: 20240601,
   errorModel: "additive", increments: false,
+  layout: null, series: null,
 };
 
 let state = restore();
@@ -39,6 +40,10 @@ function restore() {
 
 function demoState() {
   return { text: demoText(), settings: { ...DEFAULTS }, demo: true };
+}
+
+function demoMultiState() {
+  return { text: demoMultiText(), settings: { ...DEFAULTS }, demo: "multi" };
 }
 
 function save() {
@@ -68,6 +73,8 @@ function readControls() {
   s.perPeriod = $("accum-per-period").checked;
   s.errorModel = $("error-model").value;
   s.increments = $("increments").checked;
+  s.layout = $("layout").value || null;
+  s.series = $("multi").hidden ? null : Number($("series-select").value);
   s.bootstrap = $("bootstrap").checked;
   s.resampling = $("resampling").value;
   s.replicates = Math.max(1, Math.round(numberOrNull($("replicates")) ?? 1000));
@@ -91,6 +98,7 @@ function writeControls() {
   $("accum-cumulative").checked = !s.perPeriod;
   $("error-model").value = s.errorModel;
   $("increments").checked = !!s.increments;
+  $("layout").value = s.layout ?? "";
   $("bootstrap").checked = !!s.bootstrap;
   $("resampling").value = s.resampling;
   $("replicates").value = s.replicates;
@@ -215,14 +223,53 @@ function showView(v) {
       ? "no summary yet: too few reflected points fall inside the observed time range."
       : `RMS mismatch ${fmt(v.symmetry.rmsRatio)} × the noise level. ${v.symmetry.meaning}`;
 
+  showMulti(v);
   showChecks(v);
 
   const cols = v.columns;
-  $("columns").hidden = cols.length <= 2;
+  $("columns").hidden = cols.length <= 2 || !!v.multi;
   for (const [id, chosen] of [["time-col", v.timeColumn], ["value-col", v.valueColumn]]) {
     const sel = $(id);
     sel.replaceChildren(...cols.map((name, i) => new Option(name, String(i), false, i === chosen)));
   }
+}
+
+const withInterval = (e) => !e ? "–" :
+  fmt(e.estimate) + (e.ci95 ? ` [${fmt(e.ci95[0])} … ${fmt(e.ci95[1])}]` : "");
+
+// Several series: the selector, the summary table and the overlay's section.
+function showMulti(v) {
+  const m = v.multi;
+  $("multi").hidden = !m;
+  if (!m) return;
+  $("multi-caution").textContent = v.caution;
+  $("series-select").replaceChildren(...m.summary.map((row, i) =>
+    new Option(row.error ? `${row.series} (no fit)` : row.series, String(i), false, i === m.selected)));
+  fillBody("summary", m.summary.map((row, i) => {
+    const tr = document.createElement("tr");
+    tr.dataset.series = row.series;
+    if (i === m.selected) tr.className = "chosen";
+    cell(tr, row.series);
+    cell(tr, row.n == null ? "–" : String(row.n));
+    if (row.error) {
+      const td = document.createElement("td");
+      td.colSpan = 6;
+      td.className = "failed";
+      td.textContent = row.error;
+      tr.appendChild(td);
+      return tr;
+    }
+    cell(tr, withInterval(row.K), "k");
+    tr.lastChild.dataset.value = String(row.K ? row.K.estimate : "");
+    cell(tr, withInterval(row.r), "r");
+    tr.lastChild.dataset.value = String(row.r ? row.r.estimate : "");
+    cell(tr, withInterval(row.t0) + (row.t0_date ? ` (${row.t0_date})` : ""), "t0");
+    cell(tr, withInterval(row.duration_10_90));
+    cell(tr, row.converged ? "yes" : "no");
+    cell(tr, row.warnings.map((w) => w.code).join(", "));
+    tr.lastChild.title = row.warnings.map((w) => w.message).join("\n");
+    return tr;
+  }));
 }
 
 // The Bass adoption peak of the current view, shown under the milestones.
@@ -375,6 +422,7 @@ function showChecks(v) {
 
 function drawCharts() {
   for (const canvas of document.querySelectorAll("canvas.chart")) {
+    if (canvas.closest("[hidden]")) continue;
     const dpr = window.devicePixelRatio || 1;
     canvas.width = Math.max(1, Math.round(canvas.clientWidth * dpr));
     canvas.height = Math.max(1, Math.round(canvas.clientHeight * dpr));
@@ -405,8 +453,13 @@ function update() {
   showView(view);
   drawCharts();
   startBootstrap();
-  setStatus(`${view.stats.n} points read: ${view.valueName} against ${view.timeName}.`, false);
-  $("data-label").textContent = state.demo ? demoLabel() : "";
+  if (view.multi) {
+    const chosen = view.multi.summary[view.multi.selected];
+    setStatus(`${view.multi.summary.length} series read (${view.layout} layout); details below for ${chosen.series}: ${view.stats.n} points.`, false);
+  } else {
+    setStatus(`${view.stats.n} points read: ${view.valueName} against ${view.timeName}.`, false);
+  }
+  $("data-label").textContent = state.demo === "multi" ? demoMultiLabel() : state.demo ? demoLabel() : "";
   window.plateauLastUpdateMs = performance.now() - started;
   // Milliseconds from navigation start to the first drawn fit.
   window.plateauFirstFitMs ??= performance.now();
@@ -422,6 +475,7 @@ function changed({ text = false, immediate = false } = {}) {
     // A new table may have other columns.
     state.settings.timeColumn = null;
     state.settings.valueColumn = null;
+    state.settings.series = null;
   } else {
     readControls();
   }
@@ -448,7 +502,7 @@ function loadText(text) {
 
 function wire() {
   $("data").addEventListener("input", () => changed({ text: true }));
-  for (const id of ["model", "fixed-k", "fisher-pry-k", "horizon", "share", "level", "bootstrap", "resampling", "replicates", "seed", "time-col", "value-col", "accum-cumulative", "accum-per-period", "error-model", "increments"]) {
+  for (const id of ["model", "fixed-k", "fisher-pry-k", "horizon", "share", "level", "bootstrap", "resampling", "replicates", "seed", "time-col", "value-col", "accum-cumulative", "accum-per-period", "error-model", "increments", "layout", "series-select"]) {
     $(id).addEventListener("change", () => changed({ immediate: true }));
   }
   $("file").addEventListener("change", async (ev) => {
@@ -471,6 +525,14 @@ function wire() {
     save();
     update();
   });
+  $("load-demo-multi").addEventListener("click", () => {
+    state = demoMultiState();
+    writeControls();
+    save();
+    update();
+  });
+  $("export-summary").addEventListener("click", () =>
+    download("plateau-summary.csv", new Blob([bench.summaryCsv()], { type: "text/csv" })));
   $("erase").addEventListener("click", () => {
     localStorage.removeItem(STORE_KEY);
     state = demoState();

@@ -7,7 +7,8 @@
 //! [`draw_residuals`], [`draw_symmetry`], [`draw_linear`], [`draw_rate`],
 //! [`draw_qq`] and [`draw_fisher_pry`] (plus the dispatcher [`draw`]), the straight-line transform
 //! [`linearise`], [`render_svg`], and [`ChartError`]. The drift chart
-//! ([`draw_drift`], [`render_drift_svg`]) has its own input, [`DriftInput`].
+//! ([`draw_drift`], [`render_drift_svg`]) has its own input, [`DriftInput`]. For several series,
+//! [`draw_overlay`] (all series normalised on one chart, with [`normalise`]).
 //!
 //! No fonts are loaded: text goes through plotters' built-in font handling
 //! (no `ttf` feature), which on SVG emits `<text>` elements for the viewer
@@ -23,6 +24,7 @@ mod curve;
 mod drift;
 mod fisher_pry;
 mod linear;
+mod overlay;
 pub mod palette;
 mod qq;
 mod rate;
@@ -40,6 +42,7 @@ pub use curve::draw_curve;
 pub use drift::{draw_drift, render_drift_svg, DriftInput};
 pub use fisher_pry::draw_fisher_pry;
 pub use linear::{draw_linear, linearise, NOT_AVAILABLE_BILOGISTIC};
+pub use overlay::{draw_overlay, normalise, render_overlay_svg, OverlaySeries};
 pub use qq::draw_qq;
 pub use rate::draw_rate;
 pub use residuals::draw_residuals;

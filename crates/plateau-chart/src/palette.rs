@@ -33,3 +33,19 @@ pub const ROSE: RGBColor = RGBColor(190, 80, 150);
 /// Opacity of the confidence band, light enough that points and curves
 /// drawn over it keep their contrast.
 pub const BAND_ALPHA: f64 = 0.45;
+
+/// Colours for several series on one chart: the eight colours of Okabe &
+/// Ito's palette for colour-vision deficiencies ("Color Universal Design",
+/// 2008; values from memory), black replaced by GRAPHITE's darker cousin
+/// so text stays the darkest ink. The overlay also varies the marker shape
+/// every eight series, so colour is never the only cue.
+pub const SERIES: [RGBColor; 8] = [
+    RGBColor(0, 114, 178),   // blue
+    RGBColor(230, 159, 0),   // orange
+    RGBColor(0, 158, 115),   // bluish green
+    RGBColor(204, 121, 167), // reddish purple
+    RGBColor(86, 180, 233),  // sky blue
+    RGBColor(213, 94, 0),    // vermillion
+    RGBColor(40, 40, 40),    // near-black
+    RGBColor(240, 228, 66),  // yellow
+];

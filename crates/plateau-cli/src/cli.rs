@@ -32,6 +32,9 @@ pub enum Command {
     Drift(DriftArgs),
     /// Rolling-origin backtest: forecast errors (MAE, MAPE) by horizon for every model.
     Backtest(BacktestArgs),
+    /// Fit every series of a long-format file (rows of series, time, value) in
+    /// parallel, one result line per series, in input order.
+    Batch(BatchArgs),
     /// List the models, their formulas and parameter names.
     Models,
 }
@@ -218,4 +221,36 @@ pub struct BacktestArgs {
     /// Print the JSON report instead of a table.
     #[arg(long)]
     pub json: bool,
+}
+
+#[derive(Args, Debug)]
+#[command(
+    after_help = "Input: rows of series name, time, value (a header row is detected), \
+e.g. \"north,2024-01,120\". The rows of each series must be together (the file sorted or \
+grouped by series); a series that reappears later is reported as failed, naming the line. \
+The file is streamed, never read whole. Results come in input order, one line per series; \
+a series that cannot be read or fitted gets a line with its error and the rest go on \
+(exit status 1 when any failed)."
+)]
+pub struct BatchArgs {
+    /// Data file, or - for standard input.
+    pub file: String,
+    /// Model to fit to every series: logistic, logistic4, gompertz, richards, exponential.
+    #[arg(long, short, default_value = "logistic")]
+    pub model: String,
+    /// One JSON object per series and line (JSON Lines), with the full fit report.
+    #[arg(long, conflicts_with = "csv")]
+    pub json: bool,
+    /// The summary table as CSV: K, r, t0 and the 10%→90% duration with 95% intervals.
+    #[arg(long)]
+    pub csv: bool,
+    /// Field separator: comma, semicolon, tab (default: detected from the first lines).
+    #[arg(long, value_name = "SEP")]
+    pub delimiter: Option<String>,
+    /// Whether the first line is a header: yes or no (default: detected).
+    #[arg(long, value_name = "yes|no")]
+    pub header: Option<String>,
+    /// The values are counts per period: sum each series into running totals before fitting.
+    #[arg(long)]
+    pub per_period: bool,
 }

@@ -14,6 +14,7 @@ mod table;
 use anyhow::{Context, Result};
 use clap::Parser;
 use cli::{Cli, Command};
+use plateau_cli::batch;
 use plateau_core::bootstrap::Bootstrap;
 use plateau_core::compare::compare;
 use plateau_core::data::TimeKind;
@@ -310,6 +311,44 @@ fn run(cli: Cli) -> Result<(), Failure> {
                 print_json(&BacktestReport::new(args.horizon, &rows, &series.warnings));
             } else {
                 print!("{}", outlook::backtest(&name, args.horizon, &rows));
+            }
+            Ok(())
+        }
+        Command::Batch(args) => {
+            let opts = settings::batch(&args).map_err(Failure::Input)?;
+            let file = args.file.as_str();
+            let input: Box<dyn std::io::BufRead + Send> = if file == "-" {
+                Box::new(std::io::BufReader::new(std::io::stdin()))
+            } else {
+                let f = std::fs::File::open(file)
+                    .with_context(|| format!("cannot read {file}"))
+                    .map_err(Failure::Input)?;
+                Box::new(std::io::BufReader::with_capacity(1 << 16, f))
+            };
+            let name = if file == "-" { "<stdin>" } else { file };
+            if opts.format != batch::Format::Table {
+                eprintln!("plateau: {}", plateau_core::report::CAUTION);
+            }
+            let stdout = std::io::stdout();
+            let mut out = std::io::BufWriter::new(stdout.lock());
+            let totals = batch::run(input, &mut out, &opts).map_err(|e| match e {
+                batch::Stop::Input(m) => Failure::Input(anyhow::anyhow!("{name}: {m}")),
+                batch::Stop::Output(e) => {
+                    Failure::Input(anyhow::anyhow!("cannot write the results: {e}"))
+                }
+            })?;
+            drop(out);
+            if totals.failed > 0 {
+                return Err(Failure::Fit(anyhow::anyhow!(
+                    "{name}: {} of {} series failed (their lines say why); the others were fitted",
+                    totals.failed,
+                    totals.series
+                )));
+            }
+            if totals.series == 0 {
+                return Err(Failure::Input(anyhow::anyhow!(
+                    "{name}: no series found; expected rows of series, time and value"
+                )));
             }
             Ok(())
         }

@@ -2,9 +2,11 @@
 //! options, with a message naming the flag when one is wrong.
 
 use crate::cli::{
-    BacktestArgs, CompareArgs, DiagnoseArgs, DriftArgs, ErrorArgs, FitArgs, ForecastArgs, InputArgs,
+    BacktestArgs, BatchArgs, CompareArgs, DiagnoseArgs, DriftArgs, ErrorArgs, FitArgs,
+    ForecastArgs, InputArgs,
 };
 use anyhow::{anyhow, bail, Result};
+use plateau_cli::batch;
 use plateau_core::bootstrap::{BootstrapOptions, Resampling, DEFAULT_SEED};
 use plateau_core::data::ColumnRef;
 use plateau_core::{ErrorModel, FitOptions, IntervalMethod, Model, ParseOptions};
@@ -184,6 +186,42 @@ pub fn drift(args: &DriftArgs) -> Result<FitSettings> {
     })
 }
 
+pub fn batch(args: &BatchArgs) -> Result<batch::Options> {
+    Ok(batch::Options {
+        model: model(&args.model)?,
+        fit: FitOptions::default(),
+        delimiter: delimiter(args.delimiter.as_deref())?,
+        header: header(args.header.as_deref())?,
+        per_period: args.per_period,
+        format: if args.json {
+            batch::Format::Json
+        } else if args.csv {
+            batch::Format::Csv
+        } else {
+            batch::Format::Table
+        },
+    })
+}
+
+fn delimiter(s: Option<&str>) -> Result<Option<u8>> {
+    Ok(match s {
+        None => None,
+        Some("comma" | ",") => Some(b','),
+        Some("semicolon" | ";") => Some(b';'),
+        Some("tab" | "\\t" | "\t") => Some(b'\t'),
+        Some(other) => bail!("--delimiter: expected comma, semicolon or tab, found {other:?}"),
+    })
+}
+
+fn header(s: Option<&str>) -> Result<Option<bool>> {
+    Ok(match s {
+        None => None,
+        Some("yes" | "true") => Some(true),
+        Some("no" | "false") => Some(false),
+        Some(other) => bail!("--header: expected yes or no, found {other:?}"),
+    })
+}
+
 pub fn backtest(args: &BacktestArgs) -> Result<CompareSettings> {
     if args.horizon == 0 || args.horizon > 1000 {
         bail!("--horizon: expected a number of steps from 1 to 1000");
@@ -225,19 +263,8 @@ fn model(name: &str) -> Result<Model> {
 }
 
 fn parse_options(input: &InputArgs) -> Result<ParseOptions> {
-    let delimiter = match input.delimiter.as_deref() {
-        None => None,
-        Some("comma" | ",") => Some(b','),
-        Some("semicolon" | ";") => Some(b';'),
-        Some("tab" | "\\t" | "\t") => Some(b'\t'),
-        Some(other) => bail!("--delimiter: expected comma, semicolon or tab, found {other:?}"),
-    };
-    let header = match input.header.as_deref() {
-        None => None,
-        Some("yes" | "true") => Some(true),
-        Some("no" | "false") => Some(false),
-        Some(other) => bail!("--header: expected yes or no, found {other:?}"),
-    };
+    let delimiter = delimiter(input.delimiter.as_deref())?;
+    let header = header(input.header.as_deref())?;
     Ok(ParseOptions {
         delimiter,
         header,

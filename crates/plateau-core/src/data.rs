@@ -15,10 +15,18 @@
 //! to refuse (`FitErrorKind::TooFewPoints`, `ConstantData`): the parser only
 //! requires one data row.
 //!
-//! Submodules: `number` reads one number, `time` reads and shows one time.
+//! Submodules: `number` reads one number, `time` reads and shows one time,
+//! `multi` reads several series from one text ([`parse_multi`], wide or long
+//! layout, and the streaming [`LongGrouper`] the CLI's batch command uses).
 
+mod multi;
 mod number;
 mod time;
+
+pub use multi::{
+    column_count, parse_multi, sniff_delimiter, split_line, Layout, LongGrouper, MultiOptions,
+    NamedSeries, PendingSeries, SeriesFailure, SeriesSet,
+};
 
 #[cfg(test)]
 mod tests;
@@ -143,6 +151,15 @@ pub enum DataErrorKind {
     DecimalConflict,
     /// The CSV reader itself failed (not expected for in-memory text).
     Malformed,
+    /// Several series: two value columns with the same header name.
+    DuplicateSeries,
+    /// Long layout: a series' rows reappear after another series began
+    /// (each series' rows must be contiguous).
+    SeriesNotContiguous,
+    /// Long layout: a row with a time or value but no series name.
+    MissingSeriesName,
+    /// Long layout: a row with more fields than series, time and value.
+    TooManyFields,
 }
 
 impl fmt::Display for DataError {
@@ -231,6 +248,7 @@ impl Record {
 }
 
 /// A row that will be on the axis: its line and its two raw fields.
+#[derive(Clone, Copy)]
 struct Row<'a> {
     line: usize,
     time: &'a str,
@@ -348,6 +366,47 @@ pub fn parse_series(text: &str, opts: &ParseOptions) -> Result<Series, DataError
             });
         }
     }
+    let meta = Meta {
+        time_name,
+        value_name,
+        columns,
+        has_header,
+        delimiter,
+        value_col,
+    };
+    build_series(&rows, &skipped, meta, None)
+}
+
+/// What a series carries besides its rows.
+struct Meta {
+    time_name: String,
+    value_name: String,
+    columns: Vec<String>,
+    has_header: bool,
+    delimiter: u8,
+    /// 0-based value column, for the message when no row has a value.
+    value_col: usize,
+}
+
+/// The kept rows of one series (line, raw time, raw value) and the lines
+/// of the rows skipped for a missing value, validated and read into a
+/// [`Series`]: one time kind, one decimal convention (`dec`, or decided
+/// from these rows), no duplicate times, warnings for the skipped and
+/// unsorted rows.
+fn build_series(
+    rows: &[Row],
+    skipped: &[usize],
+    meta: Meta,
+    dec: Option<Decimal>,
+) -> Result<Series, DataError> {
+    let Meta {
+        time_name,
+        value_name,
+        columns,
+        has_header,
+        delimiter,
+        value_col,
+    } = meta;
     let Some(first_row) = rows.first() else {
         let message = if skipped.is_empty() {
             "no data rows after the header; expected rows of a time and a value".to_string()
@@ -365,7 +424,10 @@ pub fn parse_series(text: &str, opts: &ParseOptions) -> Result<Series, DataError
     let Some(time_kind) = time::detect(first_row.time) else {
         return Err(bad_time(first_row, None, &time_name));
     };
-    let dec = decide_decimal(&rows, time_kind, delimiter)?;
+    let dec = match dec {
+        Some(d) => d,
+        None => decide_decimal(rows, time_kind, delimiter)?,
+    };
 
     let mut times = Vec::with_capacity(rows.len());
     let mut values = Vec::with_capacity(rows.len());
@@ -373,7 +435,7 @@ pub fn parse_series(text: &str, opts: &ParseOptions) -> Result<Series, DataError
     // Keyed by the bits of the axis value (with -0 folded into 0), which is
     // exact equality: 1 and 1.0 are duplicates, 1 and 1.0000001 are not.
     let mut seen: HashMap<u64, usize> = HashMap::with_capacity(rows.len());
-    for row in &rows {
+    for row in rows {
         let t = time::parse(row.time, time_kind, dec)
             .map_err(|e| time_error(e, row, time_kind, &time_name))?;
         let v = parse_number(row.value, dec).map_err(|e| value_error(e, row, dec, delimiter))?;
@@ -397,7 +459,7 @@ pub fn parse_series(text: &str, opts: &ParseOptions) -> Result<Series, DataError
     if !skipped.is_empty() {
         warnings.push(Warning::new(
             WarningCode::MissingValuesSkipped,
-            skipped_message(&skipped),
+            skipped_message(skipped),
         ));
     }
     if let Some(w) = unsorted_warning(&times, &lines, time_kind) {

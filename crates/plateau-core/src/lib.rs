@@ -36,6 +36,7 @@ pub mod report;
 pub mod solver;
 pub mod start;
 pub mod stats;
+pub mod summary;
 pub mod warning;
 
 pub use data::{parse_series, ParseOptions, Series};

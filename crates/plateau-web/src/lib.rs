@@ -57,6 +57,18 @@ pub fn demo_label() -> String {
     session::DEMO_LABEL.to_string()
 }
 
+/// The invented several-series demo (four regions, wide layout).
+#[wasm_bindgen(js_name = demoMultiText)]
+pub fn demo_multi_text() -> String {
+    session::DEMO_MULTI_TEXT.to_string()
+}
+
+/// How the page labels the several-series demo.
+#[wasm_bindgen(js_name = demoMultiLabel)]
+pub fn demo_multi_label() -> String {
+    session::DEMO_MULTI_LABEL.to_string()
+}
+
 /// The page's state: the last analysis that succeeded.
 #[wasm_bindgen]
 #[derive(Default)]
@@ -119,14 +131,21 @@ impl Workbench {
             .map_err(|e| JsError::new(&e.to_string()))
     }
 
-    /// Draws chart `chart` (a `ChartKind` name: "curve", "qq", "fisher-pry",
-    /// …, or "drift") on the
+    /// Draws chart `chart` (a `ChartKind` name: "curve", "qq", "fisher-pry", …,
+    /// "drift", or "overlay" for several series) on the
     /// canvas at its current pixel size (the page sets it for the device
     /// pixel ratio).
     pub fn draw(&self, chart: &str, canvas: HtmlCanvasElement) -> Result<(), JsError> {
         let backend = CanvasBackend::with_canvas_object(canvas)
             .ok_or_else(|| JsError::new("the canvas has no 2D context"))?;
         let area = backend.into_drawing_area();
+        if chart == OVERLAY {
+            with_overlay(self.analysis()?, |series| {
+                plateau_chart::draw_overlay(&area, series)
+            })
+            .map_err(|e| JsError::new(&e.to_string()))?;
+            return area.present().map_err(|e| JsError::new(&e.to_string()));
+        }
         if chart == DRIFT {
             let analysis = self.analysis()?;
             with_drift_input(analysis, |input| {
@@ -148,6 +167,12 @@ impl Workbench {
 
     /// The same chart as an SVG document.
     pub fn svg(&self, chart: &str, width: u32, height: u32) -> Result<String, JsError> {
+        if chart == OVERLAY {
+            return with_overlay(self.analysis()?, |series| {
+                plateau_chart::render_overlay_svg(series, width, height)
+            })
+            .map_err(|e| JsError::new(&e.to_string()));
+        }
         if chart == DRIFT {
             let analysis = self.analysis()?;
             return with_drift_input(analysis, |input| {
@@ -176,6 +201,14 @@ impl Workbench {
         Ok(self.analysis()?.diagnose_json())
     }
 
+    /// With several series: the summary table as CSV (`plateau batch --csv`'s shape).
+    #[wasm_bindgen(js_name = summaryCsv)]
+    pub fn summary_csv(&self) -> Result<String, JsError> {
+        self.analysis()?
+            .summary_csv()
+            .ok_or_else(|| JsError::new("the data hold a single series"))
+    }
+
     /// Observed, fitted, forecast and 95% band as CSV.
     #[wasm_bindgen(js_name = tableCsv)]
     pub fn table_csv(&self) -> Result<String, JsError> {
@@ -197,6 +230,33 @@ impl Workbench {
             .ok_or_else(|| JsError::new(&format!("unknown chart {chart:?}")))?;
         Ok((self.analysis()?, kind))
     }
+}
+
+/// The name of the several-series overlay chart.
+pub const OVERLAY: &str = "overlay";
+
+/// Builds the overlay's input (every series that has a fit) from an
+/// analysis; an error for a single series.
+pub fn with_overlay<T>(
+    a: &Analysis,
+    f: impl FnOnce(&[plateau_chart::OverlaySeries]) -> Result<T, plateau_chart::ChartError>,
+) -> Result<T, plateau_chart::ChartError> {
+    let Some(m) = &a.multi else {
+        return Err(plateau_chart::ChartError::InvalidInput(
+            "the overlay needs several series".into(),
+        ));
+    };
+    let series: Vec<plateau_chart::OverlaySeries> = (0..m.names.len())
+        .filter_map(|i| {
+            Some(plateau_chart::OverlaySeries {
+                name: &m.names[i],
+                times: &m.series[i].times,
+                values: &m.values[i],
+                fit: m.fits[i].as_ref()?,
+            })
+        })
+        .collect();
+    f(&series)
 }
 
 /// Builds the charts' input from an analysis.

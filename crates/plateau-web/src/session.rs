@@ -9,12 +9,16 @@
 use plateau_core::analysis;
 use plateau_core::bootstrap::{Bootstrap, BootstrapOptions, Resampling, DEFAULT_SEED};
 use plateau_core::compare::{compare, nested_tests, recommend};
-use plateau_core::data::{cumulate, decline_warning, ColumnRef, DataError, TimeKind};
+use plateau_core::data::{
+    column_count, cumulate, decline_warning, parse_multi, ColumnRef, DataError, Layout,
+    MultiOptions, TimeKind,
+};
 use plateau_core::diagnostics::{self, Verdict};
 use plateau_core::drift::{drift_sampled, DriftRow};
 use plateau_core::fit::{fit_xy, ErrorModel, Fit, FitOptions, IntervalMethod};
 use plateau_core::milestones::{self, Assessment, Target};
 use plateau_core::report::{FitReport, CAUTION};
+use plateau_core::summary::{summary_csv, SeriesSummary};
 use plateau_core::{parse_series, Model, ParseOptions, Series, Warning};
 use serde::{Deserialize, Serialize};
 use std::fmt::Write;
@@ -24,6 +28,12 @@ pub const DEMO_TEXT: &str = include_str!("../../../demo-data/aldermoor_subscribe
 /// How the page labels the demo series.
 pub const DEMO_LABEL: &str = "Demo data (invented): weekly cumulative subscriptions in Aldermoor, \
 a fictional region of a fictional solar co-operative.";
+
+/// The several-series demo (invented; see demo-data/README.md).
+pub const DEMO_MULTI_TEXT: &str = include_str!("../../../demo-data/regional_adoption_wide.csv");
+/// How the page labels the several-series demo.
+pub const DEMO_MULTI_LABEL: &str = "Demo data (invented): monthly cumulative households on a \
+fictional heat-pump lease in four fictional regions.";
 
 /// What the user chose on the page. Field names are the page's JSON keys.
 #[derive(Debug, Clone, Deserialize, Serialize, PartialEq)]
@@ -49,6 +59,13 @@ pub struct Settings {
     pub error_model: String,
     /// Fit per-period increments instead of the running totals.
     pub increments: bool,
+    /// How the text is laid out: `"single"` (one series, chosen columns),
+    /// `"wide"` (a time column, one column per series), `"long"` (rows of
+    /// series, time, value), or `None` to detect: several series when the
+    /// text has more than two columns and no column was chosen.
+    pub layout: Option<String>,
+    /// With several series: which one the detailed results show (0-based).
+    pub series: Option<usize>,
     /// Whether bootstrap intervals are computed (in slices, after each update).
     pub bootstrap: bool,
     /// `residual` or `parametric`.
@@ -74,6 +91,8 @@ impl Default for Settings {
             level: None,
             error_model: "additive".into(),
             increments: false,
+            layout: None,
+            series: None,
             bootstrap: false,
             resampling: "residual".into(),
             replicates: plateau_core::bootstrap::DEFAULT_REPLICATES,
@@ -127,6 +146,31 @@ pub struct Analysis {
     pub horizon_end: f64,
     /// The fit refitted on prefixes of the data (at most [`DRIFT_ROWS`]).
     pub drift: Vec<DriftRow>,
+    /// Every series, when the text held several.
+    pub multi: Option<Multi>,
+}
+
+/// Several series: each one's data as fitted, its fit (if any) and its summary row.
+#[derive(Debug, Clone)]
+pub struct Multi {
+    pub layout: Layout,
+    pub names: Vec<String>,
+    pub series: Vec<Series>,
+    /// Values as fitted (accumulated when per period), one vector per series.
+    pub values: Vec<Vec<f64>>,
+    pub fits: Vec<Option<Fit>>,
+    pub summary: Vec<SeriesSummary>,
+}
+
+/// The several-series part of the view.
+#[derive(Debug, Clone, Serialize, PartialEq)]
+#[serde(rename_all = "camelCase")]
+pub struct MultiView {
+    pub layout: Layout,
+    /// The series the detailed results show.
+    pub selected: usize,
+    /// One row per series, in input order (the shape of `plateau batch --json`).
+    pub summary: Vec<SeriesSummary>,
 }
 
 /// Horizons of the page's backtest: 1 to this many observations ahead.
@@ -224,6 +268,10 @@ pub struct View {
     pub recommendation: plateau_core::compare::Recommendation,
     pub caution: &'static str,
     pub time_unit: &'static str,
+    /// Present when the text held several series.
+    pub multi: Option<MultiView>,
+    /// The layout used: "single", "wide" or "long".
+    pub layout: &'static str,
 }
 
 #[derive(Debug, Clone, Serialize, PartialEq)]
@@ -360,21 +408,36 @@ pub struct CompareRow {
 pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError> {
     let model = Model::from_name(&settings.model)
         .ok_or_else(|| setting_error(format!("unknown model {:?}", settings.model)))?;
-    let opts = ParseOptions {
-        time_column: settings.time_column.map(ColumnRef::Index),
-        value_column: settings.value_column.map(ColumnRef::Index),
-        ..ParseOptions::default()
-    };
-    let mut series = parse_series(text, &opts)?;
-    let values = if settings.per_period {
-        cumulate(&series.values)
-    } else {
-        if let Some(mut w) = decline_warning(&series) {
-            w.message.push_str(" (\"counts per period\" under Series)");
-            series.warnings.push(w);
+    let chosen_columns = settings.time_column.is_some() || settings.value_column.is_some();
+    let layout = match settings.layout.as_deref() {
+        None | Some("") | Some("auto") => {
+            (!chosen_columns && column_count(text) > 2).then_some(None)
         }
-        series.values.clone()
+        Some("single") => None,
+        Some("wide") => Some(Some(Layout::Wide)),
+        Some("long") => Some(Some(Layout::Long)),
+        Some(other) => {
+            return Err(setting_error(format!(
+                "unknown layout {other:?}; expected single, wide or long"
+            )))
+        }
     };
+    match layout {
+        Some(layout) => analyse_multi(text, settings, model, layout),
+        None => {
+            let opts = ParseOptions {
+                time_column: settings.time_column.map(ColumnRef::Index),
+                value_column: settings.value_column.map(ColumnRef::Index),
+                ..ParseOptions::default()
+            };
+            let series = parse_series(text, &opts)?;
+            analyse_series(series, settings, model)
+        }
+    }
+}
+
+/// The fit options the settings ask for, checked against the model.
+fn fit_options(settings: &Settings, model: Model) -> Result<FitOptions, UpdateError> {
     let error_model = ErrorModel::from_name(&settings.error_model).ok_or_else(|| {
         setting_error(format!(
             "error model: expected additive, relative, log or count, found {:?}",
@@ -398,6 +461,128 @@ pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError>
         }
         fit_opts.fixed.push(("K".into(), k));
     }
+    Ok(fit_opts)
+}
+
+/// Several series: every one fitted for the summary and the overlay, the
+/// selected one (or the first that fits) analysed in full.
+fn analyse_multi(
+    text: &str,
+    settings: &Settings,
+    model: Model,
+    layout: Option<Layout>,
+) -> Result<Analysis, UpdateError> {
+    let set = parse_multi(
+        text,
+        &MultiOptions {
+            layout,
+            ..MultiOptions::default()
+        },
+    )
+    .map_err(|e| {
+        let mut u = UpdateError::from(e);
+        if layout.is_none() {
+            u.message.push_str(
+                " (to read only two columns as one series, choose \"one series\" under Layout)",
+            );
+        }
+        u
+    })?;
+    let fit_opts = fit_options(settings, model)?;
+    let mut multi = Multi {
+        layout: set.layout,
+        names: Vec::new(),
+        series: Vec::new(),
+        values: Vec::new(),
+        fits: Vec::new(),
+        summary: Vec::new(),
+    };
+    for ns in set.series {
+        let mut series = ns.series;
+        let values = if settings.per_period {
+            cumulate(&series.values)
+        } else {
+            if let Some(mut w) = decline_warning(&series) {
+                w.message = format!(
+                    "series \"{}\": {} (\"counts per period\" under Series)",
+                    ns.name, w.message
+                );
+                series.warnings.push(w);
+            }
+            series.values.clone()
+        };
+        let fitted = fit_xy(&series.times, &values, model, &fit_opts);
+        let summary = match &fitted {
+            Ok(f) => {
+                let mut as_fitted = series.clone();
+                as_fitted.values = values.clone();
+                SeriesSummary::from_fit(&ns.name, &as_fitted, f)
+            }
+            Err(e) => SeriesSummary::from_error(
+                &ns.name,
+                model.name(),
+                series.lines.first().copied(),
+                None,
+                &format!("cannot fit the {} model: {e}", model.name()),
+                &series.warnings,
+            ),
+        };
+        multi.names.push(ns.name);
+        multi.series.push(series);
+        multi.values.push(values);
+        multi.fits.push(fitted.ok());
+        multi.summary.push(summary);
+    }
+    let wanted = settings
+        .series
+        .unwrap_or(0)
+        .min(multi.names.len().saturating_sub(1));
+    let selected = if multi.fits.get(wanted).is_some_and(Option::is_some) {
+        wanted
+    } else {
+        multi.fits.iter().position(Option::is_some).ok_or_else(|| {
+            let reasons: Vec<String> = multi
+                .summary
+                .iter()
+                .map(|s| format!("{}: {}", s.series, s.error.clone().unwrap_or_default()))
+                .collect();
+            setting_error(format!("no series could be fitted; {}", reasons.join("; ")))
+        })?
+    };
+    let mut analysis = analyse_series(multi.series[selected].clone(), settings, model)?;
+    analysis.view.multi = Some(MultiView {
+        layout: multi.layout,
+        selected,
+        summary: multi.summary.clone(),
+    });
+    analysis.view.layout = match multi.layout {
+        Layout::Wide => "wide",
+        Layout::Long => "long",
+    };
+    analysis.multi = Some(multi);
+    Ok(analysis)
+}
+
+/// The full analysis of one series.
+fn analyse_series(
+    mut series: Series,
+    settings: &Settings,
+    model: Model,
+) -> Result<Analysis, UpdateError> {
+    let values = if settings.per_period {
+        cumulate(&series.values)
+    } else {
+        let warned = series
+            .warnings
+            .iter()
+            .any(|w| w.code == plateau_core::WarningCode::ValuesDecline);
+        if let Some(mut w) = decline_warning(&series).filter(|_| !warned) {
+            w.message.push_str(" (\"counts per period\" under Series)");
+            series.warnings.push(w);
+        }
+        series.values.clone()
+    };
+    let fit_opts = fit_options(settings, model)?;
     if !(settings.horizon.is_finite() && settings.horizon >= 0.0 && settings.horizon <= 1000.0) {
         return Err(setting_error(
             "forecast horizon: expected a number of periods from 0 to 1000",
@@ -571,6 +756,8 @@ pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError>
         recommendation,
         caution: CAUTION,
         time_unit: kind.unit(),
+        multi: None,
+        layout: "single",
     };
     let drift = drift_sampled(&series.times, &values, model, &fit_opts, DRIFT_ROWS);
     Ok(Analysis {
@@ -580,6 +767,7 @@ pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError>
         fit,
         view,
         horizon_end,
+        multi: None,
         drift,
     })
 }
@@ -775,6 +963,12 @@ impl Analysis {
     pub fn report_json(&self) -> String {
         let report = FitReport::new(&self.fit, &self.series.warnings);
         serde_json::to_string_pretty(&report).unwrap_or_else(|e| format!("{{\"error\":\"{e}\"}}"))
+    }
+
+    /// The summary of every series as CSV (the shape of `plateau batch
+    /// --csv`); `None` for a single series.
+    pub fn summary_csv(&self) -> Option<String> {
+        self.multi.as_ref().map(|m| summary_csv(&m.summary))
     }
 
     /// `plateau diagnose --json`'s report for this fit: residual

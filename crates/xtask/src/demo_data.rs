@@ -339,6 +339,131 @@ fn specs() -> Vec<Spec> {
     ]
 }
 
+/// One region of the multi-series file.
+struct Region {
+    name: &'static str,
+    k: f64,
+    r: f64,
+    t0: f64,
+}
+
+/// The multi-series demo: several regions in one file, long and wide.
+struct MultiSpec {
+    long_file: &'static str,
+    wide_file: &'static str,
+    title: &'static str,
+    story: &'static str,
+    regions: &'static [Region],
+    /// Noise sd as a share of each region's K.
+    noise_share: f64,
+    seed: u64,
+    note: &'static str,
+}
+
+fn multi_spec() -> MultiSpec {
+    MultiSpec {
+        long_file: "regional_adoption_long.csv",
+        wide_file: "regional_adoption_wide.csv",
+        title: "Four regions side by side: one logistic each, different K, r and t0",
+        story: "Cumulative households on Lumen's heat-pump lease in four fictional regions \
+                (Brackenridge, Corrie Haven, Dunmere, Eastwold), at the start of each month \
+                from January 2021 to December 2025.",
+        regions: &[
+            Region {
+                name: "Brackenridge",
+                k: 42000.0,
+                r: 1.4,
+                t0: 2022.5,
+            },
+            Region {
+                name: "Corrie Haven",
+                k: 18000.0,
+                r: 2.0,
+                t0: 2022.75,
+            },
+            Region {
+                name: "Dunmere",
+                k: 65000.0,
+                r: 0.9,
+                t0: 2023.0,
+            },
+            Region {
+                name: "Eastwold",
+                k: 9000.0,
+                r: 2.6,
+                t0: 2022.25,
+            },
+        ],
+        noise_share: 0.005,
+        seed: 707,
+        note: "Time axis: months, read as year + (month - 1) / 12, so r is per year and \
+               t0 = 2022.5 is the start of July 2022. The same numbers are written twice: \
+               long (rows of region, month, households; the layout `plateau batch` streams) \
+               and wide (a month column, then one column per region). The noise is drawn \
+               region by region, month by month, in the order of the long file.",
+    }
+}
+
+/// The long and wide files of the multi-series demo.
+fn multi_csv(spec: &MultiSpec) -> Result<(String, String)> {
+    let mut rng = ChaCha8Rng::seed_from_u64(spec.seed);
+    let months: Vec<(i32, i32)> = (0..60).map(|m| (2021 + m / 12, m % 12 + 1)).collect();
+    let mut values = Vec::new();
+    let mut long = String::from("region,month,households\n");
+    for reg in spec.regions {
+        let e = normal(spec.noise_share * reg.k);
+        let mut column = Vec::new();
+        for &(year, month) in &months {
+            let t = f64::from(year) + f64::from(month - 1) / 12.0;
+            let y = fixed(logistic(reg.k, reg.r, reg.t0, t) + e.sample(&mut rng), 0);
+            if y.starts_with('-') {
+                bail!(
+                    "{}: negative value for {}; change the design",
+                    spec.long_file,
+                    reg.name
+                );
+            }
+            long.push_str(&format!("{},{year:04}-{month:02},{y}\n", reg.name));
+            column.push(y);
+        }
+        values.push(column);
+    }
+    let mut wide = String::from("month");
+    for reg in spec.regions {
+        wide.push(',');
+        wide.push_str(reg.name);
+    }
+    wide.push('\n');
+    for (i, &(year, month)) in months.iter().enumerate() {
+        wide.push_str(&format!("{year:04}-{month:02}"));
+        for column in &values {
+            wide.push(',');
+            wide.push_str(&column[i]);
+        }
+        wide.push('\n');
+    }
+    Ok((long, wide))
+}
+
+fn multi_readme(spec: &MultiSpec) -> String {
+    let mut out = format!(
+        "\n## Several series: `{}` and `{}`\n\n**{}.** {}\n\n",
+        spec.long_file, spec.wide_file, spec.title, spec.story
+    );
+    out.push_str("Columns of the long file:\n\n- `region`: the region's name\n- `month`: YYYY-MM\n- `households`: cumulative households at the start of the month\n\n");
+    out.push_str("Truth (model: logistic, one per region):\n\n| region | K | r (per year) | t0 |\n|---|---|---|---|\n");
+    for r in spec.regions {
+        out.push_str(&format!("| {} | {} | {} | {} |\n", r.name, r.k, r.r, r.t0));
+    }
+    out.push_str(&format!(
+        "\n- Noise: additive normal, sd {}% of the region's K, rounded to integers\n- Seed: {}\n\n{}\n",
+        spec.noise_share * 100.0,
+        spec.seed,
+        spec.note
+    ));
+    out
+}
+
 fn is_leap(year: i32) -> bool {
     (year % 4 == 0 && year % 100 != 0) || year % 400 == 0
 }
@@ -465,7 +590,14 @@ fn generate() -> Result<Vec<(String, String)>> {
     for s in &specs {
         files.push((s.file.to_string(), csv(s)?));
     }
-    files.push(("README.md".to_string(), readme(&specs)));
+    let multi = multi_spec();
+    let (long, wide) = multi_csv(&multi)?;
+    files.push((multi.long_file.to_string(), long));
+    files.push((multi.wide_file.to_string(), wide));
+    files.push((
+        "README.md".to_string(),
+        readme(&specs) + &multi_readme(&multi),
+    ));
     Ok(files)
 }
 

@@ -5,6 +5,7 @@
 //! `pub fn run(args: &[String]) -> anyhow::Result<()>`, add one entry to
 //! [`TASKS`] and one arm to the `match` in [`dispatch`].
 
+mod bench_batch;
 mod bench_vs_scipy;
 mod ci;
 mod demo_data;
@@ -49,6 +50,11 @@ const TASKS: &[Task] = &[
         about: "run the criterion fit bench and tests/reference/bench_scipy.py, print scipy/plateau ratios",
     },
     Task {
+        name: "bench-batch",
+        usage: "[--series N]",
+        about: "plateau batch on a generated file of N 50-point series (default 100000): time and peak RSS",
+    },
+    Task {
         name: "help",
         usage: "",
         about: "list the tasks",
@@ -81,6 +87,7 @@ fn dispatch(args: &[String]) -> anyhow::Result<()> {
         "dist" => dist::run_task(rest),
         "demo-data" => demo_data::run(rest),
         "bench-vs-scipy" => bench_vs_scipy::run(rest),
+        "bench-batch" => bench_batch::run(rest),
         other => {
             help();
             anyhow::bail!("unknown task `{other}`")

@@ -130,6 +130,12 @@ test("with more than two columns the user picks the value column", async () => {
   const demo = readDemo("aldermoor_subscribers.csv").trim().split("\n");
   const three = demo.map((l, i) => (i === 0 ? `${l},doubled` : `${l},${2 * Number(l.split(",")[1])}`)).join("\n");
   await pasteData(page, three);
+  // Read as two series by default; "one series" offers the column choice.
+  assert.equal(await page.isVisible("#multi"), true);
+  let updates = await page.evaluate(() => Number(document.body.dataset.updates));
+  await page.selectOption("#layout", "single");
+  await waitReady(page, updates + 1);
+  assert.equal(await page.isVisible("#multi"), false);
   assert.equal(await page.isVisible("#columns"), true);
   const k1 = await paramValue(page, "K");
   const before = await page.evaluate(() => Number(document.body.dataset.updates));
@@ -218,7 +224,8 @@ test("every chart downloads as PNG and as SVG", async () => {
     await dl.saveAs(file);
     return readFileSync(file);
   };
-  const charts = await page.$$eval("canvas.chart", (cs) => cs.map((c) => c.dataset.chart));
+  // The several-series overlay is hidden for a single series (its own test covers it).
+  const charts = await page.$$eval("canvas.chart", (cs) => cs.filter((c) => !c.closest("[hidden]")).map((c) => c.dataset.chart));
   assert.equal(charts.length, 8, charts.join());
   for (const chart of charts) {
     const png = await grab(`button[data-png="${chart}"]`);
@@ -236,7 +243,7 @@ test("charts are drawn at the device pixel ratio and are not blank", async () =>
   const page = await context.newPage();
   await page.goto(server.url);
   await waitReady(page, 1);
-  const charts = await page.$$eval("canvas.chart", (canvases) => canvases.map((c) => {
+  const charts = await page.$$eval("canvas.chart", (canvases) => canvases.filter((c) => !c.closest("[hidden]")).map((c) => {
     const ctx = c.getContext("2d");
     const data = ctx.getImageData(0, 0, c.width, c.height).data;
     let inked = 0;

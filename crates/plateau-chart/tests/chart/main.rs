@@ -675,3 +675,73 @@ fn bass_and_bilogistic_charts_draw() {
     render(ChartKind::Rate, &two.input());
     render(ChartKind::Residuals, &two.input());
 }
+
+/// Several logistic series with different K, r and t0: normalised by
+/// their own fits they all lie near the standard logistic (analytic fact:
+/// y / K = 1 / (1 + e^(−r (t − t0))) for every logistic).
+#[test]
+fn overlay_puts_every_series_on_the_reference_curve() {
+    use plateau_chart::{normalise, render_overlay_svg, OverlaySeries};
+    let cases: Vec<Case> = [
+        [1000.0, 0.5, 2010.0],
+        [40.0, 1.2, 2008.0],
+        [2.5e6, 0.3, 2015.0],
+    ]
+    .iter()
+    .map(|p| Case::new(Model::Logistic, Model::Logistic, p, 30, p[0] * 0.01))
+    .collect();
+    for c in &cases {
+        for (&t, &y) in c.t.iter().zip(&c.y) {
+            let (x, v) = normalise(&c.fit, t, y).unwrap();
+            let reference = 1.0 / (1.0 + (-x).exp());
+            assert!((v - reference).abs() < 0.05, "{x} {v} {reference}");
+        }
+    }
+    let names = ["north", "south", "metro"];
+    let series: Vec<OverlaySeries> = cases
+        .iter()
+        .zip(names)
+        .map(|(c, name)| OverlaySeries {
+            name,
+            times: &c.t,
+            values: &c.y,
+            fit: &c.fit,
+        })
+        .collect();
+    let svg = render_overlay_svg(&series, W, H).unwrap();
+    std::fs::write(std::env::temp_dir().join("plateau-overlay.svg"), &svg).unwrap();
+    for name in names {
+        assert!(svg.contains(&format!("\n{name}\n")), "legend names {name}");
+    }
+    assert!(svg.contains("logistic 1 / (1 + e^−x)"));
+    assert!(svg.contains("r (t − t0)") && svg.contains("y / K"));
+    // Every observation within the view (|x| <= 10) drawn as a marker
+    // (circles for the first 8 series), plus the legend's 3.
+    let inside = cases
+        .iter()
+        .flat_map(|c| {
+            c.t.iter()
+                .zip(&c.y)
+                .map(|(&t, &y)| normalise(&c.fit, t, y).unwrap())
+        })
+        .filter(|(x, _)| x.abs() <= 10.0)
+        .count();
+    assert!(inside > 60 && inside < 90, "{inside}");
+    assert_eq!(svg.matches("<circle").count(), inside + 3);
+
+    // An exponential fit has no K: a message instead of an empty chart.
+    let t: Vec<f64> = (0..20).map(f64::from).collect();
+    let y: Vec<f64> = t
+        .iter()
+        .map(|t| 5.0 * (0.2 * t).exp() + (3.0 * t).sin() * 0.1)
+        .collect();
+    let fit = fit_xy(&t, &y, Model::Exponential, &FitOptions::default()).unwrap();
+    let only = [OverlaySeries {
+        name: "early",
+        times: &t,
+        values: &y,
+        fit: &fit,
+    }];
+    let svg = render_overlay_svg(&only, W, H).unwrap();
+    assert!(svg.contains("needs a model with K"));
+}

@@ -702,6 +702,122 @@ fn compare_picks_the_bilogistic_for_two_waves() {
     assert!(text.contains("bass") && text.contains("K1, r1, t01, K2, r2, t02"));
 }
 
+/// JSON Lines of `plateau batch --json`.
+fn json_lines(out: &Output) -> Vec<Value> {
+    String::from_utf8_lossy(&out.stdout)
+        .lines()
+        .map(|l| serde_json::from_str(l).expect("each line is one JSON object"))
+        .collect()
+}
+
+#[test]
+fn batch_fits_every_region_in_input_order() {
+    let out = plateau(
+        &["batch", &demo("regional_adoption_long.csv"), "--json"],
+        None,
+    );
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let lines = json_lines(&out);
+    let names: Vec<&str> = lines
+        .iter()
+        .map(|v| v["series"].as_str().unwrap())
+        .collect();
+    assert_eq!(
+        names,
+        ["Brackenridge", "Corrie Haven", "Dunmere", "Eastwold"]
+    );
+    for v in &lines {
+        assert_eq!(v["converged"], true);
+        assert!(v["K"]["ci95"].is_array());
+        assert_eq!(v["fit"]["n"], 60);
+        assert!(v["t0_date"].as_str().unwrap().starts_with("202"));
+    }
+    // The caution goes to stderr when stdout is for machines.
+    assert!(String::from_utf8_lossy(&out.stderr).contains("extrapolations"));
+}
+
+#[test]
+fn batch_numbers_equal_a_single_fit_of_each_series() {
+    let lines = json_lines(&plateau(
+        &["batch", &demo("regional_adoption_long.csv"), "--json"],
+        None,
+    ));
+    // Dunmere's rows, alone, through `plateau fit`.
+    let text = std::fs::read_to_string(demo("regional_adoption_long.csv")).unwrap();
+    let dunmere: String = std::iter::once("month,households\n".to_string())
+        .chain(
+            text.lines()
+                .filter_map(|l| l.strip_prefix("Dunmere,"))
+                .map(|l| format!("{l}\n")),
+        )
+        .collect();
+    let single = json(&plateau(&["fit", "-", "--json"], Some(&dunmere)));
+    assert_eq!(lines[2]["fit"]["params"], single["params"]);
+}
+
+#[test]
+fn batch_csv_has_a_header_and_one_row_per_series() {
+    let out = plateau(
+        &["batch", &demo("regional_adoption_long.csv"), "--csv"],
+        None,
+    );
+    assert!(out.status.success());
+    let text = String::from_utf8_lossy(&out.stdout);
+    let rows: Vec<&str> = text.lines().collect();
+    assert_eq!(rows.len(), 5);
+    assert!(rows[0].starts_with("series,model,n,K,K_lo95,K_hi95,r,"));
+    assert!(rows[4].starts_with("Eastwold,logistic,60,"));
+}
+
+#[test]
+fn batch_failed_series_are_reported_and_the_rest_go_on() {
+    let text = "region,t,y\n\
+                a,1,10\na,2,20\na,3,45\na,4,70\na,5,85\na,6,95\na,7,98\n\
+                b,1,10\nb,2,oops\n\
+                c,1,5\nc,2,12\nc,3,30\nc,4,50\nc,5,68\nc,6,80\nc,7,86\n\
+                a,8,99\n";
+    let out = plateau(&["batch", "-", "--json"], Some(text));
+    assert_eq!(out.status.code(), Some(1));
+    let lines = json_lines(&out);
+    let got: Vec<(&str, bool)> = lines
+        .iter()
+        .map(|v| (v["series"].as_str().unwrap(), v["error"].is_null()))
+        .collect();
+    assert_eq!(got, [("a", true), ("b", false), ("c", true), ("a", false)]);
+    assert_eq!(lines[1]["error_line"], 10);
+    assert!(lines[1]["error"].as_str().unwrap().contains("line 10"));
+    assert_eq!(lines[3]["error_line"], 18);
+    let msg = lines[3]["error"].as_str().unwrap();
+    assert!(msg.contains("line 8") && msg.contains("together"), "{msg}");
+    assert!(String::from_utf8_lossy(&out.stderr).contains("2 of 4 series failed"));
+}
+
+#[test]
+fn batch_row_without_series_name_stops_with_exit_2() {
+    let out = plateau(&["batch", "-"], Some("s,t,y\na,1,1\n,2,2\n"));
+    assert_eq!(out.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        err.contains("line 3") && err.contains("series name"),
+        "{err}"
+    );
+}
+
+#[test]
+fn batch_table_shows_the_caution_and_intervals() {
+    let out = plateau(&["batch", &demo("regional_adoption_long.csv")], None);
+    assert!(out.status.success());
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert!(text.starts_with("Forecasts are extrapolations"));
+    assert!(text
+        .lines()
+        .any(|l| l.starts_with("Corrie Haven") && l.contains('[')));
+}
+
 /// `plateau diagnose` takes the error model and increments of `plateau fit`;
 /// the residuals follow them (n − 1 increments).
 #[test]

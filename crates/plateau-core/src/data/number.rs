@@ -65,6 +65,53 @@ fn all_digits(s: &str) -> bool {
 /// Parses a trimmed or untrimmed number under the given decimal convention.
 pub(super) fn parse_number(s: &str, dec: Decimal) -> Result<f64, NumError> {
     let s = s.trim();
+    if is_plain(s, dec) {
+        // The common case, read directly: the same decimal number as the
+        // general path below rebuilds, and Rust's parse rounds correctly,
+        // so the result is the same (a test compares the two paths).
+        return match s.parse::<f64>() {
+            Ok(v) if v.is_finite() && v.abs() <= MAX_ABS => Ok(v),
+            Ok(_) => Err(NumError::NotFinite),
+            Err(_) => Err(NumError::Invalid),
+        };
+    }
+    parse_general(s, dec)
+}
+
+/// `-?digits[.digits][(e|E)[+-]digits]` with at least one mantissa digit,
+/// and the `.` only under the decimal point: a number Rust's own parser
+/// reads exactly as written.
+fn is_plain(s: &str, dec: Decimal) -> bool {
+    let b = s.as_bytes();
+    let mut i = usize::from(b.first() == Some(&b'-'));
+    let mut digits = 0;
+    let mut point = false;
+    while let Some(&c) = b.get(i) {
+        match c {
+            b'0'..=b'9' => digits += 1,
+            b'.' if dec == Decimal::Point && !point => point = true,
+            _ => break,
+        }
+        i += 1;
+    }
+    if digits == 0 {
+        return false;
+    }
+    if i == b.len() {
+        return true;
+    }
+    if !matches!(b[i], b'e' | b'E') {
+        return false;
+    }
+    i += 1;
+    if matches!(b.get(i), Some(b'+' | b'-')) {
+        i += 1;
+    }
+    i < b.len() && b[i..].iter().all(u8::is_ascii_digit)
+}
+
+/// [`parse_number`] for every form: grouping, signs, the decimal comma.
+fn parse_general(s: &str, dec: Decimal) -> Result<f64, NumError> {
     let (negative, body) = if let Some(r) = s.strip_prefix(['-', '\u{2212}']) {
         (true, r)
     } else if let Some(r) = s.strip_prefix('+') {
@@ -206,5 +253,43 @@ fn separator_role(s: &str, sep: char) -> Role {
         (true, 2) => Role::Ambiguous,
         (true, _) => Role::Grouping,
         (false, _) => Role::Decimal,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use proptest::prelude::*;
+
+    fn number_like() -> impl Strategy<Value = String> {
+        let piece = prop::sample::select(vec![
+            "0", "1", "7", "9", "00", "123", ".", ",", "-", "+", "e", "E", "e-", "e+", " ", "'",
+            "1e308", "inf", "\u{2212}",
+        ]);
+        prop::collection::vec(piece, 0..8).prop_map(|v| v.concat())
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(2048))]
+
+        /// The direct path for plain numbers gives exactly what the general
+        /// path gives, for both conventions.
+        #[test]
+        fn plain_numbers_read_as_the_general_path_reads_them(s in number_like()) {
+            for dec in [Decimal::Point, Decimal::Comma] {
+                let t = s.trim();
+                if is_plain(t, dec) {
+                    prop_assert_eq!(parse_number(&s, dec), parse_general(t, dec), "{:?}", s);
+                }
+            }
+        }
+
+        #[test]
+        fn written_floats_read_back_exactly(x in -1e300..1e300f64) {
+            for text in [format!("{x}"), format!("{x:e}"), format!("{x:.3}")] {
+                prop_assert!(is_plain(&text, Decimal::Point), "{}", text);
+                prop_assert_eq!(parse_number(&text, Decimal::Point), parse_general(&text, Decimal::Point));
+            }
+        }
     }
 }

@@ -7,6 +7,7 @@ mod bootstrap_calibration;
 mod calibration;
 mod diagnostics;
 mod error_models;
+mod multi;
 mod nist;
 mod profile;
 mod recovery;

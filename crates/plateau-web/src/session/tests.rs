@@ -360,3 +360,91 @@ fn bilogistic_on_two_waves_has_no_peak_row_or_symmetry() {
     assert!(a.view.peak.is_none() && a.view.symmetry.is_none());
     assert!(a.view.milestones.iter().any(|m| m.label == "50% of K"));
 }
+
+const LONG: &str = include_str!("../../../../demo-data/regional_adoption_long.csv");
+
+#[test]
+fn several_series_are_detected_fitted_and_summarised() {
+    let a = analyse(DEMO_MULTI_TEXT, &Settings::default()).expect("the multi demo fits");
+    let m = a.view.multi.as_ref().expect("several series");
+    assert_eq!(a.view.layout, "wide");
+    assert_eq!(m.summary.len(), 4);
+    assert_eq!(m.selected, 0);
+    let names: Vec<&str> = m.summary.iter().map(|s| s.series.as_str()).collect();
+    assert_eq!(
+        names,
+        ["Brackenridge", "Corrie Haven", "Dunmere", "Eastwold"]
+    );
+    // The detailed view is the first series' own fit.
+    assert_eq!(
+        Some(a.fit.param("K").unwrap().estimate),
+        m.summary[0].k.map(|k| k.estimate)
+    );
+    // Long layout: the same numbers.
+    let b = analyse(LONG, &Settings::default()).unwrap();
+    let mb = b.view.multi.as_ref().unwrap();
+    assert_eq!(b.view.layout, "long");
+    assert_eq!(
+        m.summary,
+        mb.summary
+            .iter()
+            .cloned()
+            .map(|mut s| {
+                // Only the first line differs between the layouts.
+                s.first_line = m
+                    .summary
+                    .iter()
+                    .find(|x| x.series == s.series)
+                    .unwrap()
+                    .first_line;
+                s
+            })
+            .collect::<Vec<_>>()
+    );
+    // The summary CSV: a header and one row per series.
+    let csv = a.summary_csv().unwrap();
+    assert_eq!(csv.lines().count(), 5);
+    assert!(csv
+        .lines()
+        .nth(3)
+        .unwrap()
+        .starts_with("Dunmere,logistic,60,"));
+    assert!(demo().summary_csv().is_none());
+}
+
+#[test]
+fn the_selected_series_gets_the_detailed_results() {
+    let settings = Settings {
+        series: Some(2),
+        ..Settings::default()
+    };
+    let a = analyse(DEMO_MULTI_TEXT, &settings).unwrap();
+    assert_eq!(a.view.multi.as_ref().unwrap().selected, 2);
+    assert_eq!(a.view.value_name, "Dunmere");
+    let dunmere = &a.multi.as_ref().unwrap().series[2];
+    let direct = plateau_core::fit(dunmere, Model::Logistic, &FitOptions::default()).unwrap();
+    assert_eq!(a.fit.values(), direct.values());
+}
+
+#[test]
+fn one_series_layout_keeps_the_column_choice() {
+    let settings = Settings {
+        layout: Some("single".into()),
+        value_column: Some(3),
+        ..Settings::default()
+    };
+    let a = analyse(DEMO_MULTI_TEXT, &settings).unwrap();
+    assert!(a.view.multi.is_none());
+    assert_eq!(a.view.value_name, "Dunmere");
+    assert_eq!(a.view.columns.len(), 5);
+}
+
+#[test]
+fn several_series_errors_name_line_and_series() {
+    let text = "month,north,south\n2024-01,1,2\n2024-02,3,x\n";
+    let e = analyse(text, &Settings::default()).unwrap_err();
+    assert_eq!(e.line, Some(3));
+    assert!(e.message.contains("series \"south\""), "{}", e.message);
+    let e = analyse("s,t,y\na,1,1\nb,1,2\na,2,3\n", &Settings::default()).unwrap_err();
+    assert_eq!(e.line, Some(4));
+}

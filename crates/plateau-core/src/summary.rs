@@ -1,0 +1,212 @@
+//! One row per series when several series are fitted at once: the
+//! parameters every practitioner compares across series (K, r, t0 and the
+//! 10%→90% duration, each with its 95% interval), whether the fit
+//! converged, its warnings, or why there is no fit.
+//!
+//! [`SeriesSummary`] serialises to JSON (the CLI's `batch --json` lines,
+//! the page) and [`summary_csv`] writes the same rows as CSV (the CLI's
+//! `batch --csv`, the page's export), so both front ends share one shape.
+//! Field and column names are an output contract: add, never rename.
+
+use crate::analysis;
+use crate::data::{Series, TimeKind};
+use crate::fit::Fit;
+use crate::warning::Warning;
+use serde::Serialize;
+use std::fmt::Write;
+
+/// An estimate with its 95% interval.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Estimate {
+    pub estimate: f64,
+    /// `[lo, hi]`, or `null` without a covariance.
+    pub ci95: Option<[f64; 2]>,
+}
+
+/// One series' row.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct SeriesSummary {
+    pub series: String,
+    pub model: &'static str,
+    /// Line of the series' first row in the input.
+    pub first_line: Option<usize>,
+    /// Observations fitted; `null` when there is no fit.
+    pub n: Option<usize>,
+    #[serde(rename = "K")]
+    pub k: Option<Estimate>,
+    pub r: Option<Estimate>,
+    pub t0: Option<Estimate>,
+    /// t0 as a date when the input had dates, months or quarters.
+    pub t0_date: Option<String>,
+    /// Time from 10% to 90% of K (`ln 81 / r` for the logistic), in time units.
+    pub duration_10_90: Option<Estimate>,
+    pub converged: Option<bool>,
+    /// Data-input warnings, then the fit's.
+    pub warnings: Vec<Warning>,
+    /// Why the series has no fit (bad data or a failed fit).
+    pub error: Option<String>,
+    /// The line the error is about, when it has one.
+    pub error_line: Option<usize>,
+}
+
+fn estimate(fit: &Fit, name: &str) -> Option<Estimate> {
+    fit.param(name).map(|p| Estimate {
+        estimate: p.estimate,
+        ci95: p.ci95.map(|(a, b)| [a, b]),
+    })
+}
+
+impl SeriesSummary {
+    /// The row of a series that was fitted.
+    pub fn from_fit(name: &str, series: &Series, fit: &Fit) -> SeriesSummary {
+        let t0 = estimate(fit, "t0");
+        let t0_date = t0.and_then(|t| match series.time_kind {
+            TimeKind::Number => None,
+            TimeKind::Date | TimeKind::Month | TimeKind::Quarter => t
+                .estimate
+                .is_finite()
+                .then(|| TimeKind::Date.format(t.estimate)),
+        });
+        SeriesSummary {
+            series: name.to_string(),
+            model: fit.model.name(),
+            first_line: series.lines.first().copied(),
+            n: Some(fit.n),
+            k: estimate(fit, "K"),
+            r: estimate(fit, "r"),
+            t0,
+            t0_date,
+            duration_10_90: analysis::duration_10_90(fit).map(|m| Estimate {
+                estimate: m.time,
+                ci95: m.ci95.map(|(a, b)| [a, b]),
+            }),
+            converged: Some(fit.converged),
+            warnings: series
+                .warnings
+                .iter()
+                .chain(&fit.warnings)
+                .cloned()
+                .collect(),
+            error: None,
+            error_line: None,
+        }
+    }
+
+    /// The row of a series with no fit.
+    pub fn from_error(
+        name: &str,
+        model: &'static str,
+        first_line: Option<usize>,
+        error_line: Option<usize>,
+        message: &str,
+        warnings: &[Warning],
+    ) -> SeriesSummary {
+        SeriesSummary {
+            series: name.to_string(),
+            model,
+            first_line,
+            n: None,
+            k: None,
+            r: None,
+            t0: None,
+            t0_date: None,
+            duration_10_90: None,
+            converged: None,
+            warnings: warnings.to_vec(),
+            error: Some(message.to_string()),
+            error_line,
+        }
+    }
+}
+
+/// The CSV header of [`summary_csv`].
+pub const CSV_HEADER: &str =
+    "series,model,n,K,K_lo95,K_hi95,r,r_lo95,r_hi95,t0,t0_lo95,t0_hi95,t0_date,\
+duration_10_90,duration_lo95,duration_hi95,converged,warnings,error";
+
+/// One CSV line (no line end) in the columns of [`CSV_HEADER`]; empty
+/// cells where a value does not exist; warnings as their codes separated
+/// by spaces.
+pub fn csv_row(s: &SeriesSummary) -> String {
+    let mut out = String::new();
+    let num = |x: Option<f64>| x.map_or(String::new(), |v| format!("{v}"));
+    let mut cells = vec![
+        csv_text(&s.series),
+        s.model.to_string(),
+        s.n.map_or(String::new(), |n| n.to_string()),
+    ];
+    for e in [&s.k, &s.r, &s.t0] {
+        cells.push(num(e.map(|e| e.estimate)));
+        cells.push(num(e.and_then(|e| e.ci95).map(|c| c[0])));
+        cells.push(num(e.and_then(|e| e.ci95).map(|c| c[1])));
+    }
+    cells.push(s.t0_date.clone().unwrap_or_default());
+    let d = &s.duration_10_90;
+    cells.push(num(d.map(|e| e.estimate)));
+    cells.push(num(d.and_then(|e| e.ci95).map(|c| c[0])));
+    cells.push(num(d.and_then(|e| e.ci95).map(|c| c[1])));
+    cells.push(s.converged.map_or(String::new(), |c| c.to_string()));
+    let codes: Vec<&str> = s.warnings.iter().map(|w| w.code.as_str()).collect();
+    cells.push(codes.join(" "));
+    cells.push(csv_text(s.error.as_deref().unwrap_or("")));
+    let _ = write!(out, "{}", cells.join(","));
+    out
+}
+
+/// The whole table as CSV, header first, one line per series, `\n` line ends.
+pub fn summary_csv(rows: &[SeriesSummary]) -> String {
+    let mut out = String::from(CSV_HEADER);
+    out.push('\n');
+    for r in rows {
+        out.push_str(&csv_row(r));
+        out.push('\n');
+    }
+    out
+}
+
+/// Quotes a CSV field when it needs it (RFC 4180).
+fn csv_text(s: &str) -> String {
+    if s.contains([',', '"', '\n', '\r']) {
+        format!("\"{}\"", s.replace('"', "\"\""))
+    } else {
+        s.to_string()
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::{fit, parse_series, Model, ParseOptions};
+
+    #[test]
+    fn csv_has_one_row_per_series_and_quotes_names() {
+        // Exact logistic K = 100, r = 0.5, t0 = 10 (analytic values).
+        let text: String = (0..30)
+            .map(|i| {
+                let t = f64::from(i);
+                format!("{t},{}\n", 100.0 / (1.0 + (-0.5 * (t - 10.0)).exp()))
+            })
+            .collect();
+        let s = parse_series(&text, &ParseOptions::default()).unwrap();
+        let f = fit(&s, Model::Logistic, &Default::default()).unwrap();
+        let ok = SeriesSummary::from_fit("north, upper", &s, &f);
+        let bad =
+            SeriesSummary::from_error("south", "logistic", Some(40), Some(42), "line 42: bad", &[]);
+        let csv = summary_csv(&[ok.clone(), bad]);
+        let lines: Vec<&str> = csv.lines().collect();
+        assert_eq!(lines.len(), 3);
+        assert_eq!(lines[0].split(',').count(), 19);
+        assert!(
+            lines[1].starts_with("\"north, upper\",logistic,30,"),
+            "{}",
+            lines[1]
+        );
+        assert!(lines[2].starts_with("south,logistic,,"), "{}", lines[2]);
+        assert!(lines[2].ends_with(",line 42: bad"));
+        // 10→90 duration of the logistic is ln(81)/r (analytic).
+        let d = ok.duration_10_90.unwrap().estimate;
+        assert!((d - 81f64.ln() / 0.5).abs() < 1e-6, "{d}");
+        let k = ok.k.unwrap();
+        assert!((k.estimate - 100.0).abs() < 1e-6);
+    }
+}

@@ -213,29 +213,39 @@ test("exports download and parse: CSV one row per time, JSON in the CLI's schema
 });
 
 test("every chart downloads as PNG and as SVG", async () => {
-  // A browser of its own: Chromium stops delivering downloads after many
-  // from one browser, and the other tests download too.
+  // A browser of its own, and a fresh page for every chart: Chromium stops
+  // delivering downloads after several in a row from one page.
   const own = await launch();
-  const { page, context } = await openPage(own, server.url);
-  // A page of its own: Chromium throttles many downloads from one page.
-  const grab = async (selector) => {
-    const [dl] = await Promise.all([page.waitForEvent("download"), page.click(selector)]);
-    const file = path.join(OUT, dl.suggestedFilename());
-    await dl.saveAs(file);
-    return readFileSync(file);
-  };
-  // The several-series overlay is hidden for a single series (its own test covers it).
-  const charts = await page.$$eval("canvas.chart", (cs) => cs.filter((c) => !c.closest("[hidden]")).map((c) => c.dataset.chart));
-  assert.equal(charts.length, 8, charts.join());
-  for (const chart of charts) {
-    const png = await grab(`button[data-png="${chart}"]`);
-    assert.deepEqual([...png.subarray(0, 4)], [0x89, 0x50, 0x4e, 0x47], `${chart} PNG signature`);
-    const svg = (await grab(`button[data-svg="${chart}"]`)).toString("utf8");
-    assert.match(svg, /<svg[^>]*>/);
-    assert.match(svg, /<\/svg>\s*$/);
+  try {
+    const first = await openPage(own, server.url);
+    // The several-series overlay is hidden for a single series (its own test covers it).
+    const charts = await first.page.$$eval("canvas.chart", (cs) => cs.filter((c) => !c.closest("[hidden]")).map((c) => c.dataset.chart));
+    await first.context.close();
+    assert.equal(charts.length, 8, charts.join());
+    for (const chart of charts) {
+      const { page, context, errors } = await openPage(own, server.url);
+      const grab = async (selector) => {
+        const [dl] = await Promise.all([
+          page.waitForEvent("download", { timeout: 15000 }).catch((e) => {
+            throw new Error(`${selector}: no download (${e.message}); page errors: ${errors.join(" | ")}`);
+          }),
+          page.click(selector),
+        ]);
+        const file = path.join(OUT, dl.suggestedFilename());
+        await dl.saveAs(file);
+        return readFileSync(file);
+      };
+      const png = await grab(`button[data-png="${chart}"]`);
+      assert.deepEqual([...png.subarray(0, 4)], [0x89, 0x50, 0x4e, 0x47], `${chart} PNG signature`);
+      const svg = (await grab(`button[data-svg="${chart}"]`)).toString("utf8");
+      assert.match(svg, /<svg[^>]*>/);
+      assert.match(svg, /<\/svg>\s*$/);
+      await context.close();
+    }
+  } finally {
+    // A browser left open would keep the test file from ever finishing.
+    await own.close();
   }
-  await context.close();
-  await own.close();
 });
 
 test("charts are drawn at the device pixel ratio and are not blank", async () => {

@@ -6,6 +6,9 @@
 //!   target is at least 20,000 fits per second on the 2-core development
 //!   machine; criterion prints the rate as "thrpt".
 //! - `fits_logistic_n50_one_thread`: the same on one thread (per-core rate).
+//! - `fits_logistic_n50_asymptotic`: the same in parallel with
+//!   `--intervals asymptotic` (no profile refits): the self-started fits
+//!   themselves.
 //! - `end_to_end`: the same series as long-format CSV text in memory,
 //!   through `batch::run` (line splitting, grouping, validation, fits,
 //!   CSV output to a sink).
@@ -76,6 +79,21 @@ fn batch_bench(c: &mut Criterion) {
                 series
                     .into_par_iter()
                     .map(|s| batch::fit_one(Ok(s), &opts))
+                    .collect::<Vec<_>>()
+            },
+            criterion::BatchSize::LargeInput,
+        )
+    });
+    // Without the profile refits (`--intervals asymptotic`).
+    let mut asym = options();
+    asym.fit.intervals = plateau_core::IntervalMethod::Asymptotic;
+    group.bench_function("fits_logistic_n50_asymptotic", |b| {
+        b.iter_batched(
+            || set.series.clone(),
+            |series| {
+                series
+                    .into_par_iter()
+                    .map(|s| batch::fit_one(Ok(s), &asym))
                     .collect::<Vec<_>>()
             },
             criterion::BatchSize::LargeInput,

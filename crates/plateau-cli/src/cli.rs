@@ -253,4 +253,8 @@ pub struct BatchArgs {
     /// The values are counts per period: sum each series into running totals before fitting.
     #[arg(long)]
     pub per_period: bool,
+    /// Intervals: profile (profile likelihood, the default; open where the
+    /// data do not bound a parameter) or asymptotic (estimate ± t·se, faster).
+    #[arg(long, value_name = "METHOD", default_value = "profile")]
+    pub intervals: String,
 }

@@ -189,7 +189,10 @@ pub fn drift(args: &DriftArgs) -> Result<FitSettings> {
 pub fn batch(args: &BatchArgs) -> Result<batch::Options> {
     Ok(batch::Options {
         model: model(&args.model)?,
-        fit: FitOptions::default(),
+        fit: FitOptions {
+            intervals: intervals(&args.intervals)?,
+            ..FitOptions::default()
+        },
         delimiter: delimiter(args.delimiter.as_deref())?,
         header: header(args.header.as_deref())?,
         per_period: args.per_period,

@@ -846,3 +846,28 @@ fn diagnose_follows_the_error_model_and_increments() {
     assert_eq!(inc["residuals"]["n"], 29);
     assert!(inc["symmetry_test"]["lr_p_value"].as_f64().is_some());
 }
+
+/// `batch --intervals asymptotic` reports t-based intervals for every
+/// series (profile likelihood is the default); a bad method is refused.
+#[test]
+fn batch_intervals_can_be_asymptotic() {
+    let file = demo("regional_adoption_long.csv");
+    let default = json_lines(&plateau(&["batch", &file, "--json"], None));
+    let asym = json_lines(&plateau(
+        &["batch", &file, "--json", "--intervals", "asymptotic"],
+        None,
+    ));
+    assert_eq!(default.len(), asym.len());
+    for (d, a) in default.iter().zip(&asym) {
+        assert_eq!(d["fit"]["params"]["K"]["ci_method"], "profile");
+        assert_eq!(a["fit"]["params"]["K"]["ci_method"], "asymptotic");
+        assert_eq!(
+            a["fit"]["params"]["K"]["ci95"],
+            a["fit"]["params"]["K"]["ci95_asymptotic"]
+        );
+        assert_eq!(d["K"]["estimate"], a["K"]["estimate"]);
+    }
+    let out = plateau(&["batch", &file, "--intervals", "wide"], None);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("--intervals"));
+}

@@ -56,17 +56,7 @@ fn intervals(s: &str) -> Result<IntervalMethod> {
 }
 
 pub fn compare(args: &CompareArgs) -> Result<CompareSettings> {
-    let models = match &args.models {
-        None => Model::ALL.to_vec(),
-        Some(list) => list
-            .split(',')
-            .filter(|s| !s.trim().is_empty())
-            .map(model)
-            .collect::<Result<Vec<_>>>()?,
-    };
-    if models.is_empty() {
-        bail!("--models: expected a comma-separated list of model names");
-    }
+    let models = model_list(args.models.as_deref())?;
     Ok(CompareSettings {
         parse: parse_options(&args.input)?,
         models,
@@ -232,17 +222,7 @@ pub fn backtest(args: &BacktestArgs) -> Result<CompareSettings> {
     if args.min_train == Some(0) {
         bail!("--min-train: expected a positive number of points");
     }
-    let models = match &args.models {
-        None => Model::ALL.to_vec(),
-        Some(list) => list
-            .split(',')
-            .filter(|s| !s.trim().is_empty())
-            .map(model)
-            .collect::<Result<Vec<_>>>()?,
-    };
-    if models.is_empty() {
-        bail!("--models: expected a comma-separated list of model names");
-    }
+    let models = model_list(args.models.as_deref())?;
     Ok(CompareSettings {
         parse: parse_options(&args.input)?,
         models,
@@ -253,6 +233,22 @@ pub fn backtest(args: &BacktestArgs) -> Result<CompareSettings> {
             ..FitOptions::default()
         },
     })
+}
+
+/// `--models a,b,…`; every model when absent.
+fn model_list(list: Option<&str>) -> Result<Vec<Model>> {
+    let models = match list {
+        None => Model::ALL.to_vec(),
+        Some(list) => list
+            .split(',')
+            .filter(|s| !s.trim().is_empty())
+            .map(model)
+            .collect::<Result<Vec<_>>>()?,
+    };
+    if models.is_empty() {
+        bail!("--models: expected a comma-separated list of model names");
+    }
+    Ok(models)
 }
 
 fn model(name: &str) -> Result<Model> {

@@ -216,6 +216,29 @@ where
 }
 
 /// The legend box, in one style for every chart.
+/// Lines of text (each with its font size in points) stacked down from the
+/// top-left corner `at` of the plotting area, inset by a small margin.
+pub fn text_block<'a, DB: DrawingBackend + 'a>(
+    chart: &mut Chart<'a, '_, DB>,
+    at: (f64, f64),
+    lines: Vec<(String, f64)>,
+    scale: Scale,
+) -> Result<(), ChartError> {
+    let mut dy = scale.pxi(8.0);
+    for (text, size) in lines {
+        chart.draw_series(std::iter::once(
+            EmptyElement::at(at)
+                + Text::new(
+                    text,
+                    (scale.pxi(10.0), dy),
+                    scale.text(size).pos(Pos::new(HPos::Left, VPos::Top)),
+                ),
+        ))?;
+        dy += scale.pxi(size * 1.35);
+    }
+    Ok(())
+}
+
 pub fn legend<'a, DB: DrawingBackend + 'a>(
     chart: &mut Chart<'a, '_, DB>,
     position: SeriesLabelPosition,

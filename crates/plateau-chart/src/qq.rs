@@ -11,7 +11,6 @@ use crate::{ChartError, ChartInput};
 use plateau_core::diagnostics::{normal_qq, normality_verdict_of, residuals_in_time_order};
 use plotters::coord::Shift;
 use plotters::prelude::*;
-use plotters::style::text_anchor::{HPos, Pos, VPos};
 
 /// Draws the Q-Q chart on `area`.
 pub fn draw_qq<DB: DrawingBackend>(
@@ -83,18 +82,7 @@ pub fn draw_qq<DB: DrawingBackend>(
             .into_iter()
             .map(|l| (l, 12.0)),
     );
-    let mut dy = scale.pxi(8.0);
-    for (text, size) in lines {
-        chart.draw_series(std::iter::once(
-            EmptyElement::at((x.0, y.1))
-                + Text::new(
-                    text,
-                    (scale.pxi(10.0), dy),
-                    scale.text(size).pos(Pos::new(HPos::Left, VPos::Top)),
-                ),
-        ))?;
-        dy += scale.pxi(size * 1.35);
-    }
+    common::text_block(&mut chart, (x.0, y.1), lines, scale)?;
     common::legend(&mut chart, SeriesLabelPosition::LowerRight, scale)?;
     Ok(())
 }

@@ -8,6 +8,7 @@
 //! [`Termination`] reason and a `not_converged` warning.
 
 use crate::linalg;
+use crate::mathfn::nonfinite_bits;
 use crate::model::{Curve, Domain, Model, BLOCK, MAX_PARAMS};
 use crate::solver::{LeastSquares, Solver, Termination};
 use crate::stats;
@@ -406,7 +407,6 @@ impl CurveProblem<'_> {
         let mut start = 0;
         while start < m {
             let end = (start + BLOCK).min(m);
-            let n = end - start;
             let g: [&mut [f64]; MAX_PARAMS] = {
                 let mut blocks = cols
                     .each_mut()
@@ -419,29 +419,32 @@ impl CurveProblem<'_> {
             let r = &mut res[start..end];
             c.eval_block(&self.t[start..end], r, g);
             let y = &self.y[start..end];
+            // OR-ing `nonfinite_bits` tests the block without a branch, so
+            // that the loop vectorises.
+            let mut nonfinite = 0u64;
             match &self.sqrt_w {
                 None => {
-                    for i in 0..n {
-                        let e = y[i] - r[i];
-                        finite &= e.is_finite();
-                        r[i] = e;
+                    for (ri, yi) in r.iter_mut().zip(y) {
+                        let e = yi - *ri;
+                        nonfinite |= nonfinite_bits(e);
+                        *ri = e;
                     }
                 }
                 Some(w) => {
                     let w = &w[start..end];
-                    for i in 0..n {
-                        let e = (y[i] - r[i]) * w[i];
-                        finite &= e.is_finite();
-                        r[i] = e;
+                    for ((ri, yi), wi) in r.iter_mut().zip(y).zip(w) {
+                        let e = (yi - *ri) * wi;
+                        nonfinite |= nonfinite_bits(e);
+                        *ri = e;
                     }
                     for &j in &self.free {
-                        let col = &mut cols[j][start..end];
-                        for i in 0..n {
-                            col[i] *= w[i];
+                        for (ci, wi) in cols[j][start..end].iter_mut().zip(w) {
+                            *ci *= wi;
                         }
                     }
                 }
             }
+            finite &= nonfinite == 0;
             start = end;
         }
         finite

@@ -67,43 +67,59 @@ fn householder_qr_any(
         let (head, tail) = a.split_at_mut((k + 1) * m);
         let tail = &mut tail[..(total - k - 1) * m];
         let col = &mut head[k * m + k..(k + 1) * m];
-        let x0 = col[0];
-        let norm = norm2(col);
-        if norm == 0.0 || !norm.is_finite() {
-            // Nothing to annihilate (or nothing sensible to do): R's column
-            // is the column as it stands.
-            for i in 0..=k {
-                r[k * n + i] = head[k * m + i];
+        // The columns the reflection applies to, rows k..m: the later
+        // columns, then b.
+        let mut cols: [&mut [f64]; FUSED_MAX] = Default::default();
+        let mut count = 0;
+        let mut fused = true;
+        for c in tail
+            .chunks_exact_mut(m)
+            .map(|c| &mut c[k..])
+            .chain((!b.is_empty()).then(|| &mut b[k..m]))
+        {
+            if count == FUSED_MAX {
+                fused = false;
+                break;
             }
-            if !norm.is_finite() {
-                r[k * n + k] = norm;
-            }
-            continue;
+            cols[count] = c;
+            count += 1;
         }
-        // H = I − v vᵀ / τ with v = x − α e₁, α = −sign(x₀) ‖x‖, so that
-        // H x = α e₁ without cancellation; τ = vᵀv / 2 = ‖x‖ (‖x‖ + |x₀|).
-        let alpha = if x0 >= 0.0 { -norm } else { norm };
-        let v0 = x0 - alpha;
-        let tau = norm * (norm + x0.abs());
-        col[0] = v0;
-        let v: &[f64] = col;
-        // All later columns in two passes over the rows (their dot products
-        // with v, then the updates), not two passes per column.
-        match total - k - 1 {
-            0 => {}
-            1 => reflect_columns::<1>(v, tau, tail, m, k),
-            2 => reflect_columns::<2>(v, tau, tail, m, k),
-            3 => reflect_columns::<3>(v, tau, tail, m, k),
-            4 => reflect_columns::<4>(v, tau, tail, m, k),
-            _ => {
-                for cj in tail.chunks_exact_mut(m) {
-                    reflect(v, tau, &mut cj[k..]);
+        let alpha = if fused {
+            match count {
+                0 => reflect_fused::<0>(col, &mut cols),
+                1 => reflect_fused::<1>(col, &mut cols),
+                2 => reflect_fused::<2>(col, &mut cols),
+                3 => reflect_fused::<3>(col, &mut cols),
+                4 => reflect_fused::<4>(col, &mut cols),
+                5 => reflect_fused::<5>(col, &mut cols),
+                6 => reflect_fused::<6>(col, &mut cols),
+                7 => reflect_fused::<7>(col, &mut cols),
+                _ => reflect_fused::<FUSED_MAX>(col, &mut cols),
+            }
+        } else {
+            None
+        };
+        let alpha = match alpha {
+            Some(alpha) => alpha,
+            None => {
+                let col = &mut head[k * m + k..(k + 1) * m];
+                match reflect_scaled(col, tail, m, k, if b.is_empty() { b } else { &mut b[k..m] }) {
+                    Some(alpha) => alpha,
+                    None => {
+                        // Nothing to annihilate (or nothing sensible to
+                        // do): R's column is the column as it stands.
+                        let norm = norm2(&head[k * m + k..(k + 1) * m]);
+                        for i in 0..=k {
+                            r[k * n + i] = head[k * m + i];
+                        }
+                        if !norm.is_finite() {
+                            r[k * n + k] = norm;
+                        }
+                        continue;
+                    }
                 }
             }
-        }
-        if !b.is_empty() {
-            reflect(v, tau, &mut b[k..m]);
-        }
+        };
         // R's column k: entries above the diagonal were set by earlier
         // reflections and are final now.
         for i in 0..k {
@@ -120,50 +136,127 @@ fn householder_qr_any(
     }
 }
 
-/// `c ← (I − v vᵀ / τ) c` for the `C` columns of `cols` (each `m` long),
-/// on their rows `k..m` (which `v` spans).
+/// The most columns [`reflect_fused`] takes at once (the later columns of
+/// a growth model's Jacobian and the right side); more go to
+/// [`reflect_scaled`].
+const FUSED_MAX: usize = 8;
+
+/// One Householder step on the column `x` (rows k..m), applied to the `C`
+/// columns `cols` (the same rows), in two passes over the rows: the first
+/// gathers `Σ_{i≥1} x_i²` and every `Σ_{i≥1} x_i c_i` at once, the second
+/// updates every column. With `H = I − v vᵀ / τ`, `v = x − α e₁`,
+/// `α = −sign(x₀) ‖x‖` (so that `H x = α e₁` without cancellation) and
+/// `τ = vᵀv / 2 = ‖x‖ (‖x‖ + |x₀|)`, the dot products with `v` follow from
+/// those with `x` exactly: `vᵀc = Σ_{i≥1} x_i c_i + v₀ c₀`, as `v` and `x`
+/// differ only in their first entry.
+///
+/// Writes `v` over `x` and returns `α`; returns `None` (and changes
+/// nothing) when `‖x‖²` is zero, subnormal or not finite, where the
+/// rescaled path must decide.
 #[inline(always)]
-fn reflect_columns<const C: usize>(v: &[f64], tau: f64, cols: &mut [f64], m: usize, k: usize) {
-    let len = m - k;
-    let v = &v[..len];
-    let mut it = cols.chunks_exact_mut(m);
-    let mut cs: [&mut [f64]; C] = std::array::from_fn(|_| {
-        let c = it.next().expect("C columns");
-        &mut c[k..m]
-    });
-    // Partial sums per column, as in `dot`.
+fn reflect_fused<const C: usize>(x: &mut [f64], cols: &mut [&mut [f64]; FUSED_MAX]) -> Option<f64> {
+    let len = x.len();
+    let (x0, rest) = x.split_first_mut()?;
+    let n_rest = len - 1;
+    let cs: &mut [&mut [f64]; C] = (&mut cols[..C]).try_into().expect("C columns");
+    let mut c_rest: [&mut [f64]; C] = std::array::from_fn(|_| <&mut [f64]>::default());
+    let mut c_first = [0.0f64; C];
+    for (c, (dst, first)) in cs.iter_mut().zip(c_rest.iter_mut().zip(c_first.iter_mut())) {
+        let (f, rr) = std::mem::take(c).split_first_mut().expect("as long as x");
+        *first = *f;
+        *dst = &mut rr[..n_rest];
+        // Keep a handle on the first entry for the update below.
+        *c = std::slice::from_mut(f);
+    }
+    let rest = &mut rest[..n_rest];
+    // Pass 1: partial sums per lane, as in `dot`.
+    let mut axx = [0.0f64; LANES];
     let mut acc = [[0.0f64; LANES]; C];
-    let full = len - len % LANES;
+    let full = n_rest - n_rest % LANES;
     for i in (0..full).step_by(LANES) {
-        let vi = &v[i..i + LANES];
+        let xi = &rest[i..i + LANES];
+        for l in 0..LANES {
+            axx[l] += xi[l] * xi[l];
+        }
         for c in 0..C {
-            let col = &cs[c][i..i + LANES];
+            let ci = &c_rest[c][i..i + LANES];
             for l in 0..LANES {
-                acc[c][l] += vi[l] * col[l];
+                acc[c][l] += xi[l] * ci[l];
             }
         }
     }
+    let mut sxx = 0.0;
+    for &xi in &rest[full..] {
+        sxx += xi * xi;
+    }
+    let x0v = *x0;
+    let ss = x0v * x0v + (reduce(&axx) + sxx);
+    if !(ss.is_finite() && ss > f64::MIN_POSITIVE) {
+        for (c, first) in cs.iter_mut().zip(c_first) {
+            c[0] = first;
+        }
+        return None;
+    }
+    let norm = ss.sqrt();
+    let alpha = if x0v >= 0.0 { -norm } else { norm };
+    let v0 = x0v - alpha;
+    let tau = norm * (norm + x0v.abs());
     let mut scale = [0.0f64; C];
     for c in 0..C {
-        let mut tail = 0.0;
-        for i in full..len {
-            tail += v[i] * cs[c][i];
+        let mut t = 0.0;
+        for i in full..n_rest {
+            t += rest[i] * c_rest[c][i];
         }
-        scale[c] = (reduce(&acc[c]) + tail) / tau;
+        scale[c] = ((reduce(&acc[c]) + t) + v0 * c_first[c]) / tau;
     }
-    for (col, s) in cs.iter_mut().zip(scale) {
-        axpy(col, -s, v);
+    // Pass 2: c ← c − (vᵀc / τ) v, every column in the same pass.
+    for c in 0..C {
+        cs[c][0] = c_first[c] - scale[c] * v0;
     }
+    for i in (0..full).step_by(LANES) {
+        let xi = &rest[i..i + LANES];
+        for c in 0..C {
+            let ci = &mut c_rest[c][i..i + LANES];
+            for l in 0..LANES {
+                ci[l] -= scale[c] * xi[l];
+            }
+        }
+    }
+    for i in full..n_rest {
+        for c in 0..C {
+            c_rest[c][i] -= scale[c] * rest[i];
+        }
+    }
+    *x0 = v0;
+    Some(alpha)
 }
 
-/// `y ← y + a x`.
-#[inline(always)]
-fn axpy(y: &mut [f64], a: f64, x: &[f64]) {
-    if a != 0.0 {
-        for (yi, xi) in y.iter_mut().zip(x) {
-            *yi += a * xi;
-        }
+/// One Householder step on column `k` of the column-major `a` (as
+/// [`reflect_fused`], the norm rescaled against overflow and underflow),
+/// applied column by column to the later columns `tail` and to `b`
+/// (rows k..m, or empty). `None` when the column is zero or not finite.
+fn reflect_scaled(
+    col: &mut [f64],
+    tail: &mut [f64],
+    m: usize,
+    k: usize,
+    b: &mut [f64],
+) -> Option<f64> {
+    let x0 = col[0];
+    let norm = norm2(col);
+    if norm == 0.0 || !norm.is_finite() {
+        return None;
     }
+    let alpha = if x0 >= 0.0 { -norm } else { norm };
+    let tau = norm * (norm + x0.abs());
+    col[0] = x0 - alpha;
+    for cj in tail.chunks_exact_mut(m) {
+        reflect(col, tau, &mut cj[k..]);
+    }
+    if !b.is_empty() {
+        reflect(col, tau, b);
+    }
+    Some(alpha)
 }
 
 /// `c ← (I − v vᵀ / τ) c`.
@@ -544,6 +637,35 @@ mod tests {
             assert_eq!(bits(&a1), bits(&a2));
             assert_eq!(bits(&b1), bits(&b2));
             assert_eq!(bits(&r1), bits(&r2));
+        }
+    }
+
+    /// More columns than the fused kernel takes go column by column and
+    /// still give RᵀR = AᵀA (Householder QR: Qᵀ A = R with Q orthogonal).
+    #[test]
+    fn qr_of_many_columns_keeps_the_gram_matrix() {
+        for (m, n, scale) in [(30, 10, 1.0), (12, 9, 1e3)] {
+            let a = mat(m, n, |i, j| {
+                scale * (((i * 5 + j * 3) % 11) as f64 - 4.5 + 0.01 * (i * j) as f64)
+            });
+            let mut work = a.clone();
+            let mut r = vec![0.0; n * n];
+            householder_qr(&mut work, m, n, 0, &mut [], &mut r);
+            for p in 0..n {
+                for q in 0..n {
+                    // Scaled back to order one before the products.
+                    let ata: f64 = (0..m)
+                        .map(|i| (a[p * m + i] / scale) * (a[q * m + i] / scale))
+                        .sum();
+                    let rtr: f64 = (0..n)
+                        .map(|i| (r[p * n + i] / scale) * (r[q * n + i] / scale))
+                        .sum();
+                    assert!(
+                        (ata - rtr).abs() < 1e-11 * ata.abs().max(1.0),
+                        "m={m} n={n} scale={scale:e} ({p},{q}): {ata} vs {rtr}"
+                    );
+                }
+            }
         }
     }
 

@@ -33,7 +33,7 @@ pub(crate) fn householder_qr(
         // SAFETY: the processor supports AVX2, checked just above.
         return unsafe { householder_qr_avx2(a, m, n, extra, b, r) };
     }
-    householder_qr_any(a, m, n, extra, b, r)
+    householder_qr_any::<false>(a, m, n, extra, b, r)
 }
 
 /// [`householder_qr`] compiled for AVX2 (see the crate docs).
@@ -47,11 +47,13 @@ fn householder_qr_avx2(
     b: &mut [f64],
     r: &mut [f64],
 ) {
-    householder_qr_any(a, m, n, extra, b, r)
+    householder_qr_any::<true>(a, m, n, extra, b, r)
 }
 
+/// [`householder_qr`]; `SIMD` selects the AVX2 kernels (set only by
+/// [`householder_qr_avx2`]), which give the same bits.
 #[inline(always)]
-fn householder_qr_any(
+fn householder_qr_any<const SIMD: bool>(
     a: &mut [f64],
     m: usize,
     n: usize,
@@ -86,15 +88,15 @@ fn householder_qr_any(
         }
         let alpha = if fused {
             match count {
-                0 => reflect_fused::<0>(col, &mut cols),
-                1 => reflect_fused::<1>(col, &mut cols),
-                2 => reflect_fused::<2>(col, &mut cols),
-                3 => reflect_fused::<3>(col, &mut cols),
-                4 => reflect_fused::<4>(col, &mut cols),
-                5 => reflect_fused::<5>(col, &mut cols),
-                6 => reflect_fused::<6>(col, &mut cols),
-                7 => reflect_fused::<7>(col, &mut cols),
-                _ => reflect_fused::<FUSED_MAX>(col, &mut cols),
+                0 => reflect_fused::<0, SIMD>(col, &mut cols),
+                1 => reflect_fused::<1, SIMD>(col, &mut cols),
+                2 => reflect_fused::<2, SIMD>(col, &mut cols),
+                3 => reflect_fused::<3, SIMD>(col, &mut cols),
+                4 => reflect_fused::<4, SIMD>(col, &mut cols),
+                5 => reflect_fused::<5, SIMD>(col, &mut cols),
+                6 => reflect_fused::<6, SIMD>(col, &mut cols),
+                7 => reflect_fused::<7, SIMD>(col, &mut cols),
+                _ => reflect_fused::<FUSED_MAX, SIMD>(col, &mut cols),
             }
         } else {
             None
@@ -154,7 +156,10 @@ const FUSED_MAX: usize = 8;
 /// nothing) when `‖x‖²` is zero, subnormal or not finite, where the
 /// rescaled path must decide.
 #[inline(always)]
-fn reflect_fused<const C: usize>(x: &mut [f64], cols: &mut [&mut [f64]; FUSED_MAX]) -> Option<f64> {
+fn reflect_fused<const C: usize, const SIMD: bool>(
+    x: &mut [f64],
+    cols: &mut [&mut [f64]; FUSED_MAX],
+) -> Option<f64> {
     let len = x.len();
     let (x0, rest) = x.split_first_mut()?;
     let n_rest = len - 1;
@@ -173,18 +178,16 @@ fn reflect_fused<const C: usize>(x: &mut [f64], cols: &mut [&mut [f64]; FUSED_MA
     let mut axx = [0.0f64; LANES];
     let mut acc = [[0.0f64; LANES]; C];
     let full = n_rest - n_rest % LANES;
-    for i in (0..full).step_by(LANES) {
-        let xi = &rest[i..i + LANES];
-        for l in 0..LANES {
-            axx[l] += xi[l] * xi[l];
-        }
-        for c in 0..C {
-            let ci = &c_rest[c][i..i + LANES];
-            for l in 0..LANES {
-                acc[c][l] += xi[l] * ci[l];
-            }
-        }
+    #[cfg(target_arch = "x86_64")]
+    if SIMD {
+        // SAFETY: `SIMD` is set only by `householder_qr_avx2`, which runs
+        // after the processor's AVX2 support was checked.
+        unsafe { gather_avx2(rest, &c_rest, full, &mut axx, &mut acc) };
+    } else {
+        gather_any(rest, &c_rest, full, &mut axx, &mut acc);
     }
+    #[cfg(not(target_arch = "x86_64"))]
+    gather_any(rest, &c_rest, full, &mut axx, &mut acc);
     let mut sxx = 0.0;
     for &xi in &rest[full..] {
         sxx += xi * xi;
@@ -213,15 +216,15 @@ fn reflect_fused<const C: usize>(x: &mut [f64], cols: &mut [&mut [f64]; FUSED_MA
     for c in 0..C {
         cs[c][0] = c_first[c] - scale[c] * v0;
     }
-    for i in (0..full).step_by(LANES) {
-        let xi = &rest[i..i + LANES];
-        for c in 0..C {
-            let ci = &mut c_rest[c][i..i + LANES];
-            for l in 0..LANES {
-                ci[l] -= scale[c] * xi[l];
-            }
-        }
+    #[cfg(target_arch = "x86_64")]
+    if SIMD {
+        // SAFETY: as for the first pass.
+        unsafe { update_avx2(rest, &mut c_rest, full, &scale) };
+    } else {
+        update_any(rest, &mut c_rest, full, &scale);
     }
+    #[cfg(not(target_arch = "x86_64"))]
+    update_any(rest, &mut c_rest, full, &scale);
     for i in full..n_rest {
         for c in 0..C {
             c_rest[c][i] -= scale[c] * rest[i];
@@ -229,6 +232,114 @@ fn reflect_fused<const C: usize>(x: &mut [f64], cols: &mut [&mut [f64]; FUSED_MA
     }
     *x0 = v0;
     Some(alpha)
+}
+
+/// The first pass of [`reflect_fused`] over the rows `0..full` (a multiple
+/// of `LANES`): `Σ x_i²` and every `Σ x_i c_i`, lane by lane (row `i` goes
+/// to lane `i mod LANES`), added to `axx` and `acc`.
+#[inline(always)]
+fn gather_any<const C: usize>(
+    x: &[f64],
+    cs: &[&mut [f64]; C],
+    full: usize,
+    axx: &mut [f64; LANES],
+    acc: &mut [[f64; LANES]; C],
+) {
+    for i in (0..full).step_by(LANES) {
+        let xi = &x[i..i + LANES];
+        for l in 0..LANES {
+            axx[l] += xi[l] * xi[l];
+        }
+        for c in 0..C {
+            let ci = &cs[c][i..i + LANES];
+            for l in 0..LANES {
+                acc[c][l] += xi[l] * ci[l];
+            }
+        }
+    }
+}
+
+/// The second pass of [`reflect_fused`] over the rows `0..full`:
+/// `c ← c − scale_c x` for every column.
+#[inline(always)]
+fn update_any<const C: usize>(x: &[f64], cs: &mut [&mut [f64]; C], full: usize, scale: &[f64; C]) {
+    for i in (0..full).step_by(LANES) {
+        let xi = &x[i..i + LANES];
+        for c in 0..C {
+            let ci = &mut cs[c][i..i + LANES];
+            for l in 0..LANES {
+                ci[l] -= scale[c] * xi[l];
+            }
+        }
+    }
+}
+
+/// [`gather_any`] in AVX2 registers: the same products and sums in the
+/// same lanes (two registers of four), so the same bits.
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2")]
+fn gather_avx2<const C: usize>(
+    x: &[f64],
+    cs: &[&mut [f64]; C],
+    full: usize,
+    axx: &mut [f64; LANES],
+    acc: &mut [[f64; LANES]; C],
+) {
+    use std::arch::x86_64::*;
+    assert!(full.is_multiple_of(LANES) && x.len() >= full && cs.iter().all(|c| c.len() >= full));
+    let load = |p: &[f64], i: usize| {
+        // SAFETY: i + 4 ≤ full ≤ the slice's length (asserted above).
+        unsafe { _mm256_loadu_pd(p.as_ptr().add(i)) }
+    };
+    let mut xx = [_mm256_setzero_pd(); 2];
+    let mut ac = [[_mm256_setzero_pd(); 2]; C];
+    for i in (0..full).step_by(LANES) {
+        let xv = [load(x, i), load(x, i + 4)];
+        for h in 0..2 {
+            xx[h] = _mm256_add_pd(xx[h], _mm256_mul_pd(xv[h], xv[h]));
+        }
+        for c in 0..C {
+            for h in 0..2 {
+                let cv = load(cs[c], i + 4 * h);
+                ac[c][h] = _mm256_add_pd(ac[c][h], _mm256_mul_pd(xv[h], cv));
+            }
+        }
+    }
+    let store = |dst: &mut [f64; LANES], v: [__m256d; 2]| {
+        let mut out = [0.0f64; LANES];
+        // SAFETY: `out` holds 8 doubles, written 4 at a time at 0 and 4.
+        unsafe {
+            _mm256_storeu_pd(out.as_mut_ptr(), v[0]);
+            _mm256_storeu_pd(out.as_mut_ptr().add(4), v[1]);
+        }
+        for (d, o) in dst.iter_mut().zip(out) {
+            *d += o;
+        }
+    };
+    store(axx, xx);
+    for c in 0..C {
+        store(&mut acc[c], ac[c]);
+    }
+}
+
+/// [`update_any`] in AVX2 registers (the same bits).
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2")]
+fn update_avx2<const C: usize>(x: &[f64], cs: &mut [&mut [f64]; C], full: usize, scale: &[f64; C]) {
+    use std::arch::x86_64::*;
+    assert!(full.is_multiple_of(LANES) && x.len() >= full && cs.iter().all(|c| c.len() >= full));
+    let sv: [__m256d; C] = std::array::from_fn(|c| _mm256_set1_pd(scale[c]));
+    for i in (0..full).step_by(4) {
+        // SAFETY: i + 4 ≤ full ≤ every slice's length (asserted above).
+        unsafe {
+            let xv = _mm256_loadu_pd(x.as_ptr().add(i));
+            for c in 0..C {
+                let p = cs[c].as_mut_ptr().add(i);
+                let cv = _mm256_loadu_pd(p);
+                _mm256_storeu_pd(p, _mm256_sub_pd(cv, _mm256_mul_pd(sv[c], xv)));
+            }
+        }
+    }
 }
 
 /// One Householder step on column `k` of the column-major `a` (as
@@ -630,7 +741,7 @@ mod tests {
             let (mut a1, mut a2) = (a0.clone(), a0.clone());
             let (mut b1, mut b2) = (b0.clone(), b0.clone());
             let (mut r1, mut r2) = (vec![0.0; n * n], vec![0.0; n * n]);
-            householder_qr_any(&mut a1, m, n, extra, &mut b1, &mut r1);
+            householder_qr_any::<false>(&mut a1, m, n, extra, &mut b1, &mut r1);
             // SAFETY: AVX2 is available (checked at the top).
             unsafe { householder_qr_avx2(&mut a2, m, n, extra, &mut b2, &mut r2) };
             let bits = |v: &[f64]| v.iter().map(|x| x.to_bits()).collect::<Vec<_>>();

@@ -391,33 +391,35 @@ impl CurveProblem<'_> {
     fn fill_any(&self, x: &[f64], res: &mut [f64], jac: &mut DMatrix<f64>) -> bool {
         let c = self.curve(x);
         let m = self.t.len();
-        // The Jacobian's column of each free parameter, by parameter index;
-        // the derivatives of fixed parameters go to `spare`.
+        // The Jacobian's column of each free parameter, by parameter index
+        // (`free` is ascending); the derivatives of fixed parameters go to
+        // `spare`, allocated only when some parameter is fixed.
+        let np = self.base.len();
+        let mut spare = vec![0.0; m * (np - self.free.len())];
         let mut cols: [&mut [f64]; MAX_PARAMS] = Default::default();
-        let mut is_free = [false; MAX_PARAMS];
-        let mut rest = jac.as_mut_slice();
-        for &j in &self.free {
-            let (col, tail) = std::mem::take(&mut rest).split_at_mut(m);
-            cols[j] = col;
-            is_free[j] = true;
-            rest = tail;
+        let (mut rest, mut spare_rest) = (jac.as_mut_slice(), spare.as_mut_slice());
+        for (j, col) in cols.iter_mut().enumerate().take(np) {
+            let from = if self.free.contains(&j) {
+                &mut rest
+            } else {
+                &mut spare_rest
+            };
+            let (c, tail) = std::mem::take(from).split_at_mut(m);
+            *col = c;
+            *from = tail;
         }
-        let mut spare = [[0.0; BLOCK]; MAX_PARAMS];
         let mut finite = true;
         let mut start = 0;
         while start < m {
             let end = (start + BLOCK).min(m);
-            let g: [&mut [f64]; MAX_PARAMS] = {
-                let mut blocks = cols
-                    .each_mut()
-                    .into_iter()
-                    .zip(spare.each_mut())
-                    .zip(is_free)
-                    .map(|((c, s), free)| block_of(c, s, free, start, end));
-                std::array::from_fn(|_| blocks.next().expect("one block per parameter slot"))
+            // Rows start..end of each column (slots past the model's
+            // parameters stay empty).
+            let g = {
+                let [c0, c1, c2, c3, c4, c5] = &mut cols;
+                [c0, c1, c2, c3, c4, c5].map(|c| c.get_mut(start..end).unwrap_or_default())
             };
             let r = &mut res[start..end];
-            c.eval_block(&self.t[start..end], r, g);
+            c.eval_block::<true>(&self.t[start..end], r, g);
             let y = &self.y[start..end];
             // OR-ing `nonfinite_bits` tests the block without a branch, so
             // that the loop vectorises.
@@ -515,22 +517,6 @@ fn on_scale(model: Model, p: &[f64], t: &[f64], increments: bool) -> Vec<f64> {
         f.windows(2).map(|w| w[1] - w[0]).collect()
     } else {
         f
-    }
-}
-
-/// Rows `start..end` of a Jacobian column, or the scratch block for a fixed
-/// parameter.
-fn block_of<'a>(
-    col: &'a mut [f64],
-    spare: &'a mut [f64; BLOCK],
-    free: bool,
-    start: usize,
-    end: usize,
-) -> &'a mut [f64] {
-    if free {
-        &mut col[start..end]
-    } else {
-        &mut spare[..end - start]
     }
 }
 

@@ -319,17 +319,55 @@ impl Curve {
         }
     }
 
-    /// Values at the points `t` (at most [`BLOCK`] of them) into `f` and the
-    /// derivatives with respect to parameter `j` into `g[j]` (each as long
-    /// as `t`; entries of `g` past the model's parameters are left alone).
+    /// Values at the points `t` (at most [`BLOCK`] of them) into `f` and,
+    /// with `GRAD`, the derivatives with respect to parameter `j` into
+    /// `g[j]` (each as long as `t`; entries of `g` past the model's
+    /// parameters are left alone, and without `GRAD` all of `g` is).
     #[inline(always)]
-    pub(crate) fn eval_block(&self, t: &[f64], f: &mut [f64], g: [&mut [f64]; MAX_PARAMS]) {
+    pub(crate) fn eval_block<const GRAD: bool>(
+        &self,
+        t: &[f64],
+        f: &mut [f64],
+        g: [&mut [f64]; MAX_PARAMS],
+    ) {
         let n = t.len().min(BLOCK);
         let t = &t[..n];
         let [k, r, t0, p3, _, _] = self.p;
         let f = &mut f[..n];
+        // The model's gradient columns (empty without `GRAD`).
+        let np = self.model.n_params();
+        let mut g = g;
+        for (j, c) in g.iter_mut().enumerate() {
+            let col = std::mem::take(c);
+            *c = if GRAD && j < np {
+                &mut col[..n]
+            } else {
+                &mut []
+            };
+        }
         let [g0, g1, g2, g3, g4, g5] = g;
-        let (g0, g1, g2) = (&mut g0[..n], &mut g1[..n], &mut g2[..n]);
+        // Writes the value and (with `GRAD`) the first `$np` derivatives
+        // (of `$gr`, one per parameter slot) of point `$i`.
+        macro_rules! put {
+            ($i:expr, $v:expr, $gr:expr, $np:literal) => {{
+                f[$i] = $v;
+                if GRAD {
+                    let gr: [f64; MAX_PARAMS] = $gr;
+                    g0[$i] = gr[0];
+                    g1[$i] = gr[1];
+                    if $np > 2 {
+                        g2[$i] = gr[2];
+                    }
+                    if $np > 3 {
+                        g3[$i] = gr[3];
+                    }
+                    if $np > 5 {
+                        g4[$i] = gr[4];
+                        g5[$i] = gr[5];
+                    }
+                }
+            }};
+        }
         // Scratch for the exponentials' arguments and values.
         let (mut a, mut b) = ([0.0; BLOCK], [0.0; BLOCK]);
         let (a, b) = (&mut a[..n], &mut b[..n]);
@@ -342,11 +380,10 @@ impl Curve {
                 for i in 0..n {
                     let d = t[i] - t0;
                     let (v, gr) = sigmoid_out(k, r, 0.0, d, r * d, a[i]);
-                    (f[i], g0[i], g1[i], g2[i]) = (v, gr[0], gr[1], gr[2]);
+                    put!(i, v, gr, 3);
                 }
             }
             Model::Logistic4 => {
-                let g3 = &mut g3[..n];
                 for i in 0..n {
                     a[i] = -(r * (t[i] - t0)).abs();
                 }
@@ -354,7 +391,7 @@ impl Curve {
                 for i in 0..n {
                     let d = t[i] - t0;
                     let (v, gr) = sigmoid_out(k, r, p3, d, r * d, a[i]);
-                    (f[i], g0[i], g1[i], g2[i], g3[i]) = (v, gr[0], gr[1], gr[2], gr[3]);
+                    put!(i, v, gr, 4);
                 }
             }
             Model::Gompertz => {
@@ -368,11 +405,10 @@ impl Curve {
                 exp_in_place(b);
                 for i in 0..n {
                     let (v, gr) = gompertz_out(k, r, t[i] - t0, a[i], b[i]);
-                    (f[i], g0[i], g1[i], g2[i]) = (v, gr[0], gr[1], gr[2]);
+                    put!(i, v, gr, 3);
                 }
             }
             Model::Richards => {
-                let g3 = &mut g3[..n];
                 for i in 0..n {
                     a[i] = -(self.ln_nu - r * (t[i] - t0)).abs();
                 }
@@ -389,7 +425,7 @@ impl Curve {
                 exp_in_place(f);
                 for i in 0..n {
                     let (v, gr) = self.richards_out(t[i] - t0, a[i], b[i], f[i]);
-                    (f[i], g0[i], g1[i], g2[i], g3[i]) = (v, gr[0], gr[1], gr[2], gr[3]);
+                    put!(i, v, gr, 4);
                 }
             }
             Model::Exponential => {
@@ -399,12 +435,11 @@ impl Curve {
                 exp_in_place(a);
                 for i in 0..n {
                     let e = a[i];
-                    (f[i], g0[i], g1[i]) = (k * e, e, k * t[i] * e);
+                    put!(i, k * e, [e, k * t[i] * e, 0.0, 0.0, 0.0, 0.0], 2);
                 }
             }
             Model::Bass => {
                 // (k, r, t0, p3) = (m, p, q, tau).
-                let g3 = &mut g3[..n];
                 let b = r + t0;
                 for i in 0..n {
                     a[i] = -b * (t[i] - p3).max(0.0);
@@ -412,12 +447,11 @@ impl Curve {
                 exp_in_place(a);
                 for i in 0..n {
                     let (v, gr) = bass_out(k, r, t0, t[i] - p3, a[i]);
-                    (f[i], g0[i], g1[i], g2[i], g3[i]) = (v, gr[0], gr[1], gr[2], gr[3]);
+                    put!(i, v, gr, 4);
                 }
             }
             Model::Bilogistic => {
                 let [k1, r1, t01, k2, r2, t02] = self.p;
-                let (g3, g4, g5) = (&mut g3[..n], &mut g4[..n], &mut g5[..n]);
                 for i in 0..n {
                     a[i] = -(r1 * (t[i] - t01)).abs();
                     b[i] = -(r2 * (t[i] - t02)).abs();
@@ -428,9 +462,7 @@ impl Curve {
                     let (d1, d2) = (t[i] - t01, t[i] - t02);
                     let (v1, p1) = sigmoid_out(k1, r1, 0.0, d1, r1 * d1, a[i]);
                     let (v2, p2) = sigmoid_out(k2, r2, 0.0, d2, r2 * d2, b[i]);
-                    f[i] = v1 + v2;
-                    (g0[i], g1[i], g2[i]) = (p1[0], p1[1], p1[2]);
-                    (g3[i], g4[i], g5[i]) = (p2[0], p2[1], p2[2]);
+                    put!(i, v1 + v2, [p1[0], p1[1], p1[2], p2[0], p2[1], p2[2]], 6);
                 }
             }
         }
@@ -455,9 +487,8 @@ impl Curve {
 
     #[inline(always)]
     fn values_any(&self, t: &[f64], out: &mut [f64]) {
-        let mut spare = [[0.0; BLOCK]; MAX_PARAMS];
         for (tb, ob) in t.chunks(BLOCK).zip(out.chunks_mut(BLOCK)) {
-            self.eval_block(tb, ob, spare.each_mut().map(|s| &mut s[..]));
+            self.eval_block::<false>(tb, ob, Default::default());
         }
     }
 

@@ -416,7 +416,15 @@ impl CurveProblem<'_> {
             // parameters stay empty).
             let g = {
                 let [c0, c1, c2, c3, c4, c5] = &mut cols;
-                [c0, c1, c2, c3, c4, c5].map(|c| c.get_mut(start..end).unwrap_or_default())
+                let r = start..end;
+                [
+                    rows(c0, r.clone()),
+                    rows(c1, r.clone()),
+                    rows(c2, r.clone()),
+                    rows(c3, r.clone()),
+                    rows(c4, r.clone()),
+                    rows(c5, r),
+                ]
             };
             let r = &mut res[start..end];
             c.eval_block::<true>(&self.t[start..end], r, g);
@@ -518,6 +526,12 @@ fn on_scale(model: Model, p: &[f64], t: &[f64], increments: bool) -> Vec<f64> {
     } else {
         f
     }
+}
+
+/// Rows `r` of a Jacobian column; nothing for an empty (unused) slot.
+#[inline(always)]
+fn rows(c: &mut [f64], r: std::ops::Range<usize>) -> &mut [f64] {
+    c.get_mut(r).unwrap_or_default()
 }
 
 /// Fits `model` to `series`.

@@ -914,7 +914,16 @@ fn presolve(problem: &CurveProblem<'_>, solver: &Solver, x0: &[f64]) -> Option<V
         free: problem.free.clone(),
         scale: problem.scale,
     };
-    let out = solver.minimize(&sub, x0);
+    // The subsample's minimum is itself only within sampling noise of the
+    // full one, so it is solved to 8 digits, without the polish; the full
+    // solve brings the estimate to full precision.
+    let loose = Solver {
+        ftol: 1e-8,
+        xtol: 1e-8,
+        polish_steps: 0,
+        ..solver.clone()
+    };
+    let out = loose.minimize(&sub, x0);
     (out.converged() && problem.feasible(&out.x)).then_some(out.x)
 }
 

@@ -215,8 +215,10 @@ impl Model {
 /// The most parameters any model has.
 pub const MAX_PARAMS: usize = 6;
 
-/// Points per block of [`Curve::eval_block`].
-pub(crate) const BLOCK: usize = 32;
+/// Points per block of [`Curve::eval_block`]: enough that the per-block
+/// set-up is spread thin (128 measured 7 % faster than 32 on 1000-point
+/// fills), few enough that a block's scratch stays in the first-level cache.
+pub(crate) const BLOCK: usize = 128;
 
 /// A model with its parameters bound, for evaluating many times: whatever
 /// depends on the parameters alone (ln ν, 1/ν for the Richards curve) is

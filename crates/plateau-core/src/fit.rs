@@ -408,6 +408,7 @@ impl CurveProblem<'_> {
             *col = c;
             *from = tail;
         }
+        let mut scratch = [[0.0; BLOCK]; 2];
         let mut finite = true;
         let mut start = 0;
         while start < m {
@@ -427,7 +428,7 @@ impl CurveProblem<'_> {
                 ]
             };
             let r = &mut res[start..end];
-            c.eval_block::<true>(&self.t[start..end], r, g);
+            c.eval_block::<true>(&self.t[start..end], r, g, &mut scratch);
             let y = &self.y[start..end];
             // OR-ing `nonfinite_bits` tests the block without a branch, so
             // that the loop vectorises.

@@ -220,6 +220,10 @@ pub const MAX_PARAMS: usize = 6;
 /// fills), few enough that a block's scratch stays in the first-level cache.
 pub(crate) const BLOCK: usize = 128;
 
+/// Working space of [`Curve::eval_block`]: the exponentials' arguments
+/// and values.
+pub(crate) type BlockScratch = [[f64; BLOCK]; 2];
+
 /// A model with its parameters bound, for evaluating many times: whatever
 /// depends on the parameters alone (ln ν, 1/ν for the Richards curve) is
 /// computed once, and value and gradient share their exponentials.
@@ -325,12 +329,15 @@ impl Curve {
     /// with `GRAD`, the derivatives with respect to parameter `j` into
     /// `g[j]` (each as long as `t`; entries of `g` past the model's
     /// parameters are left alone, and without `GRAD` all of `g` is).
+    /// `scratch` is working space, set up once by the caller for all its
+    /// blocks.
     #[inline(always)]
     pub(crate) fn eval_block<const GRAD: bool>(
         &self,
         t: &[f64],
         f: &mut [f64],
         g: [&mut [f64]; MAX_PARAMS],
+        scratch: &mut BlockScratch,
     ) {
         let n = t.len().min(BLOCK);
         let t = &t[..n];
@@ -371,7 +378,7 @@ impl Curve {
             }};
         }
         // Scratch for the exponentials' arguments and values.
-        let (mut a, mut b) = ([0.0; BLOCK], [0.0; BLOCK]);
+        let [a, b] = scratch;
         let (a, b) = (&mut a[..n], &mut b[..n]);
         match self.model {
             Model::Logistic => {
@@ -489,8 +496,9 @@ impl Curve {
 
     #[inline(always)]
     fn values_any(&self, t: &[f64], out: &mut [f64]) {
+        let mut scratch = [[0.0; BLOCK]; 2];
         for (tb, ob) in t.chunks(BLOCK).zip(out.chunks_mut(BLOCK)) {
-            self.eval_block::<false>(tb, ob, Default::default());
+            self.eval_block::<false>(tb, ob, Default::default(), &mut scratch);
         }
     }
 

@@ -359,26 +359,32 @@ fn reflect_scaled(
         return None;
     }
     let alpha = if x0 >= 0.0 { -norm } else { norm };
-    let tau = norm * (norm + x0.abs());
+    // vᵀc / τ with τ = ‖x‖ (‖x‖ + |x₀|) divided out a factor at a time,
+    // and v scaled by 1/‖x‖ before the products: for the columns that come
+    // here τ and the products v_i c_i can underflow.
+    let big = norm + x0.abs();
     col[0] = x0 - alpha;
+    let v: &[f64] = col;
+    let reflect = |c: &mut [f64]| {
+        let s = v
+            .iter()
+            .zip(c.iter())
+            .map(|(vi, ci)| (vi / norm) * ci)
+            .sum::<f64>()
+            / big;
+        if s != 0.0 {
+            for (ci, vi) in c.iter_mut().zip(v) {
+                *ci -= s * vi;
+            }
+        }
+    };
     for cj in tail.chunks_exact_mut(m) {
-        reflect(col, tau, &mut cj[k..]);
+        reflect(&mut cj[k..]);
     }
     if !b.is_empty() {
-        reflect(col, tau, b);
+        reflect(b);
     }
     Some(alpha)
-}
-
-/// `c ← (I − v vᵀ / τ) c`.
-#[inline(always)]
-fn reflect(v: &[f64], tau: f64, c: &mut [f64]) {
-    let s = dot(v, c) / tau;
-    if s != 0.0 {
-        for (ci, vi) in c.iter_mut().zip(v) {
-            *ci -= s * vi;
-        }
-    }
 }
 
 /// A vector of `f64` for the solver's small per-parameter arrays: held
@@ -751,11 +757,19 @@ mod tests {
         }
     }
 
-    /// More columns than the fused kernel takes go column by column and
+    /// More columns than the fused kernel takes, and columns whose squared
+    /// norm underflows, go column by column with the norm rescaled, and
     /// still give RᵀR = AᵀA (Householder QR: Qᵀ A = R with Q orthogonal).
+    /// (τ = ‖x‖ (‖x‖ + |x₀|) underflows for the small columns and must not
+    /// be formed.)
     #[test]
-    fn qr_of_many_columns_keeps_the_gram_matrix() {
-        for (m, n, scale) in [(30, 10, 1.0), (12, 9, 1e3)] {
+    fn qr_rescaled_path_keeps_the_gram_matrix() {
+        for (m, n, scale) in [
+            (30, 10, 1.0),
+            (12, 9, 1e3),
+            (40, 3, 1e-170),
+            (40, 3, 1e-155),
+        ] {
             let a = mat(m, n, |i, j| {
                 scale * (((i * 5 + j * 3) % 11) as f64 - 4.5 + 0.01 * (i * j) as f64)
             });

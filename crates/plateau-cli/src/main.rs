@@ -86,9 +86,9 @@ fn run(cli: Cli) -> Result<(), Failure> {
                     .map_err(Failure::Input)?;
             }
             if args.json {
-                print_json(&FitReport::new(&result, &series.warnings));
+                print_json(&FitReport::new(&result, &series.warnings))?;
             } else {
-                print!("{}", table::fit(&name, &series, &result));
+                emit(&table::fit(&name, &series, &result))?;
             }
             Ok(())
         }
@@ -120,9 +120,9 @@ fn run(cli: Cli) -> Result<(), Failure> {
             let report =
                 CompareReport::with_data(&entries, &series.warnings, &series.times, &series.values);
             if args.json {
-                print_json(&report);
+                print_json(&report)?;
             } else {
-                print!("{}", table::compare(&name, &series, &entries, &report));
+                emit(&table::compare(&name, &series, &entries, &report))?;
             }
             Ok(())
         }
@@ -175,12 +175,14 @@ fn run(cli: Cli) -> Result<(), Failure> {
             let report =
                 DiagnoseReport::new(&result, &series.warnings, residuals, symmetry, fisher_pry);
             if args.json {
-                print_json(&report);
+                print_json(&report)?;
             } else {
-                print!(
-                    "{}",
-                    table::diagnose(&name, &series, &report, settings.fisher_pry_k.is_some())
-                );
+                emit(&table::diagnose(
+                    &name,
+                    &series,
+                    &report,
+                    settings.fisher_pry_k.is_some(),
+                ))?;
             }
             Ok(())
         }
@@ -242,9 +244,9 @@ fn run(cli: Cli) -> Result<(), Failure> {
                 &series.warnings,
             );
             if args.json {
-                print_json(&report);
+                print_json(&report)?;
             } else {
-                print!("{}", outlook::forecast(&name, &report, boot.as_ref()));
+                emit(&outlook::forecast(&name, &report, boot.as_ref()))?;
             }
             Ok(())
         }
@@ -281,9 +283,9 @@ fn run(cli: Cli) -> Result<(), Failure> {
                 svg.map_err(Failure::Input)?;
             }
             if args.json {
-                print_json(&report);
+                print_json(&report)?;
             } else {
-                print!("{}", outlook::drift(&name, &rows, &report));
+                emit(&outlook::drift(&name, &rows, &report))?;
             }
             Ok(())
         }
@@ -308,9 +310,9 @@ fn run(cli: Cli) -> Result<(), Failure> {
                 &bt,
             );
             if args.json {
-                print_json(&BacktestReport::new(args.horizon, &rows, &series.warnings));
+                print_json(&BacktestReport::new(args.horizon, &rows, &series.warnings))?;
             } else {
-                print!("{}", outlook::backtest(&name, args.horizon, &rows));
+                emit(&outlook::backtest(&name, args.horizon, &rows))?;
             }
             Ok(())
         }
@@ -331,12 +333,21 @@ fn run(cli: Cli) -> Result<(), Failure> {
             }
             let stdout = std::io::stdout();
             let mut out = std::io::BufWriter::new(stdout.lock());
-            let totals = batch::run(input, &mut out, &opts).map_err(|e| match e {
-                batch::Stop::Input(m) => Failure::Input(anyhow::anyhow!("{name}: {m}")),
-                batch::Stop::Output(e) => {
-                    Failure::Input(anyhow::anyhow!("cannot write the results: {e}"))
+            let totals = match batch::run(input, &mut out, &opts) {
+                Ok(totals) => totals,
+                // The reader has gone away: stop quietly (see `emit`).
+                Err(batch::Stop::Output(e)) if e.kind() == std::io::ErrorKind::BrokenPipe => {
+                    return Ok(());
                 }
-            })?;
+                Err(batch::Stop::Output(e)) => {
+                    return Err(Failure::Input(anyhow::anyhow!(
+                        "cannot write the results: {e}"
+                    )));
+                }
+                Err(batch::Stop::Input(m)) => {
+                    return Err(Failure::Input(anyhow::anyhow!("{name}: {m}")));
+                }
+            };
             drop(out);
             if totals.failed > 0 {
                 return Err(Failure::Fit(anyhow::anyhow!(
@@ -353,15 +364,16 @@ fn run(cli: Cli) -> Result<(), Failure> {
             Ok(())
         }
         Command::Models => {
+            let mut text = String::new();
             for m in Model::ALL {
-                println!(
-                    "{:<12} {:<44} parameters: {}",
+                text.push_str(&format!(
+                    "{:<12} {:<44} parameters: {}\n",
                     m.name(),
                     m.formula(),
                     m.param_names().join(", ")
-                );
+                ));
             }
-            Ok(())
+            emit(&text)
         }
     }
 }
@@ -406,11 +418,25 @@ fn read_series(
     Ok((name, series))
 }
 
-fn print_json<T: serde::Serialize>(value: &T) {
+fn print_json<T: serde::Serialize>(value: &T) -> Result<(), Failure> {
     // Serialising plain data to a String cannot fail.
     let s =
         serde_json::to_string_pretty(value).unwrap_or_else(|e| format!("{{\"error\":\"{e}\"}}"));
-    println!("{s}");
+    emit(&format!("{s}\n"))
+}
+
+/// Writes `text` to standard output. A reader that has gone away (as in
+/// `plateau fit data.csv | head`) ends the output quietly, as it ends any
+/// filter's; any other write error is reported.
+fn emit(text: &str) -> Result<(), Failure> {
+    use std::io::Write;
+    let mut out = std::io::stdout().lock();
+    match out.write_all(text.as_bytes()).and_then(|()| out.flush()) {
+        Err(e) if e.kind() != std::io::ErrorKind::BrokenPipe => Err(Failure::Input(
+            anyhow::anyhow!("cannot write the results: {e}"),
+        )),
+        _ => Ok(()),
+    }
 }
 
 /// Forecast rows past the data at most (the grid step widens beyond).

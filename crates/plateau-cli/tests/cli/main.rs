@@ -871,3 +871,62 @@ fn batch_intervals_can_be_asymptotic() {
     assert_eq!(out.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&out.stderr).contains("--intervals"));
 }
+
+/// Starts `plateau` with `args` and `stdin`, closes the read end of its
+/// standard output at once (as `plateau … | head -c 0` would), and waits.
+/// The output is far larger than a pipe's buffer, so the program must meet
+/// the closed pipe.
+fn with_stdout_closed(args: &[&str], stdin: String) -> Output {
+    let mut child = Command::new(env!("CARGO_BIN_EXE_plateau"))
+        .args(args)
+        .stdin(Stdio::piped())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .expect("start plateau");
+    drop(child.stdout.take());
+    let mut input = child.stdin.take().unwrap();
+    // The program may stop reading once its output is gone; a write error
+    // here is then expected.
+    let _ = input.write_all(stdin.as_bytes());
+    drop(input);
+    child.wait_with_output().expect("plateau runs")
+}
+
+/// A reader that goes away (`plateau … | head`) ends the output quietly:
+/// exit 0, no panic, for the one-report commands and for `batch`.
+#[test]
+fn a_closed_output_pipe_ends_quietly() {
+    // 20,000 points: the JSON's fitted values alone are over 300 kB.
+    let n = 20_000;
+    let mut one = String::from("t,y\n");
+    for i in 0..n {
+        let t = i as f64 / 1000.0;
+        let y = 1000.0 / (1.0 + (-(t - 10.0)).exp()) + (i % 7) as f64;
+        one.push_str(&format!("{t},{y}\n"));
+    }
+    // 3,000 series of 12 points: well over 100 kB of CSV rows.
+    let mut many = String::from("series,t,y\n");
+    for s in 0..3000 {
+        for i in 0..12 {
+            let y = 100.0 / (1.0 + (-(i as f64 - 6.0)).exp()) + ((s + i) % 5) as f64;
+            many.push_str(&format!("s{s},{i},{y}\n"));
+        }
+    }
+    for (args, input) in [
+        (vec!["fit", "-", "--json"], one.clone()),
+        (vec!["fit", "-"], one),
+        (
+            vec!["batch", "-", "--csv", "--intervals", "asymptotic"],
+            many,
+        ),
+    ] {
+        let out = with_stdout_closed(&args, input);
+        let stderr = String::from_utf8_lossy(&out.stderr);
+        assert!(
+            out.status.success() && !stderr.contains("panicked"),
+            "{args:?}: {:?} {stderr}",
+            out.status
+        );
+    }
+}

@@ -19,6 +19,7 @@
 
 use crate::fit::{fit_xy, Fit, FitOptions, IntervalMethod, ParamEstimate};
 use crate::model::Model;
+use crate::warning::WarningCode;
 
 /// One prefix of the series and its fit.
 #[derive(Debug, Clone)]
@@ -48,8 +49,11 @@ fn time_order(t: &[f64]) -> Vec<usize> {
     idx
 }
 
-/// Fits from `prev`'s estimate, or self-started when there is none or the
-/// warm start does not converge.
+/// Fits from `prev`'s estimate, or self-started when there is none, when
+/// the warm start does not converge, or when either has a singular
+/// Jacobian: a step-shaped curve (r so large that r and t0 stop mattering)
+/// is a stationary point of the sum of squares, and a warm start from one
+/// would stay there for every later prefix.
 fn warm_fit(
     t: &[f64],
     y: &[f64],
@@ -63,7 +67,8 @@ fn warm_fit(
         ..opts.clone()
     };
     let opts = &plain;
-    if let Some(p) = prev {
+    let singular = |f: &Fit| f.has_warning(WarningCode::SingularJacobian);
+    if let Some(p) = prev.filter(|p| !singular(p)) {
         let start: Vec<(String, f64)> = p
             .params
             .iter()
@@ -75,7 +80,7 @@ fn warm_fit(
             ..opts.clone()
         };
         if let Ok(f) = fit_xy(t, y, model, &warm) {
-            if f.converged {
+            if f.converged && !singular(&f) {
                 return Ok(f);
             }
         }

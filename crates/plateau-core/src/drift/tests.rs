@@ -146,3 +146,36 @@ fn sampled_drift_keeps_the_ends_and_matches_the_full_rows() {
     let k = |r: &DriftRow| r.result.as_ref().unwrap().params[0].estimate;
     assert!((k(&some[9]) - k(full.last().unwrap())).abs() < 1e-6);
 }
+
+/// Early prefixes of a noisy series can fit a step (r so large that r and
+/// t0 stop mattering, a stationary point with a singular Jacobian). A warm
+/// start from there would stay on the step for every later prefix; the
+/// last row must still be the fit on all the data.
+#[test]
+fn a_step_shaped_early_fit_is_not_carried_forward() {
+    use rand_chacha::rand_core::SeedableRng;
+    use rand_distr::{Distribution, Normal};
+    let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(7);
+    let noise = Normal::new(0.0, 2.0e4).unwrap();
+    let t: Vec<f64> = (0..20).map(|i| 2000.0 + i as f64).collect();
+    let y: Vec<f64> = t
+        .iter()
+        .map(|&ti| Model::Logistic.eval(&[2.5e6, 0.6, 2012.0], ti) + noise.sample(&mut rng))
+        .collect();
+    let rows = drift(&t, &y, Model::Logistic, &FitOptions::default());
+    let all = fit_xy(&t, &y, Model::Logistic, &FitOptions::default()).unwrap();
+    let last = rows.last().unwrap().result.as_ref().unwrap();
+    let (k, want) = (last.params[0].estimate, all.params[0].estimate);
+    assert!(
+        (k - want).abs() <= 1e-8 * want,
+        "last row K = {k}, all data K = {want}"
+    );
+    // The rows where the fit is identified say so without a singular
+    // Jacobian (the step would carry the warning).
+    assert!(rows.iter().filter(|r| r.m >= 14).all(|r| r
+        .result
+        .as_ref()
+        .unwrap()
+        .warnings
+        .is_empty()));
+}

@@ -190,7 +190,7 @@ function showView(v) {
   showMilestones(v.milestones);
   const unit = v.timeUnit ? ` ${v.timeUnit}s` : " time units";
   $("duration").textContent = v.duration1090 == null ? "" :
-    `From 10% to 90% of K takes ${fmt(v.duration1090)}${unit}` + (v.model === "logistic" ? " (ln 81 / r)." : ".");
+    `From 10% to 90% of ${v.saturation} takes ${fmt(v.duration1090)}${unit}` + (v.model === "logistic" ? " (ln 81 / r)." : ".");
 
   fillBody("comparison", v.comparison.map((c) => {
     const tr = document.createElement("tr");

@@ -152,7 +152,7 @@ impl MilestoneReport {
         MilestoneReport {
             kind: a.target.kind(),
             target: a.target.value(),
-            label: a.target.label(),
+            label: a.label(),
             verdict: a.verdict.as_str(),
             note: a.note.clone(),
             estimate: a.estimate,

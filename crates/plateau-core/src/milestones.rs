@@ -39,12 +39,14 @@ pub enum Target {
 }
 
 impl Target {
-    /// A short label: `50% of K`, `level 1000000`, `10% → 90%`.
-    pub fn label(self) -> String {
+    /// A short label, with `level` the name of the saturation level
+    /// ([`Model::saturation_name`]): `50% of K`, `level 1000000`,
+    /// `10% → 90% of m (duration)`.
+    pub fn label(self, level: &str) -> String {
         match self {
-            Target::Share(p) => format!("{}% of K", trim(100.0 * p)),
+            Target::Share(p) => format!("{}% of {level}", trim(100.0 * p)),
             Target::Level(y) => format!("level {}", trim(y)),
-            Target::Duration1090 => "10% → 90% of K (duration)".to_string(),
+            Target::Duration1090 => format!("10% → 90% of {level} (duration)"),
         }
     }
 
@@ -130,6 +132,15 @@ pub struct Assessment {
     pub verdict: Verdict,
     /// One sentence saying what the verdict means for this milestone.
     pub note: String,
+    /// The fitted model's name for its saturation level.
+    pub level_name: &'static str,
+}
+
+impl Assessment {
+    /// The milestone's label for the fitted model (see [`Target::label`]).
+    pub fn label(&self) -> String {
+        self.target.label(self.level_name)
+    }
 }
 
 /// Assesses `target` for `fit` on data observed from `t_first` to `t_last`.
@@ -166,6 +177,7 @@ pub fn assess(
         bootstrap,
         verdict: Verdict::Forecast,
         note: String::new(),
+        level_name: model.saturation_name(),
     };
     let saturates = model.saturates();
     if !saturates && !matches!(target, Target::Level(_)) {

@@ -121,6 +121,17 @@ impl Model {
         }
     }
 
+    /// The level the curve saturates at, as labels name it: `K`, Bass's
+    /// market potential `m`, the bi-logistic's `K1 + K2` (and `K` for the
+    /// exponential, which has none: its share milestones do not apply).
+    pub fn saturation_name(self) -> &'static str {
+        match self {
+            Model::Bass => "m",
+            Model::Bilogistic => "K1 + K2",
+            _ => "K",
+        }
+    }
+
     pub fn param_names(self) -> &'static [&'static str] {
         match self {
             Model::Logistic | Model::Gompertz => &["K", "r", "t0"],

@@ -250,6 +250,9 @@ pub struct View {
     pub milestones: Vec<MilestoneRow>,
     /// Years (date axes) or time units: ln(81)/r for the logistic.
     pub duration_10_90: Option<f64>,
+    /// The fitted model's name for its saturation level (`K`, Bass's `m`,
+    /// `K1 + K2`), for the page's sentences.
+    pub saturation: &'static str,
     pub symmetry: Option<SymmetryRow>,
     /// The Bass model's adoption peak, when it has one after launch.
     pub peak: Option<PeakRow>,
@@ -738,6 +741,7 @@ fn analyse_series(
             .collect(),
         milestones,
         duration_10_90: analysis::duration_10_90(&fit).map(|m| m.time),
+        saturation: fit.model.saturation_name(),
         symmetry,
         peak: analysis::bass_peak(&fit).map(|p| PeakRow {
             time: p.time,
@@ -848,7 +852,7 @@ fn milestone_row(a: &Assessment, fmt_t: &dyn Fn(f64) -> String) -> MilestoneRow 
         },
     };
     MilestoneRow {
-        label: a.target.label(),
+        label: a.label(),
         time: a.estimate,
         time_text,
         ci95_text: a.delta.filter(|_| show).map(|(lo, hi)| {

@@ -125,3 +125,36 @@ fn exponential_has_no_shares_but_has_levels() {
     let targets = standard_targets(Model::Logistic, &[0.5, 0.95], &[]);
     assert_eq!(targets.len(), 5);
 }
+
+/// Labels name the model's own saturation level: Bass's market potential
+/// m, the bi-logistic's K1 + K2, K otherwise. For the Bass curve the half
+/// level m/2 is reached where F = 1/2 (a fact of its closed form,
+/// F(s) = (1 − e^(−(p+q)s)) / (1 + (q/p) e^(−(p+q)s))): at
+/// s = ln(2 + q/p) / (p + q) after launch.
+#[test]
+fn labels_name_the_models_saturation_level() {
+    let (p, q, m, tau) = (0.03, 0.4, 5000.0, 2.0);
+    let (t, _, f) = noisy(Model::Bass, &[m, p, q, tau], 40, 5.0, 31);
+    let half = assess(&f, Target::Share(0.5), t[0], t[39], None);
+    assert_eq!(half.label(), "50% of m");
+    let d = assess(&f, Target::Duration1090, t[0], t[39], None);
+    assert_eq!(d.label(), "10% → 90% of m (duration)");
+    let want = tau + (2.0 + q / p).ln() / (p + q);
+    let got = half.estimate.unwrap();
+    assert!((got - want).abs() < 0.1, "{got} vs {want}");
+
+    let (t, _, f) = noisy(
+        Model::Bilogistic,
+        &[600.0, 0.9, 8.0, 400.0, 0.7, 22.0],
+        36,
+        3.0,
+        32,
+    );
+    let a = assess(&f, Target::Share(0.9), t[0], t[35], None);
+    assert_eq!(a.label(), "90% of K1 + K2");
+    let (t, _, f) = noisy(Model::Logistic, &[100.0, 0.8, 10.0], 25, 1.0, 33);
+    assert_eq!(
+        assess(&f, Target::Share(0.1), t[0], t[24], None).label(),
+        "10% of K"
+    );
+}

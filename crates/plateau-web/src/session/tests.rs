@@ -358,7 +358,11 @@ fn bilogistic_on_two_waves_has_no_peak_row_or_symmetry() {
     let a = analyse(text, &settings).unwrap();
     assert_eq!(a.view.params.len(), 6);
     assert!(a.view.peak.is_none() && a.view.symmetry.is_none());
-    assert!(a.view.milestones.iter().any(|m| m.label == "50% of K"));
+    assert!(a
+        .view
+        .milestones
+        .iter()
+        .any(|m| m.label == "50% of K1 + K2"));
 }
 
 const LONG: &str = include_str!("../../../../demo-data/regional_adoption_long.csv");

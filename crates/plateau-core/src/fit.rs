@@ -985,10 +985,12 @@ fn statistics(t: &[f64], model: Model, solved: &Solved, opts: &FitOptions) -> Fi
             })
             .sum()
     };
-    let plain_target: Vec<f64> = if scale.log {
-        target.iter().map(|v| v.exp()).collect()
+    let logged: Vec<f64>;
+    let plain_target: &[f64] = if scale.log {
+        logged = target.iter().map(|v| v.exp()).collect();
+        &logged
     } else {
-        target.clone()
+        target
     };
     let rss = outcome.rss;
     let sigma2 = rss / dof as f64;
@@ -1069,7 +1071,7 @@ fn statistics(t: &[f64], model: Model, solved: &Solved, opts: &FitOptions) -> Fi
         dof,
         rss,
         sigma: sigma2.sqrt(),
-        r_squared: stats::r_squared(rss_plain, &plain_target),
+        r_squared: stats::r_squared(rss_plain, plain_target),
         log_likelihood: crit.log_likelihood,
         aic: crit.aic,
         aicc: crit.aicc,

@@ -456,13 +456,21 @@ fn fit_options(settings: &Settings, model: Model) -> Result<FitOptions, UpdateEr
         if !(k.is_finite() && k > 0.0) {
             return Err(setting_error("fixed K: expected a positive number"));
         }
-        if model.param_index("K").is_none() {
+        // The known saturation level: K, or the Bass model's market
+        // potential m. The bi-logistic's is K1 + K2, which no one
+        // parameter holds.
+        let Some(name) = ["K", "m"]
+            .into_iter()
+            .find(|n| model.param_index(n).is_some())
+        else {
             return Err(setting_error(format!(
-                "the {} model has no K to fix; clear the fixed K or choose another model",
-                model.name()
+                "the {} model has no single saturation level to fix (its level is {}); \
+                 clear the fixed K or choose another model",
+                model.name(),
+                model.saturation_name()
             )));
-        }
-        fit_opts.fixed.push(("K".into(), k));
+        };
+        fit_opts.fixed.push((name.into(), k));
     }
     Ok(fit_opts)
 }

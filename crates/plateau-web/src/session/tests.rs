@@ -75,6 +75,31 @@ fn fixed_k_is_refused_for_the_exponential_and_kept_for_the_logistic() {
     assert!(a.fit.param("K").unwrap().fixed);
 }
 
+/// The known saturation level is the Bass model's market potential m; the
+/// bi-logistic has none in one parameter, and says so.
+#[test]
+fn fixed_k_holds_bass_m_and_is_refused_for_the_bilogistic() {
+    let counts = include_str!("../../../../demo-data/lumen_cell_adoptions.csv");
+    let settings = Settings {
+        per_period: true,
+        model: "bass".into(),
+        fixed_k: Some(4200.0),
+        ..Settings::default()
+    };
+    let a = analyse(counts, &settings).unwrap();
+    let m = a.fit.param("m").unwrap();
+    assert!(m.fixed && m.estimate == 4200.0);
+    assert!(a.view.params.iter().any(|p| p.name == "m" && p.fixed));
+    let settings = Settings {
+        model: "bilogistic".into(),
+        fixed_k: Some(1000.0),
+        ..Settings::default()
+    };
+    let text = include_str!("../../../../demo-data/wrenlow_two_waves.csv");
+    let e = analyse(text, &settings).unwrap_err();
+    assert!(format!("{e:?}").contains("K1 + K2"), "{e:?}");
+}
+
 #[test]
 fn csv_has_one_row_per_time_and_forecast_rows_after() {
     let a = demo();

@@ -3,6 +3,7 @@
 
 mod bands;
 mod bass;
+mod bilogistic;
 mod bootstrap_calibration;
 mod calibration;
 mod diagnostics;

@@ -124,12 +124,13 @@ pub fn fit(name: &str, series: &Series, f: &Fit) -> String {
             time_note(series.time_kind, p.name, p.estimate)
         );
     }
-    if f.params.iter().any(|p| !p.identified) {
+    for p in f.params.iter().filter(|p| !p.identified) {
         let _ = writeln!(s);
         let _ = writeln!(
             s,
-            "K IS NOT DETERMINED BY THESE DATA: the estimate above is one point of a long, flat \
-             valley; only the bound shown is supported."
+            "{} IS NOT DETERMINED BY THESE DATA: the estimate above is one point of a long, flat \
+             valley; only the bound shown is supported.",
+            p.name
         );
     }
     for note in &open_notes {

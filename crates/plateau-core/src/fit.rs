@@ -1346,11 +1346,16 @@ fn diagnose(fit: &mut Fit, t: &[f64], y: &[f64]) {
             ));
         }
     }
-    if let Some(kj) = fit
-        .params
-        .iter()
-        .position(|p| (p.name == "K" || p.name == "m") && !p.fixed)
-    {
+    // The saturation levels: K, Bass's m, and each pulse's K1 and K2 of
+    // the bi-logistic (whose level is their sum: a pulse the data do not
+    // determine leaves the sum undetermined too).
+    let levels: Vec<usize> = (0..fit.params.len())
+        .filter(|&j| {
+            let p = &fit.params[j];
+            matches!(p.name, "K" | "m" | "K1" | "K2") && !p.fixed
+        })
+        .collect();
+    for kj in levels {
         let k = &fit.params[kj];
         let floor = fit.param("L").map_or(0.0, |l| l.estimate);
         let observed_rise = ymax - floor;
@@ -1378,13 +1383,14 @@ fn diagnose(fit: &mut Fit, t: &[f64], y: &[f64]) {
         if let Some(iv) = k.interval.filter(|i| i.method == CiMethod::Profile) {
             if iv.hi.is_none() {
                 reasons.push(format!(
-                    "its profile likelihood stays inside the 95% threshold for every K up to {} times the data's range above the estimate",
+                    "its profile likelihood stays inside the 95% threshold for every {} up to {} times the data's range above the estimate",
+                    k.name,
                     profile::WIDE
                 ));
             }
         }
         if k.estimate - floor < 1e-9 * ymax.abs().max(f64::MIN_POSITIVE) {
-            reasons.push("K ended at the edge of its allowed range".to_string());
+            reasons.push(format!("{} ended at the edge of its allowed range", k.name));
         }
         if !reasons.is_empty() {
             // No upper bound is claimed, and the asymptotic interval is

@@ -720,12 +720,15 @@ fn analyse_series(
         not_identified: fit.params.iter().find(|p| !p.identified).map(|p| {
             match p.interval.and_then(|i| i.lo) {
                 Some(lo) => format!(
-                    "These data do not determine the saturation level K. The estimate is not a \
-                     forecast of the ceiling: the data only say K ≥ {} (95%).",
+                    "These data do not determine the saturation level {0}. The estimate is not a \
+                     forecast of the ceiling: the data only say {0} ≥ {1} (95%).",
+                    p.name,
                     short(lo)
                 ),
-                None => "These data do not determine the saturation level K: treat it as unknown."
-                    .to_string(),
+                None => format!(
+                    "These data do not determine the saturation level {}: treat it as unknown.",
+                    p.name
+                ),
             }
         }),
         increments_hint: (!fit.increments && (settings.per_period || never_falls(&values)))

@@ -21,8 +21,8 @@ fn rel(a: f64, b: f64) -> f64 {
     (a - b).abs() / b.abs()
 }
 
-#[test]
-fn bilogistic_fit_matches_scipy_curve_fit() {
+/// Months and cumulative subscribers of the two-wave demo.
+fn data() -> (Vec<f64>, Vec<f64>) {
     let text = std::fs::read_to_string(root().join("demo-data/wrenlow_two_waves.csv")).unwrap();
     let (mut t, mut y) = (vec![], vec![]);
     for line in text.lines().skip(1).filter(|l| !l.is_empty()) {
@@ -30,6 +30,12 @@ fn bilogistic_fit_matches_scipy_curve_fit() {
         t.push(a.parse::<f64>().unwrap());
         y.push(b.parse::<f64>().unwrap());
     }
+    (t, y)
+}
+
+#[test]
+fn bilogistic_fit_matches_scipy_curve_fit() {
+    let (t, y) = data();
     let r: Value = serde_json::from_str(
         &std::fs::read_to_string(root().join("tests/reference/bilogistic.json"))
             .expect("tests/reference/bilogistic.json (run tests/reference/bilogistic.py)"),
@@ -51,4 +57,32 @@ fn bilogistic_fit_matches_scipy_curve_fit() {
         let got = p.std_error.unwrap();
         assert!(rel(got, se) < 1e-4, "se {name}: {got} vs {se}");
     }
+}
+
+/// Data that stop before the second wave's midpoint (month 30 of 48; the
+/// truth has t02 = 32) cannot determine K2, and so not the level K1 + K2:
+/// K2 is flagged as not identified, with no upper bound; K1, whose wave is
+/// past, is not. All 48 months determine both.
+#[test]
+fn an_unfinished_second_wave_leaves_k2_undetermined() {
+    use plateau_core::WarningCode;
+    let (t, y) = data();
+    let f = fit_xy(
+        &t[..30],
+        &y[..30],
+        Model::Bilogistic,
+        &FitOptions::default(),
+    )
+    .unwrap();
+    let k2 = f.param("K2").unwrap();
+    assert!(!k2.identified, "K2 = {}", k2.estimate);
+    assert!(k2.interval.is_some_and(|i| i.hi.is_none()));
+    assert!(f.param("K1").unwrap().identified);
+    assert!(f
+        .warnings
+        .iter()
+        .any(|w| w.code == WarningCode::SaturationNotIdentified && w.message.contains("K2")));
+    let all = fit_xy(&t, &y, Model::Bilogistic, &FitOptions::default()).unwrap();
+    assert!(all.params.iter().all(|p| p.identified));
+    assert!(!all.has_warning(WarningCode::SaturationNotIdentified));
 }

@@ -474,20 +474,23 @@ pub(crate) fn sum_by(a: &[f64], f: impl Fn(f64) -> f64) -> f64 {
 }
 
 /// `(min, max)` of `a` as `fold(±∞, f64::min / f64::max)` give them (NaN
-/// entries ignored), with four independent lanes.
+/// entries ignored), with four independent lanes. Each lane keeps its
+/// value unless the entry compares below (above) it, which a NaN never
+/// does: one compare-and-select per entry (`minpd`/`maxpd` on x86), where
+/// `f64::min` also has to test for NaN.
 pub(crate) fn min_max(a: &[f64]) -> (f64, f64) {
     let mut lo = [f64::INFINITY; 4];
     let mut hi = [f64::NEG_INFINITY; 4];
     let mut chunks = a.chunks_exact(4);
     for c in &mut chunks {
         for l in 0..4 {
-            lo[l] = lo[l].min(c[l]);
-            hi[l] = hi[l].max(c[l]);
+            lo[l] = if c[l] < lo[l] { c[l] } else { lo[l] };
+            hi[l] = if c[l] > hi[l] { c[l] } else { hi[l] };
         }
     }
     for &v in chunks.remainder() {
-        lo[0] = lo[0].min(v);
-        hi[0] = hi[0].max(v);
+        lo[0] = if v < lo[0] { v } else { lo[0] };
+        hi[0] = if v > hi[0] { v } else { hi[0] };
     }
     (
         lo[0].min(lo[1]).min(lo[2].min(lo[3])),
@@ -804,5 +807,32 @@ mod tests {
         let smax = s.iter().cloned().fold(0.0, f64::max);
         let smin = s.iter().cloned().fold(f64::INFINITY, f64::min);
         assert!(smin <= 1e-15 * smax, "{s:?}");
+    }
+
+    /// `min_max` is the `f64::min`/`f64::max` fold (NaN ignored) for every
+    /// length and position of the extremes, NaN and infinities included.
+    #[test]
+    fn min_max_is_the_nan_ignoring_fold() {
+        let pool = [
+            3.5,
+            -1.25,
+            f64::NAN,
+            7.0,
+            0.0,
+            -0.0,
+            f64::INFINITY,
+            f64::NEG_INFINITY,
+            -8.0,
+            2.0,
+        ];
+        for len in 0..=pool.len() {
+            for shift in 0..pool.len() {
+                let a: Vec<f64> = (0..len).map(|i| pool[(i + shift) % pool.len()]).collect();
+                let lo = a.iter().copied().fold(f64::INFINITY, f64::min);
+                let hi = a.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+                assert_eq!(min_max(&a), (lo, hi), "{a:?}");
+            }
+        }
+        assert_eq!(min_max(&[f64::NAN; 5]), (f64::INFINITY, f64::NEG_INFINITY));
     }
 }

@@ -96,7 +96,8 @@ pub struct CompareArgs {
     /// Models to compare, comma-separated (default: all).
     #[arg(long, value_name = "LIST")]
     pub models: Option<String>,
-    /// Hold a parameter at a known value in every model that has it (repeatable).
+    /// Hold a parameter at a known value in every model that has it (repeatable);
+    /// K (or m) is the known saturation level, held as K or as the Bass model's m.
     #[arg(long, value_name = "NAME=VALUE")]
     pub fix: Vec<String>,
     #[command(flatten)]
@@ -215,7 +216,8 @@ pub struct BacktestArgs {
     /// Models to test, comma-separated (default: all).
     #[arg(long, value_name = "LIST")]
     pub models: Option<String>,
-    /// Hold a parameter at a known value in every model that has it (repeatable).
+    /// Hold a parameter at a known value in every model that has it (repeatable);
+    /// K (or m) is the known saturation level, held as K or as the Bass model's m.
     #[arg(long, value_name = "NAME=VALUE")]
     pub fix: Vec<String>,
     /// Print the JSON report instead of a table.

@@ -10,7 +10,7 @@
 //! recommendation that names its reasons ([`recommend`]).
 
 use crate::diagnostics::{fmt_p, lr_of_fits, residual_diagnostics, Verdict, ALPHA};
-use crate::fit::{fit_xy, Fit, FitError, FitOptions};
+use crate::fit::{fit_xy, Fit, FitError, FitErrorKind, FitOptions};
 use crate::model::Model;
 use crate::warning::WarningCode;
 use serde::Serialize;
@@ -28,19 +28,51 @@ pub struct Entry {
 
 /// Fits every model in `models` and ranks them by AICc (best first); models
 /// that could not be fitted come last, in the given order.
+///
+/// A fixed `K` (or Bass's `m`) is a known saturation level, the same for
+/// every model: each model holds its own level parameter there (`K`, or
+/// `m` for the Bass model), so that the ranking compares models under one
+/// assumption. The bi-logistic's level is `K1 + K2`, which no one parameter
+/// holds, so it is not fitted then, and its entry says why; the exponential
+/// has no level, and is fitted as it is. Other fixed and starting values
+/// apply to the models that have a parameter of that name.
 pub fn compare(t: &[f64], y: &[f64], models: &[Model], opts: &FitOptions) -> Vec<Entry> {
+    let is_level = |name: &str| matches!(name.trim(), "K" | "m");
+    let level = opts
+        .fixed
+        .iter()
+        .find(|(name, _)| is_level(name))
+        .map(|(_, v)| *v);
     let mut entries: Vec<Entry> = models
         .iter()
         .map(|&model| {
-            // A fixed K only applies to models that have one.
             let mut o = opts.clone();
             o.fixed
-                .retain(|(name, _)| model.param_index(name).is_some());
+                .retain(|(name, _)| !is_level(name) && model.param_index(name).is_some());
             o.start
                 .retain(|(name, _)| model.param_index(name).is_some());
+            let own_level = ["K", "m"]
+                .into_iter()
+                .find(|n| model.param_index(n).is_some());
+            let result = match (level, own_level) {
+                (Some(v), Some(name)) => {
+                    o.fixed.push((name.to_string(), v));
+                    fit_xy(t, y, model, &o)
+                }
+                (Some(_), None) if model != Model::Exponential => Err(FitError {
+                    kind: FitErrorKind::UnknownParameter,
+                    message: format!(
+                        "a known saturation level cannot be applied: the {} model's level is {}, \
+                         which no one parameter holds",
+                        model.name(),
+                        model.saturation_name()
+                    ),
+                }),
+                _ => fit_xy(t, y, model, &o),
+            };
             Entry {
                 model,
-                result: fit_xy(t, y, model, &o),
+                result,
                 delta_aicc: None,
                 akaike_weight: None,
             }

@@ -307,6 +307,46 @@ fn compare_ranks_by_aicc_with_weights_summing_to_one() {
     assert_eq!(fitted[0]["model"], "gompertz");
 }
 
+/// A known saturation level holds every model's own level parameter (K,
+/// or the Bass model's m), so the ranking compares the models under one
+/// assumption; the bi-logistic, whose level K1 + K2 no one parameter
+/// holds, is listed as not fitted and says why; the exponential has no
+/// level and is fitted as it is.
+#[test]
+fn compare_with_a_known_level_fixes_it_in_every_model() {
+    let v = json(&plateau(
+        &[
+            "compare",
+            &demo("aldermoor_subscribers.csv"),
+            "--fix",
+            "K=12000",
+            "--json",
+        ],
+        None,
+    ));
+    let models = v["models"].as_array().unwrap();
+    assert_eq!(models.len(), plateau_core::Model::ALL.len());
+    for m in models {
+        let name = m["model"].as_str().unwrap();
+        let level = match name {
+            "bass" => "m",
+            "exponential" | "bilogistic" => continue,
+            _ => "K",
+        };
+        let p = &m["fit"]["params"][level];
+        assert_eq!(p["estimate"], 12000.0, "{name}");
+        assert_eq!(p["fixed"], true, "{name}");
+    }
+    let find = |name: &str| models.iter().find(|m| m["model"] == name).unwrap();
+    let bilogistic = find("bilogistic");
+    assert!(bilogistic["aicc"].is_null());
+    assert!(
+        bilogistic["error"].as_str().unwrap().contains("K1 + K2"),
+        "{bilogistic}"
+    );
+    assert!(find("exponential")["aicc"].is_number());
+}
+
 #[test]
 fn svg_flag_writes_the_curve_chart() {
     let dir = std::env::temp_dir().join(format!("plateau-cli-test-{}", std::process::id()));

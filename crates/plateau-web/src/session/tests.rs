@@ -73,6 +73,18 @@ fn fixed_k_is_refused_for_the_exponential_and_kept_for_the_logistic() {
     let a = analyse(DEMO_TEXT, &settings).unwrap();
     assert_eq!(a.fit.param("K").unwrap().estimate, 15000.0);
     assert!(a.fit.param("K").unwrap().fixed);
+    // The comparison holds the same level in every model that has one
+    // (Bass's m included); the bi-logistic's row says why it is missing.
+    for row in &a.view.comparison {
+        match row.model {
+            "exponential" => assert!(row.aicc.is_some()),
+            "bilogistic" => {
+                assert!(row.aicc.is_none());
+                assert!(row.error.as_deref().unwrap().contains("K1 + K2"));
+            }
+            _ => assert_eq!(row.k, Some(15000.0), "{}", row.model),
+        }
+    }
 }
 
 /// The known saturation level is the Bass model's market potential m; the

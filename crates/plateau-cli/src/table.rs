@@ -342,11 +342,12 @@ pub fn diagnose(name: &str, series: &Series, r: &DiagnoseReport, k_entered: bool
         Some(runs) => {
             let _ = writeln!(
                 s,
-                "  runs test        {} runs ({} at or above 0, {} below), {} expected, z {:.3}, p {}{}",
+                "  runs test        {} runs ({} at or above 0, {} below), {} expected, p {} exact; z {:.3}, p {}{}",
                 runs.runs,
                 runs.n_positive,
                 runs.n_negative,
                 num(runs.expected),
+                fmt_p(runs.p_exact),
                 runs.z,
                 fmt_p(runs.p_value),
                 if runs.continuity_corrected {

@@ -23,6 +23,7 @@ use crate::model::Model;
 use crate::warning::WarningCode;
 use serde::Serialize;
 use statrs::distribution::{ChiSquared, ContinuousCDF, Normal, StudentsT};
+use statrs::function::gamma::ln_gamma;
 
 /// Significance level of every test here.
 pub const ALPHA: f64 = 0.05;
@@ -30,8 +31,9 @@ pub const ALPHA: f64 = 0.05;
 pub const DW_LOW: f64 = 1.5;
 /// Durbin–Watson above this: negative autocorrelation (rule of thumb).
 pub const DW_HIGH: f64 = 2.5;
-/// Fewer residuals than this: no verdicts (the normal approximations of the
-/// runs and Jarque–Bera tests mean little below it).
+/// Fewer residuals than this: no verdicts (the Jarque–Bera test's
+/// large-sample approximation, and the power of every test, mean little
+/// below it).
 pub const MIN_RESIDUALS: usize = 10;
 /// Below this many residuals the runs test's z uses a continuity
 /// correction of 0.5 (statsmodels' `runstest_1samp(correction=True)`
@@ -70,8 +72,13 @@ pub struct RunsTest {
     /// `1 + 2 n₊ n₋ / n`.
     pub expected: f64,
     pub z: f64,
-    /// Two-sided, from the normal approximation.
+    /// Two-sided, from the normal approximation (as statsmodels gives it).
     pub p_value: f64,
+    /// Two-sided, from the exact distribution of the number of runs given
+    /// `n₊` and `n₋` (see [`runs_distribution`]): twice the smaller tail
+    /// `P(R ≤ runs)` or `P(R ≥ runs)`, at most 1. The verdicts use this one;
+    /// it needs no large-sample argument.
+    pub p_exact: f64,
     /// Whether the continuity correction was applied (n < 50).
     pub continuity_corrected: bool,
 }
@@ -86,8 +93,9 @@ pub struct RunsTest {
 /// ```
 ///
 /// The normal approximation with continuity correction (Wald & Wolfowitz
-/// 1940; the same statistic as statsmodels' `runstest_1samp`). `None` with
-/// fewer than two residuals or when all have one sign (σ = 0).
+/// 1940; the same statistic as statsmodels' `runstest_1samp`), and the
+/// exact p-value beside it. `None` with fewer than two residuals or when
+/// all have one sign (σ = 0).
 pub fn runs_test(res: &[f64]) -> Option<RunsTest> {
     let n = res.len();
     if n < 2 || res.iter().any(|e| !e.is_finite()) {
@@ -116,6 +124,9 @@ pub fn runs_test(res: &[f64]) -> Option<RunsTest> {
         diff
     };
     let z = diff / var.sqrt();
+    let pmf = runs_distribution(n1, n2);
+    let below: f64 = pmf[..=runs].iter().sum();
+    let above: f64 = pmf[runs..].iter().sum();
     Some(RunsTest {
         n_positive: n1,
         n_negative: n2,
@@ -123,8 +134,50 @@ pub fn runs_test(res: &[f64]) -> Option<RunsTest> {
         expected,
         z,
         p_value: two_sided_normal(z),
+        p_exact: (2.0 * below.min(above)).min(1.0),
         continuity_corrected: corrected,
     })
+}
+
+/// `P(R = r)` for `r = 0 ..= n₁ + n₂`: the distribution of the number of
+/// runs `R` in a random arrangement of `n₁` positive and `n₂` negative
+/// signs, every arrangement equally likely (Swed & Eisenhart 1943):
+///
+/// ```text
+/// P(R = 2k)     = 2 C(n₁−1, k−1) C(n₂−1, k−1) / C(n₁+n₂, n₁)
+/// P(R = 2k + 1) = [C(n₁−1, k) C(n₂−1, k−1) + C(n₁−1, k−1) C(n₂−1, k)] / C(n₁+n₂, n₁)
+/// ```
+///
+/// Binomial coefficients in logarithms (`ln Γ`), so that long series
+/// neither overflow nor lose the small tails. Both counts must be at
+/// least 1.
+pub fn runs_distribution(n1: usize, n2: usize) -> Vec<f64> {
+    let n = n1 + n2;
+    let ln_fact = |m: usize| ln_gamma(m as f64 + 1.0);
+    // ln C(a, b), or None when the coefficient is 0.
+    let ln_choose = |a: usize, b: isize| -> Option<f64> {
+        let b = usize::try_from(b).ok().filter(|&b| b <= a)?;
+        Some(ln_fact(a) - ln_fact(b) - ln_fact(a - b))
+    };
+    let total = ln_fact(n) - ln_fact(n1) - ln_fact(n2);
+    let term = |a: Option<f64>, b: Option<f64>| match (a, b) {
+        (Some(a), Some(b)) => (a + b - total).exp(),
+        _ => 0.0,
+    };
+    let (a, b) = (n1 - 1, n2 - 1);
+    (0..=n)
+        .map(|r| {
+            let k = (r / 2) as isize;
+            if r < 2 {
+                0.0
+            } else if r % 2 == 0 {
+                2.0 * term(ln_choose(a, k - 1), ln_choose(b, k - 1))
+            } else {
+                term(ln_choose(a, k), ln_choose(b, k - 1))
+                    + term(ln_choose(a, k - 1), ln_choose(b, k))
+            }
+        })
+        .collect()
 }
 
 fn std_normal() -> Normal {
@@ -389,7 +442,7 @@ fn runs_verdict(runs: Option<&RunsTest>) -> Verdict {
             true,
             "every residual has the same sign: the curve misses the data systematically",
         ),
-        Some(r) if r.p_value < ALPHA && (r.runs as f64) < r.expected => verdict(
+        Some(r) if r.p_exact < ALPHA && (r.runs as f64) < r.expected => verdict(
             "runs_streaks",
             true,
             format!(
@@ -397,10 +450,10 @@ fn runs_verdict(runs: Option<&RunsTest>) -> Verdict {
                  the model misses a pattern, and its intervals are too narrow",
                 r.runs,
                 r.expected,
-                fmt_p(r.p_value)
+                fmt_p(r.p_exact)
             ),
         ),
-        Some(r) if r.p_value < ALPHA => verdict(
+        Some(r) if r.p_exact < ALPHA => verdict(
             "runs_alternate",
             true,
             format!(
@@ -408,7 +461,7 @@ fn runs_verdict(runs: Option<&RunsTest>) -> Verdict {
                  expected, p {}): look for a saw-tooth in the data, such as reporting rhythm",
                 r.runs,
                 r.expected,
-                fmt_p(r.p_value)
+                fmt_p(r.p_exact)
             ),
         ),
         Some(r) => verdict(
@@ -418,7 +471,7 @@ fn runs_verdict(runs: Option<&RunsTest>) -> Verdict {
                 "residual signs mix as chance would ({} runs, about {:.1} expected, p {})",
                 r.runs,
                 r.expected,
-                fmt_p(r.p_value)
+                fmt_p(r.p_exact)
             ),
         ),
     }

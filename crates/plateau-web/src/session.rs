@@ -375,6 +375,7 @@ pub struct DiagnosticsRow {
     pub n: usize,
     pub runs: Option<usize>,
     pub runs_expected: Option<f64>,
+    /// The runs test's exact two-sided p.
     pub runs_p: Option<f64>,
     pub durbin_watson: Option<f64>,
     pub lag1_autocorrelation: Option<f64>,
@@ -666,7 +667,7 @@ fn analyse_series(
         n: diag.n,
         runs: diag.runs.as_ref().map(|r| r.runs),
         runs_expected: diag.runs.as_ref().map(|r| r.expected),
-        runs_p: diag.runs.as_ref().map(|r| r.p_value),
+        runs_p: diag.runs.as_ref().map(|r| r.p_exact),
         durbin_watson: diag.durbin_watson,
         lag1_autocorrelation: diag.lag1_autocorrelation,
         qq_correlation: diag.qq.as_ref().map(|q| q.correlation),

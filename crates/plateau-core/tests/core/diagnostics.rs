@@ -267,3 +267,78 @@ fn recommendation_names_the_generating_model() {
         assert!(!tests.is_empty(), "{file}");
     }
 }
+
+/// The exact distribution of the number of runs against a count of every
+/// arrangement of n₊ plus and n₋ minus signs (each equally likely), for
+/// small counts: an independent computation of the same probabilities.
+#[test]
+fn runs_distribution_matches_enumeration() {
+    for (n1, n2) in [(1, 1), (1, 5), (3, 3), (4, 7), (6, 5), (8, 8), (2, 11)] {
+        let n = n1 + n2;
+        let mut counts = vec![0u64; n + 1];
+        let mut total = 0u64;
+        for mask in 0u32..(1 << n) {
+            if mask.count_ones() as usize != n1 {
+                continue;
+            }
+            let runs = 1
+                + (1..n)
+                    .filter(|&i| (mask >> i) & 1 != (mask >> (i - 1)) & 1)
+                    .count();
+            counts[runs] += 1;
+            total += 1;
+        }
+        let pmf = diagnostics::runs_distribution(n1, n2);
+        assert_eq!(pmf.len(), n + 1);
+        for (r, (&p, &c)) in pmf.iter().zip(&counts).enumerate() {
+            let want = c as f64 / total as f64;
+            assert!(
+                (p - want).abs() <= 1e-13,
+                "n1={n1} n2={n2} R={r}: {p} vs {want}"
+            );
+        }
+    }
+}
+
+/// Analytic facts (Wald & Wolfowitz 1940): the probabilities sum to 1 and
+/// the mean is 1 + 2 n₊ n₋ / n, also for long series whose binomial
+/// coefficients overflow a double.
+#[test]
+fn runs_distribution_has_the_known_mean_for_long_series() {
+    for (n1, n2) in [(40, 25), (400, 600), (3000, 2500)] {
+        let pmf = diagnostics::runs_distribution(n1, n2);
+        let sum: f64 = pmf.iter().sum();
+        let mean: f64 = pmf.iter().enumerate().map(|(r, p)| r as f64 * p).sum();
+        let (a, b) = (n1 as f64, n2 as f64);
+        let want = 1.0 + 2.0 * a * b / (a + b);
+        assert!((sum - 1.0).abs() < 1e-10, "{n1},{n2}: sum {sum}");
+        assert!(
+            (mean - want).abs() < 1e-8 * want,
+            "{n1},{n2}: {mean} vs {want}"
+        );
+    }
+}
+
+/// Swed & Eisenhart's (1943) table of critical values (from memory): for
+/// n₊ = n₋ = 10, 6 or fewer runs and 16 or more each have probability
+/// 0.0185, so 6 and 16 are the two-sided 5% critical values. Exactly, 3,422
+/// of the C(20, 10) = 184,756 arrangements have at most 6 runs. A sign
+/// sequence built with 6 runs gets twice that as its exact p.
+#[test]
+fn runs_test_exact_p_matches_the_published_table() {
+    let pmf = diagnostics::runs_distribution(10, 10);
+    let low: f64 = pmf[..=6].iter().sum();
+    let high: f64 = pmf[16..].iter().sum();
+    assert!((low - 3422.0 / 184_756.0).abs() < 1e-13, "{low}");
+    assert!((low - 0.0185).abs() < 5e-5, "{low}");
+    assert!((high - low).abs() < 1e-13);
+    // Six runs: + ×3, − ×3, + ×3, − ×3, + ×4, − ×4.
+    let signs = [3, -3, 3, -3, 4, -4];
+    let res: Vec<f64> = signs
+        .iter()
+        .flat_map(|&k: &i32| std::iter::repeat_n(k.signum() as f64, k.unsigned_abs() as usize))
+        .collect();
+    let t = diagnostics::runs_test(&res).unwrap();
+    assert_eq!((t.n_positive, t.n_negative, t.runs), (10, 10, 6));
+    assert!((t.p_exact - 2.0 * low).abs() < 1e-12, "{}", t.p_exact);
+}

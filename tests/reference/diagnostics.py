@@ -90,11 +90,13 @@ LR_PAIRS = [
     ("logistic_aldermoor", "richards_aldermoor"),
 ]
 
-# Fisher-Pry curvature: (file, K)
+# Fisher-Pry curvature: (file, K, error model of the fit)
 FISHER_PRY = [
-    ("aldermoor_subscribers.csv", 12000.0),
-    ("aldermoor_subscribers.csv", 14000.0),
-    ("harrow_fields_capacity.csv", 850.0),
+    ("aldermoor_subscribers.csv", 12000.0, "additive"),
+    ("aldermoor_subscribers.csv", 14000.0, "additive"),
+    ("harrow_fields_capacity.csv", 850.0, "additive"),
+    ("aldermoor_subscribers.csv", 12000.0, "relative"),
+    ("harrow_fields_capacity.csv", 850.0, "count"),
 ]
 
 
@@ -131,18 +133,19 @@ def case(case_id, name, model, p0):
     }
 
 
-def fisher_pry(name, k):
+def fisher_pry(name, k, errors):
     t, y, _ = sf.load(name)
     keep = (y > 0) & (y < k)
     t, y = t[keep], y[keep]
     z = np.log(y / (k - y))
     u = (t - t.mean()) / t.std()
     X = np.column_stack([np.ones_like(u), u, u * u])
-    # Delta-method weights for constant noise on y: var z ~ (K / (y (K - y)))^2.
-    w = (y * (k - y) / k) ** 2
+    # Delta-method weights 1 / var z, var z ~ var(y) (K / (y (K - y)))^2, with
+    # var(y) constant (additive), ~ y^2 (relative, log) or ~ y (count).
+    w = (y * (k - y) / k) ** 2 / {"additive": 1.0, "relative": y**2, "log": y**2, "count": y}[errors]
     res = sm.WLS(z, X, weights=w).fit()
     line = np.polyfit(t, z, 1, w=np.sqrt(w))
-    return {"file": f"demo-data/{name}", "k": k, "n": int(len(t)),
+    return {"file": f"demo-data/{name}", "k": k, "errors": errors, "n": int(len(t)),
             "slope": float(line[0]), "intercept": float(line[1]),
             "curvature": float(res.params[2]), "curvature_t": float(res.tvalues[2]),
             "curvature_p": float(res.pvalues[2])}

@@ -42,7 +42,9 @@ pub fn draw_fisher_pry<DB: DrawingBackend>(
         common::format_value(k),
         if given { "entered" } else { "fitted" }
     );
-    let Some(fp) = fisher_pry(input.times, input.values, k).filter(|f| f.points.len() >= 2) else {
+    let Some(fp) = fisher_pry(input.times, input.values, k, input.fit.error_model)
+        .filter(|f| f.points.len() >= 2)
+    else {
         return common::draw_message(
             area,
             &title,

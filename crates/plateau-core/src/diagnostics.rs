@@ -822,16 +822,23 @@ pub const FISHER_PRY_MIN_POINTS: usize = 5;
 /// logistic with that K. The test fits `z = a + b u + c u²` by weighted
 /// least squares (QR of the weighted design) and tests `c = 0` with
 /// Student's t on n − 3 degrees of freedom. The transform stretches noise
-/// near 0 and K: for constant noise σ on y the delta method gives
-/// `sd(z) ≈ σ K / (y (K − y))`, so each point is weighted by
-/// `w = (y (K − y) / K)²` (without the weights the noisy tails alone make
-/// a straight logistic look curved). The straight line is the weighted
-/// fit too. A clear bend means the logistic with this K is the wrong shape
+/// near 0 and K: the delta method gives `sd(z) ≈ sd(y) K / (y (K − y))`,
+/// so each point is weighted by `w = 1 / sd(z)²` up to a constant, with
+/// `sd(y)` as the fit's error model has it (without the weights the noisy
+/// tails alone make a straight logistic look curved):
+///
+/// ```text
+/// additive        sd(y) ∝ 1     w = (y (K − y) / K)²
+/// relative, log   sd(y) ∝ y     w = ((K − y) / K)²
+/// count           sd(y) ∝ √y    w = y ((K − y) / K)²
+/// ```
+///
+/// The straight line is the weighted fit too. A clear bend means the logistic with this K is the wrong shape
 /// (or K is wrong: too high bends the points down at the late end, too low
 /// bends them up).
 ///
 /// `None` when K is not positive and finite or `t`, `y` differ in length.
-pub fn fisher_pry(t: &[f64], y: &[f64], k: f64) -> Option<FisherPry> {
+pub fn fisher_pry(t: &[f64], y: &[f64], k: f64, errors: ErrorModel) -> Option<FisherPry> {
     if !(k.is_finite() && k > 0.0) || t.len() != y.len() {
         return None;
     }
@@ -840,7 +847,15 @@ pub fn fisher_pry(t: &[f64], y: &[f64], k: f64) -> Option<FisherPry> {
         .iter()
         .zip(y)
         .filter(|(a, b)| a.is_finite() && b.is_finite() && **b > 0.0 && **b < k)
-        .map(|(&a, &b)| (a, (b / (k - b)).ln(), b * (k - b) / k))
+        .map(|(&a, &b)| {
+            let share_left = (k - b) / k;
+            let sqrt_w = match errors {
+                ErrorModel::Additive => b * share_left,
+                ErrorModel::Relative | ErrorModel::Log => share_left,
+                ErrorModel::Count => b.sqrt() * share_left,
+            };
+            (a, (b / (k - b)).ln(), sqrt_w)
+        })
         .filter(|q| q.1.is_finite() && q.2 > 0.0)
         .collect();
     pts.sort_by(|a, b| a.0.total_cmp(&b.0));

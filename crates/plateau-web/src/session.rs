@@ -691,7 +691,7 @@ fn analyse_series(
     let fisher_pry = settings
         .fisher_pry_k
         .or_else(|| fit.param("K").map(|p| p.estimate))
-        .and_then(|k| diagnostics::fisher_pry(&series.times, &values, k))
+        .and_then(|k| diagnostics::fisher_pry(&series.times, &values, k, fit.error_model))
         .map(|f| FisherPryRow {
             k: f.k,
             entered: settings.fisher_pry_k.is_some(),
@@ -996,7 +996,7 @@ impl Analysis {
             .settings
             .fisher_pry_k
             .or_else(|| self.fit.param("K").map(|p| p.estimate))
-            .and_then(|k| diagnostics::fisher_pry(t, y, k));
+            .and_then(|k| diagnostics::fisher_pry(t, y, k, self.fit.error_model));
         let report = plateau_core::report::DiagnoseReport::new(
             &self.fit,
             &self.series.warnings,

@@ -102,17 +102,17 @@ fn fisher_pry_of_exact_logistic_data_is_straight() {
     let p = [1000.0, 0.4, 12.0];
     let t: Vec<f64> = (0..25).map(f64::from).collect();
     let y: Vec<f64> = t.iter().map(|&ti| Model::Logistic.eval(&p, ti)).collect();
-    let fp = fisher_pry(&t, &y, 1000.0).unwrap();
+    let fp = fisher_pry(&t, &y, 1000.0, ErrorModel::Additive).unwrap();
     assert_eq!(fp.dropped, 0);
     assert!((fp.slope - 0.4).abs() < 1e-9);
     assert!((fp.t0.unwrap() - 12.0).abs() < 1e-9);
     assert_eq!(fp.verdict.code, "straight");
     // K set too high: the late points bend down.
-    let fp = fisher_pry(&t, &y, 1300.0).unwrap();
+    let fp = fisher_pry(&t, &y, 1300.0, ErrorModel::Additive).unwrap();
     assert_eq!(fp.verdict.code, "curved");
     assert!(fp.curvature.unwrap() < 0.0);
     // K below some observations: those are dropped and counted.
-    let fp = fisher_pry(&t, &y, 900.0).unwrap();
+    let fp = fisher_pry(&t, &y, 900.0, ErrorModel::Additive).unwrap();
     assert!(fp.dropped > 0);
     assert_eq!(fp.points.len() + fp.dropped, 25);
 }

@@ -13,7 +13,7 @@
 
 use super::scipy::{load, root};
 use plateau_core::diagnostics::{self, of_residuals};
-use plateau_core::fit::{fit_xy, FitOptions};
+use plateau_core::fit::{fit_xy, ErrorModel, FitOptions};
 use plateau_core::Model;
 use serde_json::Value;
 
@@ -197,8 +197,10 @@ fn fisher_pry_curvature_matches_statsmodels_wls() {
     for c in r["fisher_pry"].as_array().unwrap() {
         let (t, y) = load(c["file"].as_str().unwrap(), false);
         let k = c["k"].as_f64().unwrap();
-        let fp = diagnostics::fisher_pry(&t, &y, k).unwrap();
-        let what = format!("{} K={k}", c["file"]);
+        let errors = c["errors"].as_str().unwrap();
+        let model = ErrorModel::from_name(errors).unwrap();
+        let fp = diagnostics::fisher_pry(&t, &y, k, model).unwrap();
+        let what = format!("{} K={k} {errors}", c["file"]);
         assert_eq!(fp.points.len() as u64, c["n"].as_u64().unwrap(), "{what}");
         close(
             &format!("{what} slope"),

@@ -258,19 +258,11 @@ struct Row<'a> {
 /// Parses `text` into a series; see the module documentation for what is
 /// detected and [`DataErrorKind`] for what is refused.
 pub fn parse_series(text: &str, opts: &ParseOptions) -> Result<Series, DataError> {
-    let text = text.strip_prefix('\u{feff}').unwrap_or(text);
-    if text.trim().is_empty() {
-        return Err(error(
-            DataErrorKind::Empty,
-            None,
-            "the text is empty; expected rows of a time and a value, e.g. \"2024-01-31,1250\"",
-        ));
-    }
-    let delimiter = match opts.delimiter {
-        Some(d) => check_delimiter(d)?,
-        None => detect_delimiter(text),
-    };
-    let records = read_records(text, delimiter)?;
+    let (records, delimiter) = read_text(
+        text,
+        opts.delimiter,
+        "the text is empty; expected rows of a time and a value, e.g. \"2024-01-31,1250\"",
+    )?;
     let Some(first) = records.first() else {
         return Err(error(
             DataErrorKind::Empty,
@@ -543,6 +535,25 @@ fn detect_delimiter(text: &str) -> u8 {
 }
 
 /// All non-blank records, each with the line of the original text it starts on.
+/// The records of `text` (a leading byte-order mark dropped) and the
+/// delimiter: `delimiter` when given (and usable), else the detected one.
+/// `if_empty` is the message for a text with nothing but white space.
+fn read_text(
+    text: &str,
+    delimiter: Option<u8>,
+    if_empty: &str,
+) -> Result<(Vec<Record>, u8), DataError> {
+    let text = text.strip_prefix('\u{feff}').unwrap_or(text);
+    if text.trim().is_empty() {
+        return Err(error(DataErrorKind::Empty, None, if_empty));
+    }
+    let delimiter = match delimiter {
+        Some(d) => check_delimiter(d)?,
+        None => detect_delimiter(text),
+    };
+    Ok((read_records(text, delimiter)?, delimiter))
+}
+
 fn read_records(text: &str, delimiter: u8) -> Result<Vec<Record>, DataError> {
     let lines = LineIndex::new(text);
     let mut reader = csv::ReaderBuilder::new()

@@ -24,8 +24,8 @@
 //! cannot look ahead.
 
 use super::{
-    build_series, check_delimiter, decide_decimal, delimiter_hint, detect_delimiter, error,
-    is_missing, looks_like_header, quote, read_records, time, DataError, DataErrorKind, Meta,
+    build_series, decide_decimal, delimiter_hint, detect_delimiter, error, is_missing,
+    looks_like_header, quote, read_records, read_text, time, DataError, DataErrorKind, Meta,
     Record, Row, Series,
 };
 use crate::warning::{Warning, WarningCode};
@@ -140,19 +140,11 @@ pub fn split_line(line_no: usize, line: &str, delimiter: u8) -> Result<Vec<Strin
 
 /// Parses a text holding several series; see the module documentation.
 pub fn parse_multi(text: &str, opts: &MultiOptions) -> Result<SeriesSet, DataError> {
-    let text = text.strip_prefix('\u{feff}').unwrap_or(text);
-    if text.trim().is_empty() {
-        return Err(error(
-            DataErrorKind::Empty,
-            None,
-            "the text is empty; expected a time column and one column per series, or rows of series, time and value",
-        ));
-    }
-    let delimiter = match opts.delimiter {
-        Some(d) => check_delimiter(d)?,
-        None => detect_delimiter(text),
-    };
-    let records = read_records(text, delimiter)?;
+    let (records, delimiter) = read_text(
+        text,
+        opts.delimiter,
+        "the text is empty; expected a time column and one column per series, or rows of series, time and value",
+    )?;
     if records.is_empty() {
         return Err(error(DataErrorKind::Empty, None, "the text has no rows"));
     }

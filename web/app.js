@@ -213,6 +213,13 @@ function showView(v) {
     if (b.model === v.model) tr.className = "chosen";
     cell(tr, b.model);
     cell(tr, b.failed ? `${b.origins} (${b.failed} without a fit)` : String(b.origins));
+    if (b.error) {
+      const td = document.createElement("td");
+      td.colSpan = b.mape.length;
+      td.textContent = b.error;
+      tr.appendChild(td);
+      return tr;
+    }
     for (const m of b.mape) cell(tr, m == null ? "–" : `${m.toFixed(2)}%`, "mape");
     return tr;
   }));

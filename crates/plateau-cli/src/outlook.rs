@@ -169,6 +169,10 @@ pub fn backtest(name: &str, horizon: usize, rows: &[ModelBacktest]) -> String {
             m.origins,
             m.failed
         );
+        if let Some(e) = &m.error {
+            let _ = writeln!(s, "  not fitted: {e}");
+            continue;
+        }
         let _ = writeln!(
             s,
             "  {:>3} {:>6} {:>14} {:>10}",

@@ -61,7 +61,7 @@ pub fn compare(args: &CompareArgs) -> Result<CompareSettings> {
         parse: parse_options(&args.input)?,
         models,
         fit: FitOptions {
-            fixed: assignments("--fix", &args.fix)?,
+            fixed: one_level(assignments("--fix", &args.fix)?)?,
             error_model: error_model(&args.errors)?,
             increments: args.errors.increments,
             ..FitOptions::default()
@@ -227,7 +227,7 @@ pub fn backtest(args: &BacktestArgs) -> Result<CompareSettings> {
         parse: parse_options(&args.input)?,
         models,
         fit: FitOptions {
-            fixed: assignments("--fix", &args.fix)?,
+            fixed: one_level(assignments("--fix", &args.fix)?)?,
             // The backtest scores point forecasts: no intervals needed.
             intervals: IntervalMethod::Asymptotic,
             ..FitOptions::default()
@@ -309,9 +309,36 @@ fn assignments(flag: &str, items: &[String]) -> Result<Vec<(String, f64)>> {
         .collect()
 }
 
+/// `compare` and `backtest` hold a fixed K or m as every model's known saturation level
+/// (see `plateau_core::compare`): two different values for it are refused.
+fn one_level(fixed: Vec<(String, f64)>) -> Result<Vec<(String, f64)>> {
+    let mut levels = fixed.iter().filter(|(n, _)| n == "K" || n == "m");
+    if let Some((first, v)) = levels.next() {
+        if let Some((other, w)) = levels.find(|(_, w)| w != v) {
+            bail!(
+                "--fix {first}={v} and --fix {other}={w}: K and m both stand for the known \
+                 saturation level when several models are fitted; give it once"
+            );
+        }
+    }
+    Ok(fixed)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn one_known_level_in_a_comparison() {
+        let level = |items: &[&str]| {
+            let items: Vec<String> = items.iter().map(|s| s.to_string()).collect();
+            one_level(assignments("--fix", &items).unwrap())
+        };
+        assert!(level(&["K=100", "m=100", "r=0.5"]).is_ok());
+        assert!(level(&["K=100", "K=200"]).is_err());
+        let e = level(&["m=100", "K=200"]).unwrap_err().to_string();
+        assert!(e.contains("m=100") && e.contains("K=200"), "{e}");
+    }
 
     #[test]
     fn assignments_parse_and_reject() {

@@ -27,49 +27,13 @@ pub struct Entry {
 }
 
 /// Fits every model in `models` and ranks them by AICc (best first); models
-/// that could not be fitted come last, in the given order.
-///
-/// A fixed `K` (or Bass's `m`) is a known saturation level, the same for
-/// every model: each model holds its own level parameter there (`K`, or
-/// `m` for the Bass model), so that the ranking compares models under one
-/// assumption. The bi-logistic's level is `K1 + K2`, which no one parameter
-/// holds, so it is not fitted then, and its entry says why; the exponential
-/// has no level, and is fitted as it is. Other fixed and starting values
-/// apply to the models that have a parameter of that name.
+/// that could not be fitted come last, in the given order. Each model is
+/// fitted with [`options_for`] it.
 pub fn compare(t: &[f64], y: &[f64], models: &[Model], opts: &FitOptions) -> Vec<Entry> {
-    let is_level = |name: &str| matches!(name.trim(), "K" | "m");
-    let level = opts
-        .fixed
-        .iter()
-        .find(|(name, _)| is_level(name))
-        .map(|(_, v)| *v);
     let mut entries: Vec<Entry> = models
         .iter()
         .map(|&model| {
-            let mut o = opts.clone();
-            o.fixed
-                .retain(|(name, _)| !is_level(name) && model.param_index(name).is_some());
-            o.start
-                .retain(|(name, _)| model.param_index(name).is_some());
-            let own_level = ["K", "m"]
-                .into_iter()
-                .find(|n| model.param_index(n).is_some());
-            let result = match (level, own_level) {
-                (Some(v), Some(name)) => {
-                    o.fixed.push((name.to_string(), v));
-                    fit_xy(t, y, model, &o)
-                }
-                (Some(_), None) if model != Model::Exponential => Err(FitError {
-                    kind: FitErrorKind::UnknownParameter,
-                    message: format!(
-                        "a known saturation level cannot be applied: the {} model's level is {}, \
-                         which no one parameter holds",
-                        model.name(),
-                        model.saturation_name()
-                    ),
-                }),
-                _ => fit_xy(t, y, model, &o),
-            };
+            let result = options_for(model, opts).and_then(|o| fit_xy(t, y, model, &o));
             Entry {
                 model,
                 result,
@@ -109,6 +73,61 @@ pub fn compare(t: &[f64], y: &[f64], models: &[Model], opts: &FitOptions) -> Vec
         (None, None) => std::cmp::Ordering::Equal,
     });
     entries
+}
+
+/// The options for fitting `model` as one of several models under the same
+/// settings (a comparison, a backtest).
+///
+/// A fixed `K` (or Bass's `m`) is a known saturation level, the same for
+/// every model: each model holds its own level parameter there (`K`, or
+/// `m` for the Bass model), so that the models are compared under one
+/// assumption. The bi-logistic's level is `K1 + K2`, which no one parameter
+/// holds, so it gets an error saying so; the exponential has no level, and
+/// is fitted as it is. K and m given with different values contradict each
+/// other: every model with a level gets an error. Other fixed and starting
+/// values apply to the models that have a parameter of that name.
+pub fn options_for(model: Model, opts: &FitOptions) -> Result<FitOptions, FitError> {
+    let is_level = |name: &str| matches!(name.trim(), "K" | "m");
+    let levels: Vec<(&str, f64)> = opts
+        .fixed
+        .iter()
+        .filter(|(name, _)| is_level(name))
+        .map(|(name, v)| (name.trim(), *v))
+        .collect();
+    let mut o = opts.clone();
+    o.fixed
+        .retain(|(name, _)| !is_level(name) && model.param_index(name.trim()).is_some());
+    o.start
+        .retain(|(name, _)| model.param_index(name.trim()).is_some());
+    let Some(&(first, level)) = levels.first() else {
+        return Ok(o);
+    };
+    if model == Model::Exponential {
+        return Ok(o);
+    }
+    let not_applicable = |message: String| FitError {
+        kind: FitErrorKind::NotApplicable,
+        message,
+    };
+    if let Some((other, v)) = levels.iter().find(|l| l.1 != level) {
+        return Err(not_applicable(format!(
+            "the known saturation level is given twice, as {first} = {level} and {other} = {v}: \
+             give it once"
+        )));
+    }
+    let Some(name) = ["K", "m"]
+        .into_iter()
+        .find(|n| model.param_index(n).is_some())
+    else {
+        return Err(not_applicable(format!(
+            "a known saturation level cannot be applied: the {} model's level is {}, \
+             which no one parameter holds",
+            model.name(),
+            model.saturation_name()
+        )));
+    };
+    o.fixed.push((name.to_string(), level));
+    Ok(o)
 }
 
 /// Nested pairs `(nested, general)` tested by likelihood ratio: the

@@ -200,11 +200,16 @@ pub struct ModelBacktest {
     /// Origins at which the model could not be fitted (no forecasts made).
     pub failed: usize,
     pub by_horizon: Vec<HorizonScore>,
+    /// Why the model was not fitted at all, when the settings do not apply
+    /// to it (see [`crate::compare::options_for`]); every origin then
+    /// counts as failed.
+    pub error: Option<String>,
 }
 
 /// Rolling-origin evaluation of every model in `models` (see the module
 /// docs). Origins run from the first training size to n − 1; an origin's
-/// forecasts are the points o+1 … o+H that exist.
+/// forecasts are the points o+1 … o+H that exist. Each model is fitted with
+/// [`crate::compare::options_for`] it (a known K is Bass's m).
 pub fn backtest(
     t: &[f64],
     y: &[f64],
@@ -225,6 +230,11 @@ pub fn backtest(
     models
         .iter()
         .map(|&model| {
+            let (opts, error) = match crate::compare::options_for(model, opts) {
+                Ok(o) => (o, None),
+                Err(e) => (opts.clone(), Some(e.message)),
+            };
+            let opts = &opts;
             let smallest = n_free(model, opts) + 2;
             let first = bt.min_train.unwrap_or(n.div_ceil(2)).max(smallest);
             let mut abs = vec![(0usize, 0.0f64); horizon];
@@ -234,6 +244,10 @@ pub fn backtest(
             let mut prev: Option<Fit> = None;
             for o in first..n {
                 origins += 1;
+                if error.is_some() {
+                    failed += 1;
+                    continue;
+                }
                 match warm_fit(&ts[..o], &ys[..o], model, opts, prev.as_ref()) {
                     Ok(f) => {
                         for h in 1..=horizon {
@@ -271,6 +285,7 @@ pub fn backtest(
                         mape: mean(pct[i]),
                     })
                     .collect(),
+                error,
             }
         })
         .collect()

@@ -263,6 +263,10 @@ pub enum FitErrorKind {
     NoStart,
     /// The solver could not evaluate the model from any start.
     Failed,
+    /// A setting that does not apply to this model (a known saturation
+    /// level for the bi-logistic, whose level no one parameter holds), or
+    /// settings that contradict each other.
+    NotApplicable,
 }
 
 impl fmt::Display for FitError {

@@ -346,6 +346,9 @@ pub struct ModelBacktestReport {
     pub origins: usize,
     pub failed: usize,
     pub horizons: Vec<HorizonReport>,
+    /// Why the model was not fitted at all (the settings do not apply to
+    /// it), else `null`.
+    pub error: Option<String>,
 }
 
 /// The shape of `plateau backtest --json`.
@@ -380,6 +383,7 @@ impl BacktestReport {
                             mape: s.mape,
                         })
                         .collect(),
+                    error: m.error.clone(),
                 })
                 .collect(),
             caution: CAUTION,

@@ -192,6 +192,8 @@ pub struct BacktestRow {
     pub mape: Vec<Option<f64>>,
     /// Mean absolute error for h = 1..=BACKTEST_HORIZON.
     pub mae: Vec<Option<f64>>,
+    /// Why the model was not fitted at all (a known K for the bi-logistic).
+    pub error: Option<String>,
 }
 
 fn page_backtest(t: &[f64], y: &[f64], opts: &FitOptions) -> Vec<BacktestRow> {
@@ -208,6 +210,7 @@ fn page_backtest(t: &[f64], y: &[f64], opts: &FitOptions) -> Vec<BacktestRow> {
             failed: m.failed,
             mape: m.by_horizon.iter().map(|h| h.mape).collect(),
             mae: m.by_horizon.iter().map(|h| h.mae).collect(),
+            error: m.error,
         })
         .collect()
 }
@@ -691,7 +694,14 @@ fn analyse_series(
     let fisher_pry = settings
         .fisher_pry_k
         .or_else(|| fit.param("K").map(|p| p.estimate))
-        .and_then(|k| diagnostics::fisher_pry(&series.times, &values, k, fit.error_model))
+        .and_then(|k| {
+            diagnostics::fisher_pry(
+                &series.times,
+                &values,
+                k,
+                diagnostics::fisher_pry_errors(fit.error_model, fit.increments),
+            )
+        })
         .map(|f| FisherPryRow {
             k: f.k,
             entered: settings.fisher_pry_k.is_some(),
@@ -996,7 +1006,14 @@ impl Analysis {
             .settings
             .fisher_pry_k
             .or_else(|| self.fit.param("K").map(|p| p.estimate))
-            .and_then(|k| diagnostics::fisher_pry(t, y, k, self.fit.error_model));
+            .and_then(|k| {
+                diagnostics::fisher_pry(
+                    t,
+                    y,
+                    k,
+                    diagnostics::fisher_pry_errors(self.fit.error_model, self.fit.increments),
+                )
+            });
         let report = plateau_core::report::DiagnoseReport::new(
             &self.fit,
             &self.series.warnings,

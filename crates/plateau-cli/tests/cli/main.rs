@@ -345,6 +345,40 @@ fn compare_with_a_known_level_fixes_it_in_every_model() {
         "{bilogistic}"
     );
     assert!(find("exponential")["aicc"].is_number());
+
+    // The backtest holds the level the same way.
+    let v = json(&plateau(
+        &[
+            "backtest",
+            &demo("aldermoor_subscribers.csv"),
+            "--fix",
+            "K=12000",
+            "--json",
+        ],
+        None,
+    ));
+    let models = v["models"].as_array().unwrap();
+    let find = |name: &str| models.iter().find(|m| m["model"] == name).unwrap();
+    assert_eq!(find("bass")["failed"], 0);
+    assert!(find("bass")["error"].is_null());
+    let bilogistic = find("bilogistic");
+    assert_eq!(bilogistic["failed"], bilogistic["origins"]);
+    assert!(bilogistic["error"].as_str().unwrap().contains("K1 + K2"));
+
+    // Two different known levels contradict each other.
+    let out = plateau(
+        &[
+            "compare",
+            &demo("aldermoor_subscribers.csv"),
+            "--fix",
+            "K=12000",
+            "--fix",
+            "m=20000",
+        ],
+        None,
+    );
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("give it once"));
 }
 
 #[test]

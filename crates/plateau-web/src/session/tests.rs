@@ -85,6 +85,15 @@ fn fixed_k_is_refused_for_the_exponential_and_kept_for_the_logistic() {
             _ => assert_eq!(row.k, Some(15000.0), "{}", row.model),
         }
     }
+    let bilogistic = a.view.backtest.iter().find(|b| b.model == "bilogistic");
+    assert!(bilogistic
+        .unwrap()
+        .error
+        .as_deref()
+        .unwrap()
+        .contains("K1 + K2"));
+    let bass = a.view.backtest.iter().find(|b| b.model == "bass").unwrap();
+    assert!(bass.error.is_none());
 }
 
 /// The known saturation level is the Bass model's market potential m; the

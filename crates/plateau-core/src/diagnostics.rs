@@ -124,7 +124,7 @@ pub fn runs_test(res: &[f64]) -> Option<RunsTest> {
         diff
     };
     let z = diff / var.sqrt();
-    let pmf = runs_distribution(n1, n2);
+    let pmf = runs_distribution(n1, n2)?;
     let below: f64 = pmf[..=runs].iter().sum();
     let above: f64 = pmf[runs..].iter().sum();
     Some(RunsTest {
@@ -149,9 +149,12 @@ pub fn runs_test(res: &[f64]) -> Option<RunsTest> {
 /// ```
 ///
 /// Binomial coefficients in logarithms (`ln Γ`), so that long series
-/// neither overflow nor lose the small tails. Both counts must be at
-/// least 1.
-pub fn runs_distribution(n1: usize, n2: usize) -> Vec<f64> {
+/// neither overflow nor lose the small tails. `None` when a count is 0
+/// (one sign only: always one run).
+pub fn runs_distribution(n1: usize, n2: usize) -> Option<Vec<f64>> {
+    if n1 == 0 || n2 == 0 {
+        return None;
+    }
     let n = n1 + n2;
     let ln_fact = |m: usize| ln_gamma(m as f64 + 1.0);
     // ln C(a, b), or None when the coefficient is 0.
@@ -165,7 +168,7 @@ pub fn runs_distribution(n1: usize, n2: usize) -> Vec<f64> {
         _ => 0.0,
     };
     let (a, b) = (n1 - 1, n2 - 1);
-    (0..=n)
+    let pmf = (0..=n)
         .map(|r| {
             let k = (r / 2) as isize;
             if r < 2 {
@@ -177,7 +180,8 @@ pub fn runs_distribution(n1: usize, n2: usize) -> Vec<f64> {
                     + term(ln_choose(a, k - 1), ln_choose(b, k))
             }
         })
-        .collect()
+        .collect();
+    Some(pmf)
 }
 
 fn std_normal() -> Normal {
@@ -814,6 +818,23 @@ pub struct FisherPry {
     pub verdict: Verdict,
 }
 
+/// The error model that weights a Fisher–Pry view of running totals, for a
+/// fit with error model `errors` (of its per-period increments when
+/// `increments`). Without increments it is the fit's own. Running totals
+/// of count increments are counts too (a sum of independent counts of
+/// that kind has variance proportional to its mean), so they keep the
+/// count weights. Running totals of additive, relative or log increments
+/// carry errors that pile up and are correlated from one total to the
+/// next, which no per-point weight describes; they get the additive
+/// weights.
+pub fn fisher_pry_errors(errors: ErrorModel, increments: bool) -> ErrorModel {
+    match (increments, errors) {
+        (false, e) => e,
+        (true, ErrorModel::Count) => ErrorModel::Count,
+        (true, _) => ErrorModel::Additive,
+    }
+}
+
 /// Fewer transformable points than this: no curvature test.
 pub const FISHER_PRY_MIN_POINTS: usize = 5;
 
@@ -824,8 +845,9 @@ pub const FISHER_PRY_MIN_POINTS: usize = 5;
 /// Student's t on n − 3 degrees of freedom. The transform stretches noise
 /// near 0 and K: the delta method gives `sd(z) ≈ sd(y) K / (y (K − y))`,
 /// so each point is weighted by `w = 1 / sd(z)²` up to a constant, with
-/// `sd(y)` as the fit's error model has it (without the weights the noisy
-/// tails alone make a straight logistic look curved):
+/// `sd(y)` as `errors` has it (for a fit, [`fisher_pry_errors`]; without
+/// the weights the noisy tails alone make a straight logistic look
+/// curved):
 ///
 /// ```text
 /// additive        sd(y) ∝ 1     w = (y (K − y) / K)²

@@ -117,6 +117,22 @@ fn fisher_pry_of_exact_logistic_data_is_straight() {
     assert_eq!(fp.points.len() + fp.dropped, 25);
 }
 
+/// Running totals of per-period counts are counts themselves (a sum of
+/// independent Poisson counts is Poisson: variance equal to the mean, a
+/// textbook fact), so they keep the count weights; other increment models
+/// fall back to the additive weights.
+#[test]
+fn fisher_pry_weights_for_running_totals() {
+    use ErrorModel::*;
+    for e in [Additive, Relative, Log, Count] {
+        assert_eq!(fisher_pry_errors(e, false), e);
+    }
+    assert_eq!(fisher_pry_errors(Count, true), Count);
+    for e in [Additive, Relative, Log] {
+        assert_eq!(fisher_pry_errors(e, true), Additive);
+    }
+}
+
 fn noisy(model: Model, p: &[f64], sd: f64, seed: u64) -> (Vec<f64>, Vec<f64>) {
     use rand::SeedableRng;
     use rand_distr::{Distribution, Normal};

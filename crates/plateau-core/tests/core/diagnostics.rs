@@ -290,7 +290,7 @@ fn runs_distribution_matches_enumeration() {
             counts[runs] += 1;
             total += 1;
         }
-        let pmf = diagnostics::runs_distribution(n1, n2);
+        let pmf = diagnostics::runs_distribution(n1, n2).unwrap();
         assert_eq!(pmf.len(), n + 1);
         for (r, (&p, &c)) in pmf.iter().zip(&counts).enumerate() {
             let want = c as f64 / total as f64;
@@ -308,7 +308,7 @@ fn runs_distribution_matches_enumeration() {
 #[test]
 fn runs_distribution_has_the_known_mean_for_long_series() {
     for (n1, n2) in [(40, 25), (400, 600), (3000, 2500)] {
-        let pmf = diagnostics::runs_distribution(n1, n2);
+        let pmf = diagnostics::runs_distribution(n1, n2).unwrap();
         let sum: f64 = pmf.iter().sum();
         let mean: f64 = pmf.iter().enumerate().map(|(r, p)| r as f64 * p).sum();
         let (a, b) = (n1 as f64, n2 as f64);
@@ -328,7 +328,8 @@ fn runs_distribution_has_the_known_mean_for_long_series() {
 /// sequence built with 6 runs gets twice that as its exact p.
 #[test]
 fn runs_test_exact_p_matches_the_published_table() {
-    let pmf = diagnostics::runs_distribution(10, 10);
+    let pmf = diagnostics::runs_distribution(10, 10).unwrap();
+    assert!(diagnostics::runs_distribution(0, 10).is_none());
     let low: f64 = pmf[..=6].iter().sum();
     let high: f64 = pmf[16..].iter().sum();
     assert!((low - 3422.0 / 184_756.0).abs() < 1e-13, "{low}");

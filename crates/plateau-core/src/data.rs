@@ -534,7 +534,6 @@ fn detect_delimiter(text: &str) -> u8 {
         .unwrap_or(b',')
 }
 
-/// All non-blank records, each with the line of the original text it starts on.
 /// The records of `text` (a leading byte-order mark dropped) and the
 /// delimiter: `delimiter` when given (and usable), else the detected one.
 /// `if_empty` is the message for a text with nothing but white space.
@@ -554,6 +553,7 @@ fn read_text(
     Ok((read_records(text, delimiter)?, delimiter))
 }
 
+/// All non-blank records, each with the line of the original text it starts on.
 fn read_records(text: &str, delimiter: u8) -> Result<Vec<Record>, DataError> {
     let lines = LineIndex::new(text);
     let mut reader = csv::ReaderBuilder::new()

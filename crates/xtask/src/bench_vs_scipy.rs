@@ -1,13 +1,18 @@
 //! `cargo xtask bench-vs-scipy`: time Plateau's self-started fit against
 //! `scipy.optimize.curve_fit(method="lm")` on the same deterministic data.
 //!
-//! 1. `cargo bench -p plateau-core --bench fit -- --noplot` (criterion group
-//!    `self_start_fit`), then the median of each case is read from
-//!    `target/criterion/self_start_fit/<id>/new/estimates.json`.
-//! 2. `tests/reference/bench_scipy.py` with `.venv/bin/python` (the venv is
+//! 1. `tests/reference/bench_scipy.py` with `.venv/bin/python` (the venv is
 //!    created from `tests/reference/requirements.txt` if missing) prints one
 //!    JSON line per case with `median_us`.
-//! 3. A table of both medians and the ratio scipy / plateau.
+//! 2. `cargo bench -p plateau-core --bench fit -- --noplot self_start_fit`
+//!    (that criterion group only), then the median of each case is read from
+//!    `target/criterion/self_start_fit/<id>/new/estimates.json`.
+//! 3. `bench_scipy.py` again: scipy is timed before and after Plateau, so
+//!    that a machine whose speed drifts during the run (virtual machines
+//!    do, by tens of percent within minutes) shows it as two different
+//!    scipy figures instead of a silently shifted ratio.
+//! 4. A table of the medians and the ratio of scipy's mean of the two to
+//!    Plateau's.
 
 use anyhow::{bail, Context, Result};
 use serde_json::Value;
@@ -22,6 +27,10 @@ pub fn run(args: &[String]) -> Result<()> {
     crate::no_args("bench-vs-scipy", args)?;
     let root = crate::workspace_root();
 
+    let python = ensure_venv(&root)?;
+    let script = root.join("tests/reference/bench_scipy.py");
+    let (before, versions) = scipy_medians(&root, &python, &script)?;
+
     let cargo = std::env::var("CARGO").unwrap_or_else(|_| "cargo".to_string());
     let status = Command::new(cargo)
         .current_dir(&root)
@@ -33,6 +42,7 @@ pub fn run(args: &[String]) -> Result<()> {
             "fit",
             "--",
             "--noplot",
+            "self_start_fit",
         ])
         .status()
         .context("running cargo bench")?;
@@ -40,11 +50,45 @@ pub fn run(args: &[String]) -> Result<()> {
         bail!("cargo bench failed ({status})");
     }
 
-    let python = ensure_venv(&root)?;
-    let script = root.join("tests/reference/bench_scipy.py");
-    let out = Command::new(&python)
-        .current_dir(&root)
-        .arg(&script)
+    let (after, _) = scipy_medians(&root, &python, &script)?;
+
+    println!();
+    println!("self-started fit, median time per fit ({versions})");
+    println!(
+        "{:<16} {:>12} {:>14} {:>14} {:>15}",
+        "case", "plateau µs", "scipy µs before", "scipy µs after", "scipy/plateau"
+    );
+    for case in CASES {
+        let plateau_us = criterion_median_ns(&root, case)? / 1000.0;
+        let find = |runs: &[(String, f64)]| {
+            runs.iter()
+                .find(|(c, _)| c == case)
+                .map(|r| r.1)
+                .with_context(|| format!("bench_scipy.py printed no result for {case}"))
+        };
+        let (b, a) = (find(&before)?, find(&after)?);
+        println!(
+            "{:<16} {:>12.2} {:>15.2} {:>14.2} {:>15.1}",
+            case,
+            plateau_us,
+            b,
+            a,
+            0.5 * (b + a) / plateau_us
+        );
+    }
+    Ok(())
+}
+
+/// One run of `bench_scipy.py`: `(case, median µs)` per case, and the
+/// versions line.
+fn scipy_medians(
+    root: &Path,
+    python: &Path,
+    script: &Path,
+) -> Result<(Vec<(String, f64)>, String)> {
+    let out = Command::new(python)
+        .current_dir(root)
+        .arg(script)
         .output()
         .with_context(|| format!("running {} {}", python.display(), script.display()))?;
     if !out.status.success() {
@@ -70,27 +114,7 @@ pub fn run(args: &[String]) -> Result<()> {
             );
         }
     }
-
-    println!();
-    println!("self-started fit, median time per fit ({versions})");
-    println!(
-        "{:<16} {:>14} {:>14} {:>16}",
-        "case", "plateau µs", "scipy µs", "scipy/plateau"
-    );
-    for case in CASES {
-        let plateau_us = criterion_median_ns(&root, case)? / 1000.0;
-        let Some(&(_, scipy_us)) = scipy.iter().find(|(c, _)| c == case) else {
-            bail!("bench_scipy.py printed no result for {case}");
-        };
-        println!(
-            "{:<16} {:>14.2} {:>14.2} {:>16.1}",
-            case,
-            plateau_us,
-            scipy_us,
-            scipy_us / plateau_us
-        );
-    }
-    Ok(())
+    Ok((scipy, versions))
 }
 
 /// Median point estimate (ns) of one criterion benchmark.

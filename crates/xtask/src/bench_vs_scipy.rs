@@ -55,7 +55,7 @@ pub fn run(args: &[String]) -> Result<()> {
     println!();
     println!("self-started fit, median time per fit ({versions})");
     println!(
-        "{:<16} {:>12} {:>14} {:>14} {:>15}",
+        "{:<16} {:>12} {:>15} {:>14} {:>15}",
         "case", "plateau µs", "scipy µs before", "scipy µs after", "scipy/plateau"
     );
     for case in CASES {

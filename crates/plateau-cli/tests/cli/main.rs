@@ -314,16 +314,14 @@ fn compare_ranks_by_aicc_with_weights_summing_to_one() {
 /// level and is fitted as it is.
 #[test]
 fn compare_with_a_known_level_fixes_it_in_every_model() {
-    let v = json(&plateau(
-        &[
-            "compare",
-            &demo("aldermoor_subscribers.csv"),
-            "--fix",
-            "K=12000",
-            "--json",
-        ],
-        None,
-    ));
+    let known = |command: &str| {
+        let file = demo("aldermoor_subscribers.csv");
+        json(&plateau(
+            &[command, &file, "--fix", "K=12000", "--json"],
+            None,
+        ))
+    };
+    let v = known("compare");
     let models = v["models"].as_array().unwrap();
     assert_eq!(models.len(), plateau_core::Model::ALL.len());
     for m in models {
@@ -347,16 +345,7 @@ fn compare_with_a_known_level_fixes_it_in_every_model() {
     assert!(find("exponential")["aicc"].is_number());
 
     // The backtest holds the level the same way.
-    let v = json(&plateau(
-        &[
-            "backtest",
-            &demo("aldermoor_subscribers.csv"),
-            "--fix",
-            "K=12000",
-            "--json",
-        ],
-        None,
-    ));
+    let v = known("backtest");
     let models = v["models"].as_array().unwrap();
     let find = |name: &str| models.iter().find(|m| m["model"] == name).unwrap();
     assert_eq!(find("bass")["failed"], 0);

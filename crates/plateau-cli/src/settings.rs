@@ -312,14 +312,11 @@ fn assignments(flag: &str, items: &[String]) -> Result<Vec<(String, f64)>> {
 /// `compare` and `backtest` hold a fixed K or m as every model's known saturation level
 /// (see `plateau_core::compare`): two different values for it are refused.
 fn one_level(fixed: Vec<(String, f64)>) -> Result<Vec<(String, f64)>> {
-    let mut levels = fixed.iter().filter(|(n, _)| n == "K" || n == "m");
-    if let Some((first, v)) = levels.next() {
-        if let Some((other, w)) = levels.find(|(_, w)| w != v) {
-            bail!(
-                "--fix {first}={v} and --fix {other}={w}: K and m both stand for the known \
-                 saturation level when several models are fitted; give it once"
-            );
-        }
+    if let Some(((first, v), (other, w))) = plateau_core::compare::level_conflict(&fixed) {
+        bail!(
+            "--fix {first}={v} and --fix {other}={w}: K and m both stand for the known \
+             saturation level when several models are fitted; give it once"
+        );
     }
     Ok(fixed)
 }

@@ -87,19 +87,12 @@ pub fn compare(t: &[f64], y: &[f64], models: &[Model], opts: &FitOptions) -> Vec
 /// other: every model with a level gets an error. Other fixed and starting
 /// values apply to the models that have a parameter of that name.
 pub fn options_for(model: Model, opts: &FitOptions) -> Result<FitOptions, FitError> {
-    let is_level = |name: &str| matches!(name.trim(), "K" | "m");
-    let levels: Vec<(&str, f64)> = opts
-        .fixed
-        .iter()
-        .filter(|(name, _)| is_level(name))
-        .map(|(name, v)| (name.trim(), *v))
-        .collect();
     let mut o = opts.clone();
     o.fixed
         .retain(|(name, _)| !is_level(name) && model.param_index(name.trim()).is_some());
     o.start
         .retain(|(name, _)| model.param_index(name.trim()).is_some());
-    let Some(&(first, level)) = levels.first() else {
+    let Some(level) = known_levels(&opts.fixed).next() else {
         return Ok(o);
     };
     if model == Model::Exponential {
@@ -109,16 +102,13 @@ pub fn options_for(model: Model, opts: &FitOptions) -> Result<FitOptions, FitErr
         kind: FitErrorKind::NotApplicable,
         message,
     };
-    if let Some((other, v)) = levels.iter().find(|l| l.1 != level) {
+    if let Some((a, b)) = level_conflict(&opts.fixed) {
         return Err(not_applicable(format!(
-            "the known saturation level is given twice, as {first} = {level} and {other} = {v}: \
-             give it once"
+            "the known saturation level is given twice, as {} = {} and {} = {}: give it once",
+            a.0, a.1, b.0, b.1
         )));
     }
-    let Some(name) = ["K", "m"]
-        .into_iter()
-        .find(|n| model.param_index(n).is_some())
-    else {
+    let Some(name) = model.level_param() else {
         return Err(not_applicable(format!(
             "a known saturation level cannot be applied: the {} model's level is {}, \
              which no one parameter holds",
@@ -126,8 +116,31 @@ pub fn options_for(model: Model, opts: &FitOptions) -> Result<FitOptions, FitErr
             model.saturation_name()
         )));
     };
-    o.fixed.push((name.to_string(), level));
+    o.fixed.push((name.to_string(), level.1));
     Ok(o)
+}
+
+/// Whether a fixed parameter's name stands for the known saturation level.
+fn is_level(name: &str) -> bool {
+    matches!(name.trim(), "K" | "m")
+}
+
+/// The fixed values of the known saturation level (`K` or `m`), as
+/// `(name, value)` in the order given.
+fn known_levels(fixed: &[(String, f64)]) -> impl Iterator<Item = (&str, f64)> {
+    fixed
+        .iter()
+        .filter(|(name, _)| is_level(name))
+        .map(|(name, v)| (name.trim(), *v))
+}
+
+/// The first known level and the first later one with a different value,
+/// when the fixed values give the level twice over (see [`options_for`]).
+#[allow(clippy::type_complexity)]
+pub fn level_conflict(fixed: &[(String, f64)]) -> Option<((&str, f64), (&str, f64))> {
+    let mut levels = known_levels(fixed);
+    let first = levels.next()?;
+    levels.find(|l| l.1 != first.1).map(|other| (first, other))
 }
 
 /// Nested pairs `(nested, general)` tested by likelihood ratio: the

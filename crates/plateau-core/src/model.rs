@@ -132,6 +132,15 @@ impl Model {
         }
     }
 
+    /// The one parameter that holds the saturation level, which a known
+    /// level fixes: `K`, or Bass's `m`; `None` for the bi-logistic (its
+    /// level `K1 + K2` is no one parameter) and the exponential (none).
+    pub fn level_param(self) -> Option<&'static str> {
+        ["K", "m"]
+            .into_iter()
+            .find(|n| self.param_index(n).is_some())
+    }
+
     pub fn param_names(self) -> &'static [&'static str] {
         match self {
             Model::Logistic | Model::Gompertz => &["K", "r", "t0"],

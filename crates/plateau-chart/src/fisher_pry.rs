@@ -8,7 +8,7 @@
 use crate::common::{self, Scale};
 use crate::palette::{GRAPHITE, INK, ORANGE};
 use crate::{ChartError, ChartInput};
-use plateau_core::diagnostics::{fisher_pry, fisher_pry_errors};
+use plateau_core::diagnostics::fisher_pry_of;
 use plotters::coord::Shift;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
@@ -42,13 +42,9 @@ pub fn draw_fisher_pry<DB: DrawingBackend>(
         common::format_value(k),
         if given { "entered" } else { "fitted" }
     );
-    let Some(fp) = fisher_pry(
-        input.times,
-        input.values,
-        k,
-        fisher_pry_errors(input.fit.error_model, input.fit.increments),
-    )
-    .filter(|f| f.points.len() >= 2) else {
+    let Some(fp) =
+        fisher_pry_of(input.fit, input.times, input.values, k).filter(|f| f.points.len() >= 2)
+    else {
         return common::draw_message(
             area,
             &title,

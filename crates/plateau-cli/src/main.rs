@@ -140,14 +140,7 @@ fn run(cli: Cli) -> Result<(), Failure> {
             let k = settings
                 .fisher_pry_k
                 .or_else(|| result.param("K").map(|p| p.estimate));
-            let fisher_pry = k.and_then(|k| {
-                diagnostics::fisher_pry(
-                    t,
-                    y,
-                    k,
-                    diagnostics::fisher_pry_errors(result.error_model, result.increments),
-                )
-            });
+            let fisher_pry = k.and_then(|k| diagnostics::fisher_pry_of(&result, t, y, k));
             let kind = series.time_kind;
             let format_time = |v: f64| kind.format(v);
             let input = plateau_chart::ChartInput {

@@ -835,6 +835,12 @@ pub fn fisher_pry_errors(errors: ErrorModel, increments: bool) -> ErrorModel {
     }
 }
 
+/// [`fisher_pry`] of the data `fit` was fitted to, weighted for its error
+/// model ([`fisher_pry_errors`]).
+pub fn fisher_pry_of(fit: &Fit, t: &[f64], y: &[f64], k: f64) -> Option<FisherPry> {
+    fisher_pry(t, y, k, fisher_pry_errors(fit.error_model, fit.increments))
+}
+
 /// Fewer transformable points than this: no curvature test.
 pub const FISHER_PRY_MIN_POINTS: usize = 5;
 

@@ -463,10 +463,7 @@ fn fit_options(settings: &Settings, model: Model) -> Result<FitOptions, UpdateEr
         // The known saturation level: K, or the Bass model's market
         // potential m. The bi-logistic's is K1 + K2, which no one
         // parameter holds.
-        let Some(name) = ["K", "m"]
-            .into_iter()
-            .find(|n| model.param_index(n).is_some())
-        else {
+        let Some(name) = model.level_param() else {
             return Err(setting_error(format!(
                 "the {} model has no single saturation level to fix (its level is {}); \
                  clear the fixed K or choose another model",
@@ -694,14 +691,7 @@ fn analyse_series(
     let fisher_pry = settings
         .fisher_pry_k
         .or_else(|| fit.param("K").map(|p| p.estimate))
-        .and_then(|k| {
-            diagnostics::fisher_pry(
-                &series.times,
-                &values,
-                k,
-                diagnostics::fisher_pry_errors(fit.error_model, fit.increments),
-            )
-        })
+        .and_then(|k| diagnostics::fisher_pry_of(&fit, &series.times, &values, k))
         .map(|f| FisherPryRow {
             k: f.k,
             entered: settings.fisher_pry_k.is_some(),
@@ -1006,14 +996,7 @@ impl Analysis {
             .settings
             .fisher_pry_k
             .or_else(|| self.fit.param("K").map(|p| p.estimate))
-            .and_then(|k| {
-                diagnostics::fisher_pry(
-                    t,
-                    y,
-                    k,
-                    diagnostics::fisher_pry_errors(self.fit.error_model, self.fit.increments),
-                )
-            });
+            .and_then(|k| diagnostics::fisher_pry_of(&self.fit, t, y, k));
         let report = plateau_core::report::DiagnoseReport::new(
             &self.fit,
             &self.series.warnings,

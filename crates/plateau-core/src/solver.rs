@@ -590,12 +590,9 @@ impl Solver {
                         };
                         if rho > 0.0 {
                             accepted = true;
-                            last_rel_step = if lambda == 0.0 {
-                                scaled_step
-                            } else {
-                                lin.step(0.0, &d, &mut gn_step);
-                                scaled_norm(&gn_step, &d)
-                            } / scaled_x.max(f64::MIN_POSITIVE);
+                            lin.step(0.0, &d, &mut gn_step);
+                            last_rel_step =
+                                scaled_norm(&gn_step, &d) / scaled_x.max(f64::MIN_POSITIVE);
                             let old_rss = rss;
                             std::mem::swap(&mut x, &mut trial);
                             std::mem::swap(&mut res, &mut trial_res);

@@ -6,7 +6,7 @@
 use serde_json::Value;
 use std::io::Write;
 use std::path::PathBuf;
-use std::process::{Command, Output, Stdio};
+use std::process::{Child, Command, Output, Stdio};
 
 fn root() -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("../..")
@@ -16,14 +16,19 @@ fn demo(name: &str) -> String {
     root().join("demo-data").join(name).display().to_string()
 }
 
-fn plateau(args: &[&str], stdin: Option<&str>) -> Output {
-    let mut child = Command::new(env!("CARGO_BIN_EXE_plateau"))
+/// Starts `plateau` with `args`, every standard stream piped.
+fn spawn(args: &[&str]) -> Child {
+    Command::new(env!("CARGO_BIN_EXE_plateau"))
         .args(args)
         .stdin(Stdio::piped())
         .stdout(Stdio::piped())
         .stderr(Stdio::piped())
         .spawn()
-        .expect("start plateau");
+        .expect("start plateau")
+}
+
+fn plateau(args: &[&str], stdin: Option<&str>) -> Output {
+    let mut child = spawn(args);
     if let Some(text) = stdin {
         child
             .stdin
@@ -940,13 +945,7 @@ fn batch_intervals_can_be_asymptotic() {
 /// The output is far larger than a pipe's buffer, so the program must meet
 /// the closed pipe.
 fn with_stdout_closed(args: &[&str], stdin: String) -> Output {
-    let mut child = Command::new(env!("CARGO_BIN_EXE_plateau"))
-        .args(args)
-        .stdin(Stdio::piped())
-        .stdout(Stdio::piped())
-        .stderr(Stdio::piped())
-        .spawn()
-        .expect("start plateau");
+    let mut child = spawn(args);
     drop(child.stdout.take());
     let mut input = child.stdin.take().unwrap();
     // The program may stop reading once its output is gone; a write error

@@ -232,7 +232,10 @@ e.g. \"north,2024-01,120\". The rows of each series must be together (the file s
 grouped by series); a series that reappears later is reported as failed, naming the line. \
 The file is streamed, never read whole. Results come in input order, one line per series; \
 a series that cannot be read or fitted gets a line with its error and the rest go on \
-(exit status 1 when any failed)."
+(exit status 1 when any failed). A line that makes the rest unreadable (a row without a \
+series name, a quote not closed on its line, text that is not UTF-8) stops the reading: \
+every series before it is still fitted and printed, then the line and the reason are \
+given (exit status 2)."
 )]
 pub struct BatchArgs {
     /// Data file, or - for standard input.

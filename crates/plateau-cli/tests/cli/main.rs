@@ -864,15 +864,83 @@ fn batch_failed_series_are_reported_and_the_rest_go_on() {
     assert!(String::from_utf8_lossy(&out.stderr).contains("2 of 4 series failed"));
 }
 
+/// `count` logistic series of 12 points each (K = 100, r = 0.8, t0 = 6,
+/// a small alternating wobble so that no fit is exact), long format with
+/// a header: the series `s{i}` occupies lines `2 + 12 i` to `13 + 12 i`.
+fn many_series(count: usize) -> String {
+    let mut text = String::from("series,t,y\n");
+    for i in 0..count {
+        for t in 0..12 {
+            let wobble = if t % 2 == 0 { -0.03 } else { 0.03 } * (1 + i % 5) as f64;
+            let y = 100.0 / (1.0 + (-0.8 * (t as f64 - 6.0)).exp()) + wobble;
+            text.push_str(&format!("s{i},{t},{y:.4}\n"));
+        }
+    }
+    text
+}
+
+/// A fatal line after more series than one chunk (2,048): every series
+/// before it is fitted and printed in input order, then exit 2 naming the
+/// line, why, and how many series the results cover.
+fn batch_stops_after_reporting_everything_before(bad_row: &str, why: &str) {
+    let mut text = many_series(3000);
+    text.push_str(bad_row);
+    text.push_str("s9,1,2\n");
+    let out = plateau(&["batch", "-", "--json"], Some(&text));
+    assert_eq!(out.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&out.stderr);
+    // 1 header + 3000 × 12 rows: the bad row is line 36002.
+    assert!(err.contains("line 36002:") && err.contains(why), "{err}");
+    assert!(err.contains("reading stopped at line 36002"), "{err}");
+    assert!(
+        err.contains("The 3000 series read before it are reported"),
+        "{err}"
+    );
+    assert!(err.contains("\"s2999\""), "{err}");
+    let lines = json_lines(&out);
+    let names: Vec<&str> = lines
+        .iter()
+        .map(|v| v["series"].as_str().unwrap())
+        .collect();
+    let want: Vec<String> = (0..3000).map(|i| format!("s{i}")).collect();
+    assert_eq!(names, want);
+    for v in &lines {
+        assert!(v["error"].is_null(), "{v}");
+        let k = v["K"]["estimate"].as_f64().unwrap();
+        assert!((k - 100.0).abs() < 1.0, "{k}");
+    }
+}
+
 #[test]
-fn batch_row_without_series_name_stops_with_exit_2() {
-    let out = plateau(&["batch", "-"], Some("s,t,y\na,1,1\n,2,2\n"));
+fn batch_row_without_series_name_reports_every_series_before_it() {
+    batch_stops_after_reporting_everything_before(",3,4\n", "no series name");
+}
+
+#[test]
+fn batch_unclosed_quote_reports_every_series_before_it() {
+    batch_stops_after_reporting_everything_before("\"s3000,3,4\n", "quote is not closed");
+}
+
+/// A fatal line among the first lines (those read to detect the
+/// delimiter) follows the same rule.
+#[test]
+fn batch_fatal_line_at_the_start_still_reports_what_came_before() {
+    let text = "s,t,y\na,1,10\na,2,20\na,3,45\na,4,70\na,5,85\na,6,95\n,7,98\n";
+    let out = plateau(&["batch", "-", "--json"], Some(text));
     assert_eq!(out.status.code(), Some(2));
     let err = String::from_utf8_lossy(&out.stderr);
     assert!(
-        err.contains("line 3") && err.contains("series name"),
+        err.contains("line 8") && err.contains("series name"),
         "{err}"
     );
+    assert!(
+        err.contains("The 1 series read before it is reported"),
+        "{err}"
+    );
+    let lines = json_lines(&out);
+    assert_eq!(lines.len(), 1);
+    assert_eq!(lines[0]["series"], "a");
+    assert_eq!(lines[0]["n"], 6);
 }
 
 #[test]

@@ -1060,3 +1060,134 @@ fn a_closed_output_pipe_ends_quietly() {
         );
     }
 }
+
+/// Every subcommand that takes `--fix` (and `--start`), with the arguments
+/// it needs besides them.
+fn commands_with_fix() -> Vec<(&'static str, Vec<String>)> {
+    let one = demo("aldermoor_subscribers.csv");
+    vec![
+        ("fit", vec![one.clone()]),
+        ("compare", vec![one.clone()]),
+        ("diagnose", vec![one.clone()]),
+        ("forecast", vec![one.clone(), "--until".into(), "40".into()]),
+        ("drift", vec![one.clone()]),
+        ("backtest", vec![one]),
+        ("batch", vec![demo("regional_adoption_long.csv")]),
+    ]
+}
+
+fn run_with(cmd: &str, base: &[String], extra: &[&str]) -> Output {
+    let mut args: Vec<&str> = vec![cmd];
+    args.extend(base.iter().map(String::as_str));
+    args.extend(extra);
+    plateau(&args, None)
+}
+
+/// `--fix k=150` (no such parameter: K is meant) is refused by every
+/// subcommand before any fit, exit 2, naming the valid parameters; before,
+/// `compare` and `backtest` ignored it and exited 0, `drift` said no prefix
+/// could be fitted.
+#[test]
+fn every_subcommand_refuses_an_unknown_parameter_listing_the_valid_ones() {
+    for (cmd, base) in commands_with_fix() {
+        let out = run_with(cmd, &base, &["--fix", "k=150"]);
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert_eq!(out.status.code(), Some(2), "{cmd}: {err}");
+        assert!(out.stdout.is_empty(), "{cmd}");
+        assert!(
+            err.contains("--fix k=150") && err.contains("did you mean K?"),
+            "{cmd}: {err}"
+        );
+        if matches!(cmd, "compare" | "backtest") {
+            // Several models: the names each of them holds.
+            assert!(err.contains("none of the models"), "{cmd}: {err}");
+            assert!(err.contains("richards K, r, t0, nu"), "{cmd}: {err}");
+            assert!(err.contains("bass m, p, q, tau"), "{cmd}: {err}");
+        } else {
+            assert!(
+                err.contains("the logistic model has no parameter \"k\""),
+                "{cmd}: {err}"
+            );
+            assert!(err.contains("its parameters are K, r, t0"), "{cmd}: {err}");
+        }
+        let out = run_with(cmd, &base, &["--fix", "K=100", "--fix", "K=200"]);
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert_eq!(out.status.code(), Some(2), "{cmd}: {err}");
+        assert!(err.contains("K is given twice"), "{cmd}: {err}");
+    }
+    // Only the models listed count: nu is the Richards model's.
+    let one = demo("aldermoor_subscribers.csv");
+    let out = plateau(
+        &[
+            "compare",
+            &one,
+            "--models",
+            "logistic,gompertz",
+            "--fix",
+            "nu=2",
+        ],
+        None,
+    );
+    assert_eq!(out.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        err.contains("none of the models compared has a parameter \"nu\""),
+        "{err}"
+    );
+    assert!(
+        err.contains("logistic K, r, t0; gompertz K, r, t0."),
+        "{err}"
+    );
+    let out = plateau(
+        &["fit", &one, "--model", "richards", "--start", "Nu=2"],
+        None,
+    );
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("did you mean nu?"));
+}
+
+/// A held parameter has no start: `--fix K=100 --start K=200` used to drop
+/// the start silently. Refused by every subcommand that takes both.
+#[test]
+fn a_parameter_both_held_and_started_is_refused() {
+    for (cmd, base) in commands_with_fix() {
+        if matches!(cmd, "compare" | "backtest" | "drift") {
+            continue; // these take no --start
+        }
+        let out = run_with(cmd, &base, &["--fix", "K=100", "--start", "K=200"]);
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert_eq!(out.status.code(), Some(2), "{cmd}: {err}");
+        assert!(
+            err.contains("--fix K=100 and --start K=200 contradict"),
+            "{cmd}: {err}"
+        );
+        let out = run_with(cmd, &base, &["--start", "k=200"]);
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert_eq!(out.status.code(), Some(2), "{cmd}: {err}");
+        assert!(
+            err.contains("--start k=200") && err.contains("did you mean K?"),
+            "{cmd}: {err}"
+        );
+    }
+}
+
+/// `batch --fix K=…` holds K in every series (new with the check above):
+/// each series' K is reported as the value given.
+#[test]
+fn batch_holds_a_fixed_parameter_in_every_series() {
+    let lines = json_lines(&plateau(
+        &[
+            "batch",
+            &demo("regional_adoption_long.csv"),
+            "--json",
+            "--fix",
+            "K=70000",
+        ],
+        None,
+    ));
+    assert!(!lines.is_empty());
+    for v in &lines {
+        assert_eq!(v["fit"]["params"]["K"]["estimate"], 70000.0, "{v}");
+        assert_eq!(v["fit"]["params"]["K"]["fixed"], true, "{v}");
+    }
+}

@@ -352,11 +352,7 @@ fn is_level(name: &str) -> bool {
 /// models), each parameter is given at most once per flag, and a parameter
 /// is either held or started, not both. A value outside the parameter's
 /// range (K ≤ 0) is refused here too, naming the flag.
-fn held(
-    fix: &[String],
-    start: &[String],
-    scope: Scope<'_>,
-) -> Result<(Assignments, Assignments)> {
+fn held(fix: &[String], start: &[String], scope: Scope<'_>) -> Result<(Assignments, Assignments)> {
     let fixed = assignments("--fix", fix)?;
     let started = assignments("--start", start)?;
     for (flag, list) in [("--fix", &fixed), ("--start", &started)] {

@@ -1191,3 +1191,60 @@ fn batch_holds_a_fixed_parameter_in_every_series() {
         assert_eq!(v["fit"]["params"]["K"]["fixed"], true, "{v}");
     }
 }
+
+/// The drift table shows exactly the intervals its `--json` shows: on the
+/// Aldermoor demo the early prefixes end before the inflection and K is
+/// not identified there (the JSON withholds its interval; the table used
+/// to print the asymptotic one, with a negative lower end). Where the JSON
+/// has an interval, the table prints the same numbers (to its 6
+/// significant digits).
+#[test]
+fn drift_table_and_json_show_the_same_intervals() {
+    let file = demo("aldermoor_subscribers.csv");
+    let report = json(&plateau(&["drift", &file, "--json"], None));
+    let out = plateau(&["drift", &file], None);
+    assert!(out.status.success());
+    let table = String::from_utf8_lossy(&out.stdout);
+    let rows = report["rows"].as_array().unwrap();
+    let lines: Vec<&str> = table.lines().skip(2).take(rows.len()).collect();
+    let close = |text: &str, want: f64| {
+        let got: f64 = text.trim().parse().unwrap_or_else(|_| panic!("{text:?}"));
+        assert!(
+            (got - want).abs() <= 1e-5 * want.abs(),
+            "table {got}, json {want}"
+        );
+    };
+    let mut withheld = 0;
+    let mut shown = 0;
+    for (row, line) in rows.iter().zip(&lines) {
+        let mut fields = line.split_whitespace();
+        assert_eq!(fields.next(), row["cutoff_text"].as_str(), "{line}");
+        let params = row["params"].as_object().unwrap();
+        // "EST (LO … HI)" or "EST (-)" per parameter, in order.
+        let cells: Vec<&str> = line.split(')').collect();
+        for (i, name) in ["K", "r", "t0"].iter().enumerate() {
+            let p = &params[*name];
+            let cell = cells[i];
+            let (head, ci) = cell.rsplit_once('(').unwrap();
+            close(
+                head.split_whitespace().last().unwrap(),
+                p["estimate"].as_f64().unwrap(),
+            );
+            match p["ci95"].as_array() {
+                None => {
+                    assert_eq!(ci, "-", "{name} in {line}");
+                    withheld += usize::from(*name == "K");
+                }
+                Some(b) => {
+                    let (lo, hi) = ci.split_once(" … ").unwrap();
+                    close(lo, b[0].as_f64().unwrap());
+                    close(hi, b[1].as_f64().unwrap());
+                    shown += usize::from(*name == "K");
+                }
+            }
+        }
+    }
+    // Both cases occur: K withheld early, shown once the data determine it.
+    assert!(withheld >= 3 && shown >= 10, "{withheld} {shown}");
+    assert!(table.contains("(-) no interval"), "{table}");
+}

@@ -53,7 +53,9 @@ function readJson(storage, key) {
   }
 }
 
-const revOf = (stored) => (stored ? String(stored.rev ?? "") : null);
+function revOf(stored) {
+  return stored ? String(stored.rev ?? "") : null;
+}
 
 function stateOf(saved) {
   return { text: saved.text, settings: { ...DEFAULTS, ...saved.settings }, demo: saved.demo === "multi" ? "multi" : !!saved.demo };
@@ -543,7 +545,7 @@ function update() {
   }
   $("settings-status").textContent = bad ?? "";
   if (bad) {
-    setStatus("Not updated: a setting is out of range (see Settings).", true);
+    setStatus("Not updated: a setting is out of range (see 2, Model).", true);
     document.body.dataset.state = "error";
     return;
   }

@@ -5,6 +5,10 @@
 // defines initSync and Workbench) and WASM_BASE64 by `cargo xtask dist`.
 
 const STORE_KEY = "plateau.workspace.v1";
+// This tab's own work while it is not saved because another tab changed
+// the stored work: per tab (sessionStorage), so a reload of this tab gets
+// it back, and no other tab sees it.
+const TAB_KEY = "plateau.tab.v1";
 const $ = (id) => document.getElementById(id);
 
 function wasmBytes() {
@@ -25,16 +29,49 @@ const DEFAULTS = {
   layout: null, series: null,
 };
 
+// Two tabs of the page share localStorage. Each write carries a revision
+// (this tab's id and a count); a tab saves only over the revision it last
+// read or wrote. When another tab has written (the `storage` event says
+// so, and the check before each save catches a missed event), this tab
+// stops saving, keeps its own work, and shows a notice with the choice:
+// load the other tab's work, or save this tab's over it.
+const TAB_ID = Math.random().toString(36).slice(2, 10);
+let saves = 0;
+// The revision of the stored work this tab last read or wrote (null: none).
+let seenRev = null;
+// null, or why this tab is not saving: "changed" or "erased" by another tab.
+let conflict = null;
+
 let state = restore();
 let view = null;
 
-function restore() {
+function readJson(storage, key) {
   try {
-    const saved = JSON.parse(localStorage.getItem(STORE_KEY) || "null");
-    if (saved && typeof saved.text === "string") {
-      return { text: saved.text, settings: { ...DEFAULTS, ...saved.settings }, demo: !!saved.demo };
-    }
-  } catch (_) { /* unreadable storage: start from the demo */ }
+    return JSON.parse(storage.getItem(key) || "null");
+  } catch (_) {
+    return null; // unreadable storage: as if empty
+  }
+}
+
+function revOf(stored) {
+  return stored ? String(stored.rev ?? "") : null;
+}
+
+function stateOf(saved) {
+  return { text: saved.text, settings: { ...DEFAULTS, ...saved.settings }, demo: saved.demo === "multi" ? "multi" : !!saved.demo };
+}
+
+function restore() {
+  const saved = readJson(localStorage, STORE_KEY);
+  seenRev = revOf(saved);
+  const own = readJson(sessionStorage, TAB_KEY);
+  if (own && typeof own.text === "string") {
+    // This tab was reloaded while not saving: its own work, and the notice.
+    seenRev = own.seenRev ?? null;
+    conflict = own.conflict || "changed";
+    return stateOf(own);
+  }
+  if (saved && typeof saved.text === "string") return stateOf(saved);
   return demoState();
 }
 
@@ -47,12 +84,60 @@ function demoMultiState() {
 }
 
 function save() {
+  if (!conflict) {
+    const current = revOf(readJson(localStorage, STORE_KEY));
+    if (current !== seenRev) conflict = current === null ? "erased" : "changed";
+  }
+  if (conflict) {
+    keepInTab();
+    return;
+  }
+  write();
+}
+
+// Writes this tab's work over whatever is stored.
+function write() {
+  const rev = `${TAB_ID}.${++saves}`;
   try {
-    localStorage.setItem(STORE_KEY, JSON.stringify(state));
+    localStorage.setItem(STORE_KEY, JSON.stringify({ ...state, rev }));
+    seenRev = rev;
     $("store-status").textContent = "saved in this browser";
   } catch (e) {
     $("store-status").textContent = "could not save: " + e.message;
   }
+}
+
+// Another tab changed or erased the stored work: keep this tab's work in
+// this tab only, and say so.
+function keepInTab() {
+  try {
+    sessionStorage.setItem(TAB_KEY, JSON.stringify({ ...state, conflict, seenRev }));
+  } catch (_) { /* the notice still says this tab is not saving */ }
+  showConflict();
+}
+
+function showConflict() {
+  $("tab-notice").hidden = !conflict;
+  $("tab-notice").dataset.kind = conflict || "";
+  $("tab-notice-changed").hidden = conflict !== "changed";
+  $("tab-notice-erased").hidden = conflict !== "erased";
+  $("tab-load").hidden = conflict !== "changed";
+  if (conflict) $("store-status").textContent = "not saved: another tab changed the stored work (see the notice at the top)";
+}
+
+function endConflict() {
+  conflict = null;
+  sessionStorage.removeItem(TAB_KEY);
+  showConflict();
+}
+
+function storageChanged(ev) {
+  // key null: another tab cleared all of this page's storage.
+  if (ev.storageArea !== localStorage || (ev.key !== STORE_KEY && ev.key !== null)) return;
+  const current = revOf(readJson(localStorage, STORE_KEY));
+  if (current === seenRev || conflict) return;
+  conflict = current === null ? "erased" : "changed";
+  keepInTab();
 }
 
 function numberOrNull(el) {
@@ -77,8 +162,9 @@ function readControls() {
   s.series = $("multi").hidden ? null : Number($("series-select").value);
   s.bootstrap = $("bootstrap").checked;
   s.resampling = $("resampling").value;
-  s.replicates = Math.max(1, Math.round(numberOrNull($("replicates")) ?? 1000));
-  s.seed = Math.max(0, Math.round(numberOrNull($("seed")) ?? 20240601));
+  // As typed; Rust checks the range and names the setting (empty: the default).
+  s.replicates = numberOrNull($("replicates"));
+  s.seed = numberOrNull($("seed"));
   if (!$("columns").hidden) {
     s.timeColumn = Number($("time-col").value);
     s.valueColumn = Number($("value-col").value);
@@ -101,8 +187,8 @@ function writeControls() {
   $("layout").value = s.layout ?? "";
   $("bootstrap").checked = !!s.bootstrap;
   $("resampling").value = s.resampling;
-  $("replicates").value = s.replicates;
-  $("seed").value = s.seed;
+  $("replicates").value = s.replicates ?? "";
+  $("seed").value = s.seed ?? "";
 }
 
 // The interval as the core reported it: a null side is open.
@@ -331,14 +417,14 @@ function startBootstrap() {
     delete document.body.dataset.bootstrap;
     return;
   }
+  let total;
   try {
-    bench.bootstrapStart();
+    total = bench.bootstrapStart();
   } catch (e) {
     status.textContent = e.message;
     document.body.dataset.bootstrap = "error";
     return;
   }
-  const total = state.settings.replicates;
   progress.max = total;
   progress.value = 0;
   progress.hidden = false;
@@ -449,6 +535,20 @@ function setStatus(text, isError) {
 
 function update() {
   const started = performance.now();
+  // A setting out of range: its sentence beside the settings, the last
+  // good results kept.
+  let bad;
+  try {
+    bad = checkSettings(state.settings);
+  } catch (e) {
+    bad = e.message;
+  }
+  $("settings-status").textContent = bad ?? "";
+  if (bad) {
+    setStatus("Not updated: a setting is out of range (see 2, Model).", true);
+    document.body.dataset.state = "error";
+    return;
+  }
   try {
     view = bench.update(state.text, state.settings);
   } catch (e) {
@@ -542,6 +642,8 @@ function wire() {
     download("plateau-summary.csv", new Blob([bench.summaryCsv()], { type: "text/csv" })));
   $("erase").addEventListener("click", () => {
     localStorage.removeItem(STORE_KEY);
+    seenRev = null;
+    endConflict();
     state = demoState();
     writeControls();
     update();
@@ -565,6 +667,20 @@ function wire() {
     download("plateau-report.json", new Blob([bench.reportJson()], { type: "application/json" })));
   $("export-checks").addEventListener("click", () =>
     download("plateau-checks.json", new Blob([bench.diagnoseJson()], { type: "application/json" })));
+  window.addEventListener("storage", storageChanged);
+  $("tab-load").addEventListener("click", () => {
+    const saved = readJson(localStorage, STORE_KEY);
+    endConflict();
+    seenRev = revOf(saved);
+    state = saved && typeof saved.text === "string" ? stateOf(saved) : demoState();
+    writeControls();
+    update();
+    $("store-status").textContent = "showing the work the other tab stored";
+  });
+  $("tab-keep").addEventListener("click", () => {
+    endConflict();
+    write();
+  });
   let resizeTimer = 0;
   window.addEventListener("resize", () => {
     clearTimeout(resizeTimer);
@@ -574,4 +690,5 @@ function wire() {
 
 writeControls();
 wire();
+showConflict();
 update();

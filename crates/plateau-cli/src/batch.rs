@@ -19,7 +19,14 @@
 //! A series that cannot be read or fitted gets a result line with its
 //! error; the rest go on. Only problems that make the rest of the file
 //! unreadable stop the run: an I/O error, text that is not UTF-8, a row
-//! without a series name.
+//! without a series name (it cannot be assigned to a series), a quote not
+//! closed on its line (CSV lets a quoted field run on over line breaks, so
+//! where the next row starts is unknown; a line-by-line reader cannot tell
+//! a field spanning lines from a stray quote). Such a line ends the reading
+//! as the end of the file would: every series read before it, the one
+//! whose rows were being read included, is still fitted and printed in
+//! input order, and then the run fails ([`Stop::Input`]) naming the line,
+//! why, and how many series the printed results cover.
 
 use plateau_core::data::{
     cumulate, sniff_delimiter, split_line, LongGrouper, NamedSeries, PendingSeries, SeriesFailure,
@@ -88,7 +95,9 @@ pub struct Totals {
 /// Why the run stopped before the end of the input.
 #[derive(Debug)]
 pub enum Stop {
-    /// Reading failed, or a line made the rest unreadable.
+    /// Reading failed, or a line made the rest unreadable: the results of
+    /// every series before it have been written; the message names the
+    /// line, why, and what the results cover.
     Input(String),
     /// Writing the results failed (e.g. a closed pipe).
     Output(std::io::Error),
@@ -148,40 +157,66 @@ pub fn fit_one(item: Result<NamedSeries, SeriesFailure>, opts: &Options) -> Outc
     }
 }
 
+/// A line that made the rest of the input unreadable: where and why.
+#[derive(Debug, Clone)]
+struct Fatal {
+    /// The line reading stopped at (the last line read, for an I/O error).
+    line: usize,
+    message: String,
+}
+
 /// Reads the input line by line and groups it into series.
+///
+/// A fatal line (see the module docs) ends the reading as the end of the
+/// input would: the series read so far, the open one included, are still
+/// handed back, and [`Reader::fatal`] says where and why it stopped.
 struct Reader<R> {
     input: R,
     line_no: usize,
     buf: Vec<u8>,
     grouper: LongGrouper,
     delimiter: u8,
-    /// Lines read for delimiter detection, not yet grouped.
-    pending: std::collections::VecDeque<(usize, String)>,
+    /// Lines read for delimiter detection, not yet grouped; a line that
+    /// could not be read ends the list.
+    pending: std::collections::VecDeque<Result<(usize, String), Fatal>>,
     done: bool,
+    fatal: Option<Fatal>,
+    /// The series whose rows were being read when reading stopped.
+    open: Option<String>,
 }
 
 impl<R: BufRead> Reader<R> {
-    fn new(mut input: R, opts: &Options) -> Result<Self, Stop> {
+    fn new(mut input: R, opts: &Options) -> Self {
         let mut line_no = 0;
         let mut buf = Vec::new();
         let mut pending = std::collections::VecDeque::new();
         let mut content = 0;
         while content < SNIFF_LINES {
-            if !next_line(&mut input, &mut buf, &mut line_no)? {
-                break;
+            match next_line(&mut input, &mut buf, &mut line_no)
+                .and_then(|more| more.then(|| line_text(&buf, line_no)).transpose())
+            {
+                Ok(None) => break,
+                Ok(Some(text)) => {
+                    content += usize::from(!text.trim().is_empty());
+                    pending.push_back(Ok((line_no, text.to_string())));
+                }
+                Err(f) => {
+                    pending.push_back(Err(f));
+                    break;
+                }
             }
-            let text = line_text(&buf, line_no)?.to_string();
-            content += usize::from(!text.trim().is_empty());
-            pending.push_back((line_no, text));
         }
         let delimiter = match opts.delimiter {
             Some(d) => d,
             None => {
-                let sample: Vec<&str> = pending.iter().map(|(_, l)| l.as_str()).collect();
+                let sample: Vec<&str> = pending
+                    .iter()
+                    .filter_map(|l| l.as_ref().ok().map(|(_, l)| l.as_str()))
+                    .collect();
                 sniff_delimiter(&sample.join("\n"))
             }
         };
-        Ok(Reader {
+        Reader {
             input,
             line_no,
             buf,
@@ -189,26 +224,45 @@ impl<R: BufRead> Reader<R> {
             delimiter,
             pending,
             done: false,
-        })
+            fatal: None,
+            open: None,
+        }
     }
 
-    /// Up to `n` finished series (fewer only at the end of the input),
-    /// not yet validated ([`PendingSeries::build`] runs on the workers).
-    fn next_chunk(&mut self, n: usize) -> Result<Vec<PendingSeries>, Stop> {
+    /// Up to `n` finished series (fewer only at the end of the input or
+    /// after a fatal line), not yet validated ([`PendingSeries::build`]
+    /// runs on the workers).
+    fn next_chunk(&mut self, n: usize) -> Vec<PendingSeries> {
         let mut out = Vec::with_capacity(n);
         while out.len() < n && !self.done {
-            let done = if let Some((line_no, text)) = self.pending.pop_front() {
-                push_line(&mut self.grouper, line_no, &text, self.delimiter)?
-            } else if next_line(&mut self.input, &mut self.buf, &mut self.line_no)? {
-                let text = line_text(&self.buf, self.line_no)?;
-                push_line(&mut self.grouper, self.line_no, text, self.delimiter)?
-            } else {
-                self.done = true;
-                self.grouper.finish()
-            };
-            out.extend(done);
+            match self.step() {
+                Ok(done) => out.extend(done),
+                Err(f) => {
+                    self.done = true;
+                    self.fatal = Some(f);
+                    if let Some(last) = self.grouper.finish() {
+                        self.open = Some(last.name().to_string());
+                        out.push(last);
+                    }
+                }
+            }
         }
-        Ok(out)
+        out
+    }
+
+    /// Reads and groups one line (or ends the input).
+    fn step(&mut self) -> Result<Option<PendingSeries>, Fatal> {
+        if let Some(line) = self.pending.pop_front() {
+            let (line_no, text) = line?;
+            return push_line(&mut self.grouper, line_no, &text, self.delimiter);
+        }
+        if next_line(&mut self.input, &mut self.buf, &mut self.line_no)? {
+            let text = line_text(&self.buf, self.line_no)?;
+            push_line(&mut self.grouper, self.line_no, text, self.delimiter)
+        } else {
+            self.done = true;
+            Ok(self.grouper.finish())
+        }
     }
 }
 
@@ -218,10 +272,14 @@ fn push_line(
     line_no: usize,
     text: &str,
     delimiter: u8,
-) -> Result<Option<PendingSeries>, Stop> {
+) -> Result<Option<PendingSeries>, Fatal> {
+    let fatal = |e: plateau_core::data::DataError| Fatal {
+        line: line_no,
+        message: e.to_string(),
+    };
     let owned;
     let fields: Vec<&str> = if text.contains('"') {
-        owned = split_line(line_no, text, delimiter).map_err(|e| Stop::Input(e.to_string()))?;
+        owned = split_line(line_no, text, delimiter).map_err(fatal)?;
         owned.iter().map(String::as_str).collect()
     } else {
         text.split(char::from(delimiter)).collect()
@@ -230,20 +288,19 @@ fn push_line(
     if fields.iter().all(|f| f.trim().is_empty()) {
         return Ok(None);
     }
-    grouper
-        .push(line_no, &fields)
-        .map_err(|e| Stop::Input(e.to_string()))
+    grouper.push(line_no, &fields).map_err(fatal)
 }
 
 /// The text of the line in `buf` without its line end (and without a
 /// byte-order mark on line 1).
-fn line_text(buf: &[u8], line_no: usize) -> Result<&str, Stop> {
+fn line_text(buf: &[u8], line_no: usize) -> Result<&str, Fatal> {
     let text = std::str::from_utf8(buf)
-        .map_err(|e| {
-            Stop::Input(format!(
+        .map_err(|e| Fatal {
+            line: line_no,
+            message: format!(
                 "line {line_no}: not UTF-8 text (bad byte at column {})",
                 e.valid_up_to() + 1
-            ))
+            ),
         })?
         .trim_end_matches(['\n', '\r']);
     Ok(if line_no == 1 {
@@ -258,11 +315,12 @@ fn next_line<R: BufRead>(
     input: &mut R,
     buf: &mut Vec<u8>,
     line_no: &mut usize,
-) -> Result<bool, Stop> {
+) -> Result<bool, Fatal> {
     buf.clear();
-    let n = input
-        .read_until(b'\n', buf)
-        .map_err(|e| Stop::Input(format!("cannot read line {}: {e}", *line_no + 1)))?;
+    let n = input.read_until(b'\n', buf).map_err(|e| Fatal {
+        line: *line_no + 1,
+        message: format!("cannot read line {}: {e}", *line_no + 1),
+    })?;
     if n == 0 {
         return Ok(false);
     }
@@ -277,7 +335,7 @@ where
     R: BufRead + Send,
     W: Write,
 {
-    let mut reader = Reader::new(input, opts)?;
+    let mut reader = Reader::new(input, opts);
     let mut totals = Totals::default();
     match opts.format {
         Format::Table => {
@@ -287,7 +345,7 @@ where
         Format::Csv => writeln!(out, "{CSV_HEADER}").map_err(Stop::Output)?,
         Format::Json => {}
     }
-    let mut chunk = reader.next_chunk(CHUNK)?;
+    let mut chunk = reader.next_chunk(CHUNK);
     while !chunk.is_empty() {
         let (outcomes, next) = rayon::join(
             || {
@@ -304,9 +362,40 @@ where
             write_outcome(out, o, opts.format).map_err(Stop::Output)?;
         }
         out.flush().map_err(Stop::Output)?;
-        chunk = next?;
+        chunk = next;
     }
-    Ok(totals)
+    match reader.fatal {
+        None => Ok(totals),
+        Some(f) => Err(Stop::Input(stopped_at(&f, totals, reader.open.as_deref()))),
+    }
+}
+
+/// The message for a run that a fatal line stopped: why, where, and what
+/// of the input the printed results cover.
+fn stopped_at(f: &Fatal, totals: Totals, open: Option<&str>) -> String {
+    let line = f.line;
+    let mut s =
+        format!(
+        "{}\nreading stopped at line {line}; nothing from that line on was read. The {} series \
+         read before it {} above",
+        f.message,
+        totals.series,
+        if totals.series == 1 { "is reported" } else { "are reported" }
+    );
+    if totals.failed > 0 {
+        s.push_str(&format!(
+            " ({} of them failed: their lines say why)",
+            totals.failed
+        ));
+    }
+    if let Some(name) = open {
+        s.push_str(&format!(
+            "; the last, {name:?}, was fitted on its rows before line {line} (any rows it has \
+             after that line were not read)"
+        ));
+    }
+    s.push('.');
+    s
 }
 
 fn write_outcome<W: Write>(out: &mut W, o: &Outcome, format: Format) -> std::io::Result<()> {
@@ -438,11 +527,19 @@ mod tests {
         assert_eq!(v["error_line"], 5);
     }
 
+    /// Bad UTF-8 stops the reading there; the series before it is still
+    /// reported (here as failed: one point is too few).
     #[test]
     fn bad_utf8_stops_naming_the_line() {
         let mut bytes = b"s,t,y\na,1,1\na,2,".to_vec();
         bytes.extend([0xff, b'\n']);
-        let e = run(&bytes[..], &mut Vec::new(), &opts(Format::Csv)).unwrap_err();
-        assert!(e.to_string().starts_with("line 3:"), "{e}");
+        let mut out = Vec::new();
+        let e = run(&bytes[..], &mut out, &opts(Format::Csv)).unwrap_err();
+        let e = e.to_string();
+        assert!(e.starts_with("line 3:"), "{e}");
+        assert!(e.contains("The 1 series read before it is reported above (1 of them failed"));
+        let out = String::from_utf8(out).unwrap();
+        assert_eq!(out.lines().count(), 2, "{out}");
+        assert!(out.lines().nth(1).unwrap().starts_with("a,"), "{out}");
     }
 }

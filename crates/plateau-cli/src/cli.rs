@@ -117,6 +117,9 @@ pub struct DiagnoseArgs {
     /// Hold a parameter at a known value, e.g. --fix K=2500000 (repeatable).
     #[arg(long, value_name = "NAME=VALUE")]
     pub fix: Vec<String>,
+    /// Start a parameter from this value instead of the self-start (repeatable).
+    #[arg(long, value_name = "NAME=VALUE")]
+    pub start: Vec<String>,
     #[command(flatten)]
     pub errors: ErrorArgs,
     /// Saturation level for the Fisher–Pry check (default: the fitted K).
@@ -162,6 +165,9 @@ pub struct ForecastArgs {
     /// Hold a parameter at a known value, e.g. --fix K=2500000 (repeatable).
     #[arg(long, value_name = "NAME=VALUE")]
     pub fix: Vec<String>,
+    /// Start a parameter from this value instead of the self-start (repeatable).
+    #[arg(long, value_name = "NAME=VALUE")]
+    pub start: Vec<String>,
     /// Also give bootstrap intervals, from B replicates (default 1000).
     #[arg(long, value_name = "B", num_args = 0..=1, default_missing_value = "1000")]
     pub bootstrap: Option<usize>,
@@ -232,7 +238,10 @@ e.g. \"north,2024-01,120\". The rows of each series must be together (the file s
 grouped by series); a series that reappears later is reported as failed, naming the line. \
 The file is streamed, never read whole. Results come in input order, one line per series; \
 a series that cannot be read or fitted gets a line with its error and the rest go on \
-(exit status 1 when any failed)."
+(exit status 1 when any failed). A line that makes the rest unreadable (a row without a \
+series name, a quote not closed on its line, text that is not UTF-8) stops the reading: \
+every series before it is still fitted and printed, then the line and the reason are \
+given (exit status 2)."
 )]
 pub struct BatchArgs {
     /// Data file, or - for standard input.
@@ -240,6 +249,12 @@ pub struct BatchArgs {
     /// Model to fit to every series: logistic, logistic4, gompertz, richards, exponential.
     #[arg(long, short, default_value = "logistic")]
     pub model: String,
+    /// Hold a parameter at a known value in every series, e.g. --fix K=100 (repeatable).
+    #[arg(long, value_name = "NAME=VALUE")]
+    pub fix: Vec<String>,
+    /// Start a parameter from this value in every series instead of the self-start (repeatable).
+    #[arg(long, value_name = "NAME=VALUE")]
+    pub start: Vec<String>,
     /// One JSON object per series and line (JSON Lines), with the full fit report.
     #[arg(long, conflicts_with = "csv")]
     pub json: bool,

@@ -285,7 +285,7 @@ fn run(cli: Cli) -> Result<(), Failure> {
             if args.json {
                 print_json(&report)?;
             } else {
-                emit(&outlook::drift(&name, &rows, &report))?;
+                emit(&outlook::drift(&name, &report))?;
             }
             Ok(())
         }

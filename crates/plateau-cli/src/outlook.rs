@@ -3,7 +3,7 @@
 
 use crate::table::num;
 use plateau_core::bootstrap::Bootstrap;
-use plateau_core::drift::{DriftRow, ModelBacktest};
+use plateau_core::drift::ModelBacktest;
 use plateau_core::forecast_report::{DriftReport, ForecastReport};
 use plateau_core::report::CAUTION;
 use std::fmt::Write;
@@ -113,42 +113,61 @@ pub fn forecast(name: &str, r: &ForecastReport, boot: Option<&Bootstrap>) -> Str
 }
 
 /// One line per prefix: cutoff, points, each parameter with its interval.
-pub fn drift(name: &str, rows: &[DriftRow], r: &DriftReport) -> String {
+///
+/// Printed from the `--json` report itself, so the two always agree: an
+/// interval the report withholds (a parameter the data do not determine,
+/// or one without a standard error) is not shown here either.
+pub fn drift(name: &str, r: &DriftReport) -> String {
     let mut s = String::new();
     let _ = writeln!(
         s,
         "drift      {} refitted on every prefix of {name} (first m points in time order)",
         r.model
     );
-    let names: Vec<&str> = rows
+    let names: Vec<&str> = r
+        .rows
         .iter()
-        .find_map(|r| r.result.as_ref().ok())
-        .map(|f| f.params.iter().map(|p| p.name).collect())
+        .find_map(|row| row.params.as_ref())
+        .map(|p| p.0.iter().map(|(n, _)| n.as_str()).collect())
         .unwrap_or_default();
     let _ = write!(s, "{:<12} {:>4}", "cutoff", "m");
     for n in &names {
         let _ = write!(s, "  {:<34}", format!("{n} (95% interval)"));
     }
     let _ = writeln!(s);
-    for (row, rep) in rows.iter().zip(&r.rows) {
-        let _ = write!(s, "{:<12} {:>4}", rep.cutoff_text, row.m);
-        match &row.result {
-            Ok(f) => {
-                for p in &f.params {
-                    let ci = p
-                        .ci95
-                        .map_or("-".into(), |(a, b)| format!("{} … {}", num(a), num(b)));
+    let mut withheld = false;
+    for row in &r.rows {
+        let _ = write!(s, "{:<12} {:>4}", row.cutoff_text, row.m);
+        match (&row.params, &row.error) {
+            (Some(params), _) => {
+                for (_, p) in &params.0 {
+                    let ci = if p.fixed {
+                        "fixed".to_string()
+                    } else {
+                        withheld |= p.ci95.is_none();
+                        pair(p.ci95)
+                    };
                     let _ = write!(s, "  {:<34}", format!("{} ({ci})", num(p.estimate)));
                 }
-                if !f.converged {
+                if row.converged == Some(false) && !row.warnings.contains(&"not_converged") {
                     let _ = write!(s, "  not converged");
                 }
+                if !row.warnings.is_empty() {
+                    let _ = write!(s, "  {}", row.warnings.join(" "));
+                }
             }
-            Err(e) => {
-                let _ = write!(s, "  no fit: {e}");
+            (None, e) => {
+                let _ = write!(s, "  no fit: {}", e.as_deref().unwrap_or("-"));
             }
         }
         let _ = writeln!(s);
+    }
+    if withheld {
+        let _ = writeln!(
+            s,
+            "\n(-) no interval: the data of that prefix do not determine the parameter \
+             (saturation_not_identified) or it has no standard error"
+        );
     }
     let _ = writeln!(s, "\n{CAUTION}");
     s

@@ -69,6 +69,27 @@ pub fn demo_multi_label() -> String {
     session::DEMO_MULTI_LABEL.to_string()
 }
 
+/// The sentence for the first setting out of its range (naming it as the
+/// page labels it, with the allowed range), or `undefined` when every
+/// setting is in range. The page shows it beside the settings.
+#[wasm_bindgen(js_name = checkSettings)]
+pub fn check_settings(settings: JsValue) -> Result<Option<String>, JsError> {
+    let settings = read_settings(settings)?;
+    Ok(session::check_settings(&settings).err().map(|e| e.message))
+}
+
+/// The page's settings object. Numbers typed on the page arrive as any
+/// number and are checked by `session::check_settings`, which names the
+/// setting; this only fails for a settings object the page itself did not
+/// make (stored by another version, say).
+fn read_settings(settings: JsValue) -> Result<Settings, JsError> {
+    serde_wasm_bindgen::from_value(settings).map_err(|e| {
+        JsError::new(&format!(
+            "The stored settings could not be read ({e}); erase the stored data to start again."
+        ))
+    })
+}
+
 /// The page's state: the last analysis that succeeded.
 #[wasm_bindgen]
 #[derive(Default)]
@@ -89,8 +110,7 @@ impl Workbench {
     /// Parses, fits the chosen model, compares all models and returns the
     /// view. On bad input returns an error and keeps the previous analysis.
     pub fn update(&mut self, text: &str, settings: JsValue) -> Result<JsValue, JsError> {
-        let settings: Settings = serde_wasm_bindgen::from_value(settings)
-            .map_err(|e| JsError::new(&format!("settings: {e}")))?;
+        let settings = read_settings(settings)?;
         let analysis = session::analyse(text, &settings).map_err(|e| JsError::new(&e.message))?;
         let view = serde_wasm_bindgen::to_value(&analysis.view)
             .map_err(|e| JsError::new(&e.to_string()))?;
@@ -100,12 +120,13 @@ impl Workbench {
     }
 
     /// Sets up a bootstrap of the current fit with the settings of the last
-    /// update (B, seed, resampling); no replicate is run yet.
+    /// update (B, seed, resampling); no replicate is run yet. Returns B.
     #[wasm_bindgen(js_name = bootstrapStart)]
-    pub fn bootstrap_start(&mut self) -> Result<(), JsError> {
+    pub fn bootstrap_start(&mut self) -> Result<usize, JsError> {
         let b = session::start_bootstrap(self.analysis()?).map_err(|e| JsError::new(&e.message))?;
+        let replicates = b.options().replicates;
         self.boot = Some(b);
-        Ok(())
+        Ok(replicates)
     }
 
     /// Runs up to `k` more replicates; returns the replicates done so far.

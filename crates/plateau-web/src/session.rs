@@ -70,10 +70,12 @@ pub struct Settings {
     pub bootstrap: bool,
     /// `residual` or `parametric`.
     pub resampling: String,
-    /// Bootstrap replicates B.
-    pub replicates: usize,
-    /// Seed of the bootstrap's random numbers.
-    pub seed: u64,
+    /// Bootstrap replicates B, as typed (any number: [`check_settings`]
+    /// says when it is out of range); `None` for the default.
+    pub replicates: Option<f64>,
+    /// Seed of the bootstrap's random numbers, as typed (see
+    /// [`check_settings`]); `None` for the default.
+    pub seed: Option<f64>,
     /// K for the Fisher–Pry view; `None` uses the fitted K.
     pub fisher_pry_k: Option<f64>,
 }
@@ -95,8 +97,8 @@ impl Default for Settings {
             series: None,
             bootstrap: false,
             resampling: "residual".into(),
-            replicates: plateau_core::bootstrap::DEFAULT_REPLICATES,
-            seed: DEFAULT_SEED,
+            replicates: Some(plateau_core::bootstrap::DEFAULT_REPLICATES as f64),
+            seed: Some(DEFAULT_SEED as f64),
             fisher_pry_k: None,
         }
     }
@@ -130,6 +132,89 @@ fn setting_error(message: impl Into<String>) -> UpdateError {
         line: None,
         message: message.into(),
     }
+}
+
+/// The most bootstrap replicates the page runs.
+pub const MAX_REPLICATES: u32 = 100_000;
+/// The largest seed: the largest whole number a JavaScript number holds
+/// exactly (2^53 − 1), so the seed shown is the seed used.
+pub const MAX_SEED: u64 = (1 << 53) - 1;
+/// The longest forecast, in periods.
+pub const MAX_HORIZON: f64 = 1000.0;
+
+/// A number as the sentence about it shows it (as JavaScript writes it:
+/// exponent form from 10^21 on).
+fn shown(x: f64) -> String {
+    if x.is_nan() {
+        "not a number".into()
+    } else if x.is_finite() && x.abs() >= 1e21 {
+        format!("{x:e}")
+    } else {
+        format!("{x}")
+    }
+}
+
+/// A sentence for a setting out of its range: the setting as the page
+/// labels it, what it must be, and what it is.
+fn out_of_range(label: &str, allowed: &str, x: f64) -> UpdateError {
+    setting_error(format!("{label} must be {allowed}; it is {}.", shown(x)))
+}
+
+/// A whole number in `lo..=hi`, or the sentence saying it is not.
+fn whole(label: &str, x: f64, lo: u64, hi: u64) -> Result<u64, UpdateError> {
+    if x.is_finite() && x.fract() == 0.0 && x >= lo as f64 && x <= hi as f64 {
+        Ok(x as u64)
+    } else {
+        Err(out_of_range(
+            label,
+            &format!("a whole number from {lo} to {hi}"),
+            x,
+        ))
+    }
+}
+
+/// Checks every numeric setting against its range before anything is
+/// fitted; the error is one sentence naming the setting as the page labels
+/// it and the allowed range (never a deserialiser's message).
+pub fn check_settings(s: &Settings) -> Result<(), UpdateError> {
+    let positive = |label: &str, v: Option<f64>| match v {
+        Some(x) if !(x.is_finite() && x > 0.0) => Err(out_of_range(label, "a positive number", x)),
+        _ => Ok(()),
+    };
+    positive("Known K", s.fixed_k)?;
+    if !(s.horizon.is_finite() && (0.0..=MAX_HORIZON).contains(&s.horizon)) {
+        return Err(out_of_range(
+            "Forecast periods",
+            &format!("a number of periods from 0 to {MAX_HORIZON}"),
+            s.horizon,
+        ));
+    }
+    if !(s.share.is_finite() && s.share > 0.0 && s.share < 100.0) {
+        return Err(out_of_range(
+            "Milestone share of K (%)",
+            "a percentage between 0 and 100 (not 0 or 100 themselves)",
+            s.share,
+        ));
+    }
+    if let Some(l) = s.level.filter(|l| !l.is_finite()) {
+        return Err(out_of_range("Milestone level", "a finite number", l));
+    }
+    positive("K for the Fisher–Pry view", s.fisher_pry_k)?;
+    bootstrap_numbers(s)?;
+    Ok(())
+}
+
+/// The bootstrap's replicates and seed, checked (see [`check_settings`]).
+fn bootstrap_numbers(s: &Settings) -> Result<(usize, u64), UpdateError> {
+    let replicates = match s.replicates {
+        None => plateau_core::bootstrap::DEFAULT_REPLICATES,
+        Some(b) => whole("Replicates B", b, 1, u64::from(MAX_REPLICATES))? as usize,
+    };
+    let seed = match s.seed {
+        None => DEFAULT_SEED,
+        Some(x) => whole("Seed", x, 0, MAX_SEED)?,
+    };
+    Ok((replicates, seed))
 }
 
 /// One finished analysis: the data as fitted, the chosen model's fit and
@@ -413,6 +498,7 @@ pub struct CompareRow {
 
 /// Runs the whole analysis; pure function of its inputs.
 pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError> {
+    check_settings(settings)?;
     let model = Model::from_name(&settings.model)
         .ok_or_else(|| setting_error(format!("unknown model {:?}", settings.model)))?;
     let chosen_columns = settings.time_column.is_some() || settings.value_column.is_some();
@@ -896,19 +982,15 @@ pub fn start_bootstrap(a: &Analysis) -> Result<Bootstrap, UpdateError> {
             a.settings.resampling
         ))
     })?;
-    if a.settings.replicates == 0 || a.settings.replicates > 100_000 {
-        return Err(setting_error(
-            "bootstrap: expected from 1 to 100000 replicates",
-        ));
-    }
+    let (replicates, seed) = bootstrap_numbers(&a.settings)?;
     Bootstrap::new(
         &a.fit,
         &a.series.times,
         &a.values,
         &BootstrapOptions {
             resampling,
-            replicates: a.settings.replicates,
-            seed: a.settings.seed,
+            replicates,
+            seed,
         },
     )
     .map_err(|e| setting_error(format!("bootstrap: {e}")))

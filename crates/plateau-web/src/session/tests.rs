@@ -275,7 +275,9 @@ fn diagnostics_match_the_core_and_take_the_entered_k() {
         },
     )
     .unwrap_err();
-    assert!(bad.message.contains("Fisher–Pry K"));
+    assert!(bad
+        .message
+        .contains("K for the Fisher–Pry view must be a positive number"));
     // The checks export has the CLI's diagnose shape and the entered K.
     let v: serde_json::Value = serde_json::from_str(&entered.diagnose_json()).unwrap();
     let mut keys: Vec<&str> = v.as_object().unwrap().keys().map(String::as_str).collect();
@@ -305,7 +307,7 @@ fn bootstrap_in_slices_gives_the_cli_numbers_and_milestone_intervals() {
     }
     assert_eq!(steps, 1000usize.div_ceil(37));
     let v = bootstrap_view(&a, &sliced);
-    assert!(v.finished && v.done == 1000 && v.seed == Settings::default().seed);
+    assert!(v.finished && v.done == 1000 && Some(v.seed as f64) == Settings::default().seed);
     // The same numbers as a bootstrap run at once with the same options
     // (what `plateau forecast --bootstrap` does).
     let mut whole = start_bootstrap(&a).unwrap();
@@ -497,4 +499,136 @@ fn several_series_errors_name_line_and_series() {
     assert!(e.message.contains("series \"south\""), "{}", e.message);
     let e = analyse("s,t,y\na,1,1\nb,1,2\na,2,3\n", &Settings::default()).unwrap_err();
     assert_eq!(e.line, Some(4));
+}
+
+/// Out-of-range settings get one sentence naming the setting as the page
+/// labels it and the allowed range, before anything is fitted; before, a
+/// replicate count of 1e12 or a seed of 1e20 reached the page as
+/// "invalid value: integer `1000000000000`, expected usize".
+#[test]
+fn out_of_range_settings_get_a_sentence_naming_the_setting_and_range() {
+    let cases: Vec<(Settings, &str)> = vec![
+        (
+            Settings {
+                replicates: Some(1e12),
+                ..Settings::default()
+            },
+            "Replicates B must be a whole number from 1 to 100000; it is 1000000000000.",
+        ),
+        (
+            Settings {
+                replicates: Some(0.0),
+                ..Settings::default()
+            },
+            "Replicates B must be a whole number from 1 to 100000; it is 0.",
+        ),
+        (
+            Settings {
+                replicates: Some(12.5),
+                ..Settings::default()
+            },
+            "Replicates B must be a whole number from 1 to 100000; it is 12.5.",
+        ),
+        (
+            Settings {
+                seed: Some(1e20),
+                ..Settings::default()
+            },
+            "Seed must be a whole number from 0 to 9007199254740991; it is 100000000000000000000.",
+        ),
+        (
+            Settings {
+                seed: Some(-1.0),
+                ..Settings::default()
+            },
+            "Seed must be a whole number from 0 to 9007199254740991; it is -1.",
+        ),
+        (
+            Settings {
+                horizon: -5.0,
+                ..Settings::default()
+            },
+            "Forecast periods must be a number of periods from 0 to 1000; it is -5.",
+        ),
+        (
+            Settings {
+                horizon: 1e300,
+                ..Settings::default()
+            },
+            "Forecast periods must be a number of periods from 0 to 1000; it is 1e300.",
+        ),
+        (
+            Settings {
+                horizon: f64::NAN,
+                ..Settings::default()
+            },
+            "Forecast periods must be a number of periods from 0 to 1000; it is not a number.",
+        ),
+        (
+            Settings {
+                fixed_k: Some(-3.0),
+                ..Settings::default()
+            },
+            "Known K must be a positive number; it is -3.",
+        ),
+        (
+            Settings {
+                share: 150.0,
+                ..Settings::default()
+            },
+            "Milestone share of K (%) must be a percentage between 0 and 100 (not 0 or 100 \
+             themselves); it is 150.",
+        ),
+        (
+            Settings {
+                level: Some(f64::INFINITY),
+                ..Settings::default()
+            },
+            "Milestone level must be a finite number; it is inf.",
+        ),
+        (
+            Settings {
+                fisher_pry_k: Some(0.0),
+                ..Settings::default()
+            },
+            "K for the Fisher–Pry view must be a positive number; it is 0.",
+        ),
+    ];
+    for (settings, want) in cases {
+        let e = analyse(DEMO_TEXT, &settings).unwrap_err();
+        assert_eq!(e.message, want);
+        assert_eq!(e.line, None);
+    }
+    // The edges of the ranges are allowed; no value means the default.
+    for settings in [
+        Settings {
+            replicates: Some(f64::from(MAX_REPLICATES)),
+            seed: Some(MAX_SEED as f64),
+            horizon: 0.0,
+            ..Settings::default()
+        },
+        Settings {
+            replicates: None,
+            seed: None,
+            horizon: MAX_HORIZON,
+            ..Settings::default()
+        },
+    ] {
+        let a = analyse(DEMO_TEXT, &settings).unwrap();
+        let b = start_bootstrap(&a).unwrap();
+        let want = settings.replicates.map_or(1000, |r| r as usize);
+        assert_eq!(b.options().replicates, want);
+    }
+}
+
+/// The page's JSON settings deserialise whatever number was typed, so the
+/// range check, not the deserialiser, speaks.
+#[test]
+fn settings_take_any_typed_number() {
+    let s: Settings =
+        serde_json::from_str(r#"{"replicates": 1e12, "seed": 1e20, "horizon": -4}"#).unwrap();
+    assert_eq!(s.replicates, Some(1e12));
+    assert!(check_settings(&s).is_err());
+    let s: Settings = serde_json::from_str(r#"{"replicates": null, "seed": 7}"#).unwrap();
+    assert_eq!((s.replicates, s.seed), (None, Some(7.0)));
 }

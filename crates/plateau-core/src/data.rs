@@ -713,7 +713,59 @@ fn text_and_delimiter<'a>(
         Some(d) => check_delimiter(d)?,
         None => detect_delimiter(text),
     };
+    check_field_counts(text, delimiter)?;
     Ok((text, delimiter))
+}
+
+/// Refuses a record of more than [`MAX_FIELDS`] fields before the CSV
+/// reader holds it (whose field list would cost several times the line's
+/// length), by counting delimiters outside quotes in one pass over the bytes.
+fn check_field_counts(text: &str, delimiter: u8) -> Result<(), DataError> {
+    let bytes = text.as_bytes();
+    let (mut line, mut start_line, mut fields, mut quoted) = (1usize, 1usize, 1usize, false);
+    // As the CSV reader: a quote opens a quoted field only at the start of
+    // a field, and inside one `""` is a quote and a lone `"` closes it.
+    let mut field_start = true;
+    let mut escaped = false;
+    for (i, &b) in bytes.iter().enumerate() {
+        let at_start = std::mem::replace(&mut field_start, false);
+        if std::mem::take(&mut escaped) {
+            continue;
+        }
+        if b == b'"' && (quoted || at_start) {
+            if quoted && bytes.get(i + 1) == Some(&b'"') {
+                escaped = true;
+            } else {
+                quoted = !quoted;
+            }
+        } else if b == b'\n' || (b == b'\r' && bytes.get(i + 1) != Some(&b'\n')) {
+            line += 1;
+            if !quoted {
+                fields = 1;
+                start_line = line;
+                field_start = true;
+            }
+        } else if b == delimiter && !quoted {
+            field_start = true;
+            fields += 1;
+            if fields > MAX_FIELDS {
+                return Err(too_many_fields(start_line, None));
+            }
+        }
+    }
+    Ok(())
+}
+
+/// The error for a record of more than [`MAX_FIELDS`] fields.
+fn too_many_fields(line: usize, count: Option<usize>) -> DataError {
+    let count = count.map_or_else(|| format!("more than {MAX_FIELDS}"), |c| c.to_string());
+    error(
+        DataErrorKind::TooManyFields,
+        Some(line),
+        format!(
+            "the row has {count} fields; expected at most {MAX_FIELDS} (rows of a time and a value, one row per line)"
+        ),
+    )
 }
 
 /// All non-blank records, each with the line of the original text it starts on.
@@ -790,14 +842,7 @@ impl<'a> RecordReader<'a> {
                 .position()
                 .map_or(0, |p| self.lines.record_line(p));
             if self.record.len() > MAX_FIELDS {
-                return Err(error(
-                    DataErrorKind::TooManyFields,
-                    Some(line),
-                    format!(
-                        "the row has {} fields; expected at most {MAX_FIELDS} (rows of a time and a value, one row per line)",
-                        self.record.len()
-                    ),
-                ));
+                return Err(too_many_fields(line, Some(self.record.len())));
             }
             return Ok(Some((line, &self.record)));
         }

@@ -1077,4 +1077,86 @@ mod tests {
             }
         }
     }
+
+    /// The same problem without row blocks: solved on the whole Jacobian.
+    struct Whole<'a>(&'a CurveProblem<'a>);
+
+    impl LeastSquares for Whole<'_> {
+        fn n_residuals(&self) -> usize {
+            self.0.n_residuals()
+        }
+        fn n_unknowns(&self) -> usize {
+            self.0.n_unknowns()
+        }
+        fn feasible(&self, x: &[f64]) -> bool {
+            self.0.feasible(x)
+        }
+        fn residuals(&self, x: &[f64], res: &mut [f64]) -> bool {
+            self.0.residuals(x, res)
+        }
+        fn jacobian(&self, x: &[f64], jac: &mut DMatrix<f64>) {
+            self.0.jacobian(x, jac)
+        }
+        fn residuals_and_jacobian(
+            &self,
+            x: &[f64],
+            res: &mut [f64],
+            jac: &mut DMatrix<f64>,
+        ) -> bool {
+            self.0.residuals_and_jacobian(x, res, jac)
+        }
+    }
+
+    /// Above `STREAM_ABOVE` residuals the Jacobian is reduced block by
+    /// block; the reference is the whole-Jacobian Householder path on the
+    /// same problem (what every shorter problem uses). Estimates and sum of
+    /// squares agree to 1e-12 (relative), `RᵀR` (which alone enters the
+    /// covariance; the rows of `R` may differ in sign) to 1e-10, from a
+    /// start 10% off and with a parameter held (as profile refits do).
+    #[test]
+    fn streamed_factorisation_matches_the_whole_jacobian() {
+        let n = STREAM_ABOVE + 1000;
+        let t: Vec<f64> = (0..n).map(|i| 20.0 * i as f64 / (n - 1) as f64).collect();
+        let y: Vec<f64> = t
+            .iter()
+            .enumerate()
+            .map(|(i, v)| {
+                1000.0 / (1.0 + (-0.8 * (v - 10.0)).exp()) + 10.0 * (1.7 * i as f64).sin()
+            })
+            .collect();
+        for free in [vec![0, 1, 2], vec![0, 2]] {
+            let problem = CurveProblem {
+                model: Model::Logistic,
+                t: &t,
+                y: &y,
+                sqrt_w: None,
+                base: vec![1100.0, 0.8, 9.0],
+                free: free.clone(),
+                scale: Scale::default(),
+            };
+            assert!(problem.streams());
+            let x0: Vec<f64> = free.iter().map(|&j| problem.base[j]).collect();
+            let (mut r1, mut r2) = (Vec::new(), Vec::new());
+            let a = Solver::default().minimize_factored(&problem, &x0, &mut r1);
+            let b = Solver::default().minimize_factored(&Whole(&problem), &x0, &mut r2);
+            assert!(a.converged() && b.converged(), "{a:?} {b:?}");
+            let close = |u: f64, v: f64, tol: f64| (u - v).abs() <= tol * v.abs().max(1e-300);
+            for (u, v) in a.x.iter().zip(&b.x) {
+                assert!(close(*u, *v, 1e-12), "{:?} vs {:?}", a.x, b.x);
+            }
+            assert!(close(a.rss, b.rss, 1e-12), "{} vs {}", a.rss, b.rss);
+            let k = free.len();
+            assert_eq!((r1.len(), r2.len()), (k * k, k * k));
+            let gram = |r: &[f64], i: usize, j: usize| -> f64 {
+                (0..k).map(|l| r[i * k + l] * r[j * k + l]).sum()
+            };
+            for i in 0..k {
+                for j in 0..k {
+                    let (u, v) = (gram(&r1, i, j), gram(&r2, i, j));
+                    let scale = (gram(&r2, i, i) * gram(&r2, j, j)).sqrt();
+                    assert!((u - v).abs() <= 1e-10 * scale, "RᵀR[{i}][{j}]: {u} vs {v}");
+                }
+            }
+        }
+    }
 }

@@ -418,11 +418,22 @@ fn read_series(
     Ok((name, series))
 }
 
+/// Writes `value` as pretty JSON to standard output, serialised straight
+/// into the buffered stream (a report of a long series is not first held
+/// as one string); a reader that has gone away ends it quietly, as `emit`.
 fn print_json<T: serde::Serialize>(value: &T) -> Result<(), Failure> {
-    // Serialising plain data to a String cannot fail.
-    let s =
-        serde_json::to_string_pretty(value).unwrap_or_else(|e| format!("{{\"error\":\"{e}\"}}"));
-    emit(&format!("{s}\n"))
+    use std::io::Write;
+    let mut out = std::io::BufWriter::with_capacity(1 << 16, std::io::stdout().lock());
+    let written = serde_json::to_writer_pretty(&mut out, value)
+        .map_err(std::io::Error::from)
+        .and_then(|()| out.write_all(b"\n"))
+        .and_then(|()| out.flush());
+    match written {
+        Err(e) if e.kind() != std::io::ErrorKind::BrokenPipe => Err(Failure::Input(
+            anyhow::anyhow!("cannot write the results: {e}"),
+        )),
+        _ => Ok(()),
+    }
 }
 
 /// Writes `text` to standard output. A reader that has gone away (as in

@@ -34,6 +34,7 @@ mod tests;
 use crate::warning::{Warning, WarningCode};
 use number::{parse_number, Decimal, NumError, Vote};
 use serde::Serialize;
+use std::borrow::Cow;
 use std::collections::HashMap;
 use std::fmt;
 use time::TimeError;
@@ -257,19 +258,37 @@ struct Row<'a> {
 
 /// Parses `text` into a series; see the module documentation for what is
 /// detected and [`DataErrorKind`] for what is refused.
+///
+/// The text is read record by record, several times (the widest record and
+/// the header; the rows' fields; the decimal votes and the values), so that
+/// memory beyond the text is the series itself: no list of records or rows.
 pub fn parse_series(text: &str, opts: &ParseOptions) -> Result<Series, DataError> {
-    let (records, delimiter) = read_text(
+    let (text, delimiter) = text_and_delimiter(
         text,
         opts.delimiter,
         "the text is empty; expected rows of a time and a value, e.g. \"2024-01-31,1250\"",
     )?;
-    let Some(first) = records.first() else {
+    // First pass: the first record, the widest one, the line of the second.
+    let mut reader = RecordReader::new(text, delimiter);
+    let Some(first) = reader.next()?.map(|(line, rec)| Record {
+        line,
+        fields: rec
+            .iter()
+            .map(|f| String::from_utf8_lossy(f).into_owned())
+            .collect(),
+    }) else {
         return Err(error(
             DataErrorKind::Empty,
             None,
             "the text has no rows; expected rows of a time and a value",
         ));
     };
+    let mut width = first.fields.len();
+    let mut second_line = None;
+    while let Some((line, rec)) = reader.next()? {
+        width = width.max(rec.len());
+        second_line.get_or_insert(line);
+    }
 
     let by_name = matches!(opts.time_column, Some(ColumnRef::Name(_)))
         || matches!(opts.value_column, Some(ColumnRef::Name(_)));
@@ -277,9 +296,8 @@ pub fn parse_series(text: &str, opts: &ParseOptions) -> Result<Series, DataError
     let value_hint = index_hint(opts.value_column.as_ref(), 1);
     let has_header = match opts.header {
         Some(h) => h,
-        None => by_name || looks_like_header(first, time_hint, value_hint, delimiter),
+        None => by_name || looks_like_header(&first, time_hint, value_hint, delimiter),
     };
-    let width = records.iter().map(|r| r.fields.len()).max().unwrap_or(0);
     let columns: Vec<String> = (0..width)
         .map(|i| {
             let name = if has_header { first.field(i) } else { None };
@@ -293,9 +311,11 @@ pub fn parse_series(text: &str, opts: &ParseOptions) -> Result<Series, DataError
         columns: &columns,
         has_header,
         delimiter,
-        first_line: records
-            .get(usize::from(has_header))
-            .map_or(first.line, |r| r.line),
+        first_line: if has_header {
+            second_line.unwrap_or(first.line)
+        } else {
+            first.line
+        },
     };
     let time_col = ctx.resolve(opts.time_column.as_ref(), 0, "time")?;
     let value_col = ctx.resolve(opts.value_column.as_ref(), 1, "value")?;
@@ -318,46 +338,52 @@ pub fn parse_series(text: &str, opts: &ParseOptions) -> Result<Series, DataError
     let time_name = header_name(time_col, "time");
     let value_name = header_name(value_col, "value");
 
-    let data = records.get(usize::from(has_header)..).unwrap_or(&[]);
+    // Second pass: every data row has both fields, and a time where it has
+    // a value; the rows without a value are counted out.
     let needed = time_col.max(value_col) + 1;
-    let mut rows = Vec::with_capacity(data.len());
+    let mut rows = TextRows {
+        text,
+        delimiter,
+        has_header,
+        time_col,
+        value_col,
+        count: 0,
+        first: None,
+    };
     let mut skipped = Vec::new();
-    for r in data {
-        let (Some(t), Some(v)) = (r.field(time_col), r.field(value_col)) else {
+    rows.each_record(|line, t, v, n_fields| {
+        let (Some(t), Some(v)) = (t, v) else {
             return Err(error(
                 DataErrorKind::TooFewFields,
-                Some(r.line),
+                Some(line),
                 format!(
                     "expected at least {needed} fields ({} in column {}, {} in column {}), found {}{}",
                     quote(&time_name),
                     time_col + 1,
                     quote(&value_name),
                     value_col + 1,
-                    r.fields.len(),
+                    n_fields,
                     delimiter_hint(delimiter, opts.delimiter.is_some())
                 ),
             ));
         };
         if is_missing(v) {
-            skipped.push(r.line);
+            skipped.push(line);
+            Ok(false)
         } else if is_missing(t) {
-            return Err(error(
+            Err(error(
                 DataErrorKind::MissingTime,
-                Some(r.line),
+                Some(line),
                 format!(
                     "the row has a value ({}) but no time; every value needs a time in column {}",
                     quote(v.trim()),
                     time_col + 1
                 ),
-            ));
+            ))
         } else {
-            rows.push(Row {
-                line: r.line,
-                time: t,
-                value: v,
-            });
+            Ok(true)
         }
-    }
+    })?;
     let meta = Meta {
         time_name,
         value_name,
@@ -366,7 +392,118 @@ pub fn parse_series(text: &str, opts: &ParseOptions) -> Result<Series, DataError
         delimiter,
         value_col,
     };
-    build_series(&rows, &skipped, meta, None)
+    build_series(&Rows::Text(rows), &skipped, meta, None)
+}
+
+/// The rows of a series as `build_series` reads them, twice (decimal
+/// votes, then values): a list, or the records of the text itself, read
+/// again on each pass.
+enum Rows<'a> {
+    Slice(&'a [Row<'a>]),
+    Text(TextRows<'a>),
+}
+
+impl Rows<'_> {
+    fn len(&self) -> usize {
+        match self {
+            Rows::Slice(rows) => rows.len(),
+            Rows::Text(rows) => rows.count,
+        }
+    }
+
+    fn first(&self) -> Option<Row<'_>> {
+        match self {
+            Rows::Slice(rows) => rows.first().copied(),
+            Rows::Text(rows) => rows.first.as_ref().map(|(line, t, v)| Row {
+                line: *line,
+                time: t,
+                value: v,
+            }),
+        }
+    }
+
+    /// Calls `f` with every row in order; stops at the first error.
+    fn try_for_each(
+        &self,
+        mut f: impl FnMut(Row<'_>) -> Result<(), DataError>,
+    ) -> Result<(), DataError> {
+        match self {
+            Rows::Slice(rows) => rows.iter().try_for_each(|r| f(*r)),
+            Rows::Text(rows) => rows.for_each_row(f),
+        }
+    }
+}
+
+/// The data rows of a text with a value in the value column, read from
+/// the text on each pass (see [`parse_series`]).
+struct TextRows<'a> {
+    text: &'a str,
+    delimiter: u8,
+    has_header: bool,
+    time_col: usize,
+    value_col: usize,
+    /// Rows with a value, and the first of them (line, time, value), as
+    /// found by [`TextRows::each_record`].
+    count: usize,
+    first: Option<(usize, String, String)>,
+}
+
+impl TextRows<'_> {
+    /// Calls `check` with each data record's line, time and value fields
+    /// (`None` when the record is too short) and field count; it says
+    /// whether the row is kept. Sets `count` and `first`.
+    fn each_record(
+        &mut self,
+        mut check: impl FnMut(usize, Option<&str>, Option<&str>, usize) -> Result<bool, DataError>,
+    ) -> Result<(), DataError> {
+        let mut reader = RecordReader::new(self.text, self.delimiter);
+        let mut header = self.has_header;
+        self.count = 0;
+        self.first = None;
+        while let Some((line, rec)) = reader.next()? {
+            if std::mem::take(&mut header) {
+                continue;
+            }
+            let t = rec.get(self.time_col).map(String::from_utf8_lossy);
+            let v = rec.get(self.value_col).map(String::from_utf8_lossy);
+            if check(line, t.as_deref(), v.as_deref(), rec.len())? {
+                self.count += 1;
+                if self.first.is_none() {
+                    let text = |f: Option<Cow<str>>| f.map(Cow::into_owned).unwrap_or_default();
+                    self.first = Some((line, text(t), text(v)));
+                }
+            }
+        }
+        Ok(())
+    }
+
+    /// Calls `f` with every kept row (time and value present, a value that
+    /// is not missing), as checked by [`TextRows::each_record`].
+    fn for_each_row(
+        &self,
+        mut f: impl FnMut(Row<'_>) -> Result<(), DataError>,
+    ) -> Result<(), DataError> {
+        let mut reader = RecordReader::new(self.text, self.delimiter);
+        let mut header = self.has_header;
+        while let Some((line, rec)) = reader.next()? {
+            if std::mem::take(&mut header) {
+                continue;
+            }
+            let (Some(t), Some(v)) = (rec.get(self.time_col), rec.get(self.value_col)) else {
+                continue;
+            };
+            let (t, v) = (String::from_utf8_lossy(t), String::from_utf8_lossy(v));
+            if is_missing(&v) {
+                continue;
+            }
+            f(Row {
+                line,
+                time: &t,
+                value: &v,
+            })?;
+        }
+        Ok(())
+    }
 }
 
 /// What a series carries besides its rows.
@@ -386,7 +523,7 @@ struct Meta {
 /// from these rows), no duplicate times, warnings for the skipped and
 /// unsorted rows.
 fn build_series(
-    rows: &[Row],
+    rows: &Rows,
     skipped: &[usize],
     meta: Meta,
     dec: Option<Decimal>,
@@ -414,7 +551,7 @@ fn build_series(
     };
 
     let Some(time_kind) = time::detect(first_row.time) else {
-        return Err(bad_time(first_row, None, &time_name));
+        return Err(bad_time(&first_row, None, &time_name));
     };
     let dec = match dec {
         Some(d) => d,
@@ -426,26 +563,40 @@ fn build_series(
     let mut lines = Vec::with_capacity(rows.len());
     // Keyed by the bits of the axis value (with -0 folded into 0), which is
     // exact equality: 1 and 1.0 are duplicates, 1 and 1.0000001 are not.
-    let mut seen: HashMap<u64, usize> = HashMap::with_capacity(rows.len());
-    for row in rows {
+    // Times that only increase cannot repeat, so the map is only built (from
+    // the rows so far) at the first time that does not, and a long sorted
+    // series needs none.
+    let mut seen: Option<HashMap<u64, usize>> = None;
+    rows.try_for_each(|row| {
         let t = time::parse(row.time, time_kind, dec)
-            .map_err(|e| time_error(e, row, time_kind, &time_name))?;
-        let v = parse_number(row.value, dec).map_err(|e| value_error(e, row, dec, delimiter))?;
-        if let Some(&earlier) = seen.get(&(t + 0.0).to_bits()) {
-            return Err(error(
-                DataErrorKind::DuplicateTime,
-                Some(row.line),
-                format!(
-                    "time {} also appears on line {earlier}; expected each time once",
-                    quote(row.time.trim())
-                ),
-            ));
+            .map_err(|e| time_error(e, &row, time_kind, &time_name))?;
+        let v = parse_number(row.value, dec).map_err(|e| value_error(e, &row, dec, delimiter))?;
+        if seen.is_none() && times.last().is_some_and(|&last: &f64| t <= last) {
+            let mut map = HashMap::with_capacity(times.len() + 1);
+            for (&earlier, &line) in times.iter().zip(&lines) {
+                map.insert((earlier + 0.0).to_bits(), line);
+            }
+            seen = Some(map);
         }
-        seen.insert((t + 0.0).to_bits(), row.line);
+        if let Some(seen) = seen.as_mut() {
+            if let Some(&earlier) = seen.get(&(t + 0.0).to_bits()) {
+                return Err(error(
+                    DataErrorKind::DuplicateTime,
+                    Some(row.line),
+                    format!(
+                        "time {} also appears on line {earlier}; expected each time once",
+                        quote(row.time.trim())
+                    ),
+                ));
+            }
+            seen.insert((t + 0.0).to_bits(), row.line);
+        }
         times.push(t);
         values.push(v);
         lines.push(row.line);
-    }
+        Ok(())
+    })?;
+    drop(seen);
 
     let mut warnings = Vec::new();
     if !skipped.is_empty() {
@@ -542,6 +693,18 @@ fn read_text(
     delimiter: Option<u8>,
     if_empty: &str,
 ) -> Result<(Vec<Record>, u8), DataError> {
+    let (text, delimiter) = text_and_delimiter(text, delimiter, if_empty)?;
+    Ok((read_records(text, delimiter)?, delimiter))
+}
+
+/// `text` without a leading byte-order mark, and the delimiter:
+/// `delimiter` when given (and usable), else the detected one. `if_empty`
+/// is the message for a text with nothing but white space.
+fn text_and_delimiter<'a>(
+    text: &'a str,
+    delimiter: Option<u8>,
+    if_empty: &str,
+) -> Result<(&'a str, u8), DataError> {
     let text = text.strip_prefix('\u{feff}').unwrap_or(text);
     if text.trim().is_empty() {
         return Err(error(DataErrorKind::Empty, None, if_empty));
@@ -550,77 +713,191 @@ fn read_text(
         Some(d) => check_delimiter(d)?,
         None => detect_delimiter(text),
     };
-    Ok((read_records(text, delimiter)?, delimiter))
+    check_field_counts(text, delimiter)?;
+    Ok((text, delimiter))
+}
+
+/// Refuses a record of more than [`MAX_FIELDS`] fields before the CSV
+/// reader holds it (whose field list would cost several times the line's
+/// length), by counting delimiters outside quotes in one pass over the bytes.
+fn check_field_counts(text: &str, delimiter: u8) -> Result<(), DataError> {
+    let bytes = text.as_bytes();
+    let (mut line, mut start_line, mut fields, mut quoted) = (1usize, 1usize, 1usize, false);
+    // As the CSV reader: a quote opens a quoted field only at the start of
+    // a field, and inside one `""` is a quote and a lone `"` closes it.
+    let mut field_start = true;
+    let mut escaped = false;
+    for (i, &b) in bytes.iter().enumerate() {
+        let at_start = std::mem::replace(&mut field_start, false);
+        if std::mem::take(&mut escaped) {
+            continue;
+        }
+        if b == b'"' && (quoted || at_start) {
+            if quoted && bytes.get(i + 1) == Some(&b'"') {
+                escaped = true;
+            } else {
+                quoted = !quoted;
+            }
+        } else if b == b'\n' || (b == b'\r' && bytes.get(i + 1) != Some(&b'\n')) {
+            line += 1;
+            if !quoted {
+                fields = 1;
+                start_line = line;
+                field_start = true;
+            }
+        } else if b == delimiter && !quoted {
+            field_start = true;
+            fields += 1;
+            if fields > MAX_FIELDS {
+                return Err(too_many_fields(start_line, None));
+            }
+        }
+    }
+    Ok(())
+}
+
+/// The error for a record of more than [`MAX_FIELDS`] fields.
+fn too_many_fields(line: usize, count: Option<usize>) -> DataError {
+    let count = count.map_or_else(|| format!("more than {MAX_FIELDS}"), |c| c.to_string());
+    error(
+        DataErrorKind::TooManyFields,
+        Some(line),
+        format!(
+            "the row has {count} fields; expected at most {MAX_FIELDS} (rows of a time and a value, one row per line)"
+        ),
+    )
 }
 
 /// All non-blank records, each with the line of the original text it starts on.
 fn read_records(text: &str, delimiter: u8) -> Result<Vec<Record>, DataError> {
-    let lines = LineIndex::new(text);
-    let mut reader = csv::ReaderBuilder::new()
-        .has_headers(false)
-        .flexible(true)
-        .delimiter(delimiter)
-        .from_reader(text.as_bytes());
+    let mut reader = RecordReader::new(text, delimiter);
     let mut records = Vec::new();
-    for rec in reader.byte_records() {
-        let rec = rec.map_err(|e| {
-            let line = e.position().map(|p| lines.record_line(p));
-            error(
-                DataErrorKind::Malformed,
-                line,
-                format!("cannot read the text as delimited fields: {e}"),
-            )
-        })?;
+    while let Some((line, rec)) = reader.next()? {
         // Fields split at an ASCII delimiter of UTF-8 text are UTF-8; lossy
         // conversion only guards against an exotic user-chosen delimiter.
         let fields: Vec<String> = rec
             .iter()
             .map(|f| String::from_utf8_lossy(f).into_owned())
             .collect();
-        // Rows of empty cells (`,,`) are what spreadsheets export for blank rows.
-        if fields.iter().all(|f| f.trim().is_empty()) {
-            continue;
-        }
-        let line = rec.position().map_or(0, |p| lines.record_line(p));
         records.push(Record { line, fields });
     }
     Ok(records)
 }
 
-/// Byte offsets of the line breaks of a text, to turn a record's position
-/// into its line.
+/// Most fields one record may have. A record is read whole before its
+/// fields can be counted, so this bounds what one line can cost (a line of
+/// 25 million fields is refused after reading it, in memory of the order
+/// of its own length, instead of growing a list of 25 million names).
+pub(crate) const MAX_FIELDS: usize = 100_000;
+
+/// The non-blank records of a text one at a time, each with the line it
+/// starts on, in one reused buffer: memory for one record, not for all.
+struct RecordReader<'a> {
+    reader: csv::Reader<&'a [u8]>,
+    record: csv::ByteRecord,
+    lines: LineCounter<'a>,
+}
+
+impl<'a> RecordReader<'a> {
+    fn new(text: &'a str, delimiter: u8) -> Self {
+        RecordReader {
+            reader: csv::ReaderBuilder::new()
+                .has_headers(false)
+                .flexible(true)
+                .delimiter(delimiter)
+                .from_reader(text.as_bytes()),
+            record: csv::ByteRecord::new(),
+            lines: LineCounter::new(text),
+        }
+    }
+
+    /// The next record with a non-blank field, and its line; `None` at the
+    /// end of the text.
+    fn next(&mut self) -> Result<Option<(usize, &csv::ByteRecord)>, DataError> {
+        loop {
+            let more = self
+                .reader
+                .read_byte_record(&mut self.record)
+                .map_err(|e| {
+                    let line = e.position().map(|p| self.lines.record_line(p));
+                    error(
+                        DataErrorKind::Malformed,
+                        line,
+                        format!("cannot read the text as delimited fields: {e}"),
+                    )
+                })?;
+            if !more {
+                return Ok(None);
+            }
+            // Rows of empty cells (`,,`) are what spreadsheets export for blank rows.
+            if self
+                .record
+                .iter()
+                .all(|f| String::from_utf8_lossy(f).trim().is_empty())
+            {
+                continue;
+            }
+            let line = self
+                .record
+                .position()
+                .map_or(0, |p| self.lines.record_line(p));
+            if self.record.len() > MAX_FIELDS {
+                return Err(too_many_fields(line, Some(self.record.len())));
+            }
+            return Ok(Some((line, &self.record)));
+        }
+    }
+}
+
+/// Turns a record's position into its line, counting line breaks forwards
+/// from the last position asked about (records come in order), so that no
+/// index of the text's lines is kept.
 ///
 /// csv's own `Position::line()` is not usable as it is: a record's position
 /// is where the reader stood *before* it skipped the blank lines (and the
 /// `\n` of a `\r\n`) in front of the record, so it names an earlier line.
 /// Its byte offset is off the same way, but what was skipped is only line
 /// ends, so stepping over them from there finds the record's first byte.
-struct LineIndex<'a> {
+/// Line breaks are `\n`, and `\r` not followed by `\n` (old Mac line ends,
+/// which csv also treats as record ends).
+struct LineCounter<'a> {
     text: &'a [u8],
-    /// Offsets of `\n`, and of a `\r` not followed by `\n` (old Mac line ends,
-    /// which csv also treats as record ends).
-    breaks: Vec<usize>,
+    /// Offset up to which breaks were counted, and how many there were.
+    at: usize,
+    breaks: usize,
 }
 
-impl<'a> LineIndex<'a> {
+impl<'a> LineCounter<'a> {
     fn new(text: &'a str) -> Self {
-        let text = text.as_bytes();
-        let breaks = text
-            .iter()
-            .enumerate()
-            .filter(|&(i, &b)| b == b'\n' || (b == b'\r' && text.get(i + 1) != Some(&b'\n')))
-            .map(|(i, _)| i)
-            .collect();
-        LineIndex { text, breaks }
+        LineCounter {
+            text: text.as_bytes(),
+            at: 0,
+            breaks: 0,
+        }
     }
 
     /// 1-based line of the first byte of the record csv reports at `pos`.
-    fn record_line(&self, pos: &csv::Position) -> usize {
+    fn record_line(&mut self, pos: &csv::Position) -> usize {
         let mut at = usize::try_from(pos.byte()).unwrap_or(usize::MAX);
         while matches!(self.text.get(at), Some(b'\r' | b'\n')) {
             at += 1;
         }
-        1 + self.breaks.partition_point(|&b| b < at)
+        let at = at.min(self.text.len());
+        if at < self.at {
+            // Asked about an earlier position: count again from the start.
+            self.at = 0;
+            self.breaks = 0;
+        }
+        let text = self.text;
+        self.breaks += text[self.at..at]
+            .iter()
+            .enumerate()
+            .filter(|&(i, &b)| {
+                b == b'\n' || (b == b'\r' && text.get(self.at + i + 1) != Some(&b'\n'))
+            })
+            .count();
+        self.at = at;
+        1 + self.breaks
     }
 }
 
@@ -771,14 +1048,14 @@ fn delimiter_hint(d: u8, given: bool) -> String {
 /// conflict is an error, and with no decisive vote semicolon-separated text
 /// (the export of locales that write decimal commas) reads a comma, the
 /// rest a point.
-fn decide_decimal(rows: &[Row], kind: TimeKind, delimiter: u8) -> Result<Decimal, DataError> {
+fn decide_decimal(rows: &Rows, kind: TimeKind, delimiter: u8) -> Result<Decimal, DataError> {
     if delimiter == b',' {
         return Ok(Decimal::Point);
     }
     // (count, first line, first field) per convention
-    let mut point: (usize, usize, &str) = (0, 0, "");
-    let mut comma: (usize, usize, &str) = (0, 0, "");
-    for row in rows {
+    let mut point: (usize, usize, String) = (0, 0, String::new());
+    let mut comma: (usize, usize, String) = (0, 0, String::new());
+    rows.try_for_each(|row| {
         let fields = if kind == TimeKind::Number {
             [Some(row.time), Some(row.value)]
         } else {
@@ -791,11 +1068,12 @@ fn decide_decimal(rows: &[Row], kind: TimeKind, delimiter: u8) -> Result<Decimal
                 None => continue,
             };
             if tally.0 == 0 {
-                *tally = (0, row.line, f.trim());
+                *tally = (0, row.line, f.trim().to_string());
             }
             tally.0 += 1;
         }
-    }
+        Ok(())
+    })?;
     match (point.0, comma.0) {
         (0, 0) if delimiter == b';' => Ok(Decimal::Comma),
         (0, 0) => Ok(Decimal::Point),
@@ -813,12 +1091,12 @@ fn decide_decimal(rows: &[Row], kind: TimeKind, delimiter: u8) -> Result<Decimal
                 Some(minority.1),
                 format!(
                     "{} is written with {}, but the text mixes conventions: {} number{} with {} (e.g. {} on line {}), {} with {}; expected one convention for the whole text",
-                    quote(minority.2),
+                    quote(&minority.2),
                     dec.describe(),
                     majority.0,
                     if majority.0 == 1 { "" } else { "s" },
                     dec.other().describe(),
-                    quote(majority.2),
+                    quote(&majority.2),
                     majority.1,
                     minority.0,
                     dec.describe()

@@ -367,6 +367,20 @@ impl LeastSquares for CurveProblem<'_> {
     fn residuals_and_jacobian(&self, x: &[f64], res: &mut [f64], jac: &mut DMatrix<f64>) -> bool {
         self.fill(x, res, jac)
     }
+    /// Row blocks for the plain residual scale (increments and logs are
+    /// formed over the whole series).
+    fn streams(&self) -> bool {
+        self.scale == Scale::default()
+    }
+    fn rows_and_jacobian(
+        &self,
+        x: &[f64],
+        rows: std::ops::Range<usize>,
+        res: &mut [f64],
+        jac: &mut [f64],
+    ) -> bool {
+        self.streams() && self.fill_rows(x, rows, res, jac)
+    }
 }
 
 impl CurveProblem<'_> {
@@ -376,32 +390,58 @@ impl CurveProblem<'_> {
         if self.scale != Scale::default() {
             return self.fill_scaled(x, res, jac);
         }
+        self.fill_rows(x, 0..self.t.len(), res, jac.as_mut_slice())
+    }
+
+    /// [`CurveProblem::fill`] for the rows `rows` only (plain scale): `res`
+    /// and the column-major `jac` have `rows.len()` rows.
+    fn fill_rows(
+        &self,
+        x: &[f64],
+        rows: std::ops::Range<usize>,
+        res: &mut [f64],
+        jac: &mut [f64],
+    ) -> bool {
         #[cfg(target_arch = "x86_64")]
         if std::is_x86_feature_detected!("avx2") {
             // SAFETY: the processor supports AVX2, checked just above.
-            return unsafe { self.fill_avx2(x, res, jac) };
+            return unsafe { self.fill_avx2(x, rows, res, jac) };
         }
-        self.fill_any(x, res, jac)
+        self.fill_any(x, rows, res, jac)
     }
 
-    /// [`CurveProblem::fill`] compiled for AVX2 (see the crate docs).
+    /// [`CurveProblem::fill_rows`] compiled for AVX2 (see the crate docs).
     #[cfg(target_arch = "x86_64")]
     #[target_feature(enable = "avx2")]
-    fn fill_avx2(&self, x: &[f64], res: &mut [f64], jac: &mut DMatrix<f64>) -> bool {
-        self.fill_any(x, res, jac)
+    fn fill_avx2(
+        &self,
+        x: &[f64],
+        rows: std::ops::Range<usize>,
+        res: &mut [f64],
+        jac: &mut [f64],
+    ) -> bool {
+        self.fill_any(x, rows, res, jac)
     }
 
     #[inline(always)]
-    fn fill_any(&self, x: &[f64], res: &mut [f64], jac: &mut DMatrix<f64>) -> bool {
+    fn fill_any(
+        &self,
+        x: &[f64],
+        range: std::ops::Range<usize>,
+        res: &mut [f64],
+        jac: &mut [f64],
+    ) -> bool {
         let c = self.curve(x);
-        let m = self.t.len();
+        let (t, y) = (&self.t[range.clone()], &self.y[range.clone()]);
+        let sqrt_w = self.sqrt_w.as_ref().map(|w| &w[range]);
+        let m = t.len();
         // The Jacobian's column of each free parameter, by parameter index
         // (`free` is ascending); the derivatives of fixed parameters go to
         // `spare`, allocated only when some parameter is fixed.
         let np = self.base.len();
         let mut spare = vec![0.0; m * (np - self.free.len())];
         let mut cols: [&mut [f64]; MAX_PARAMS] = Default::default();
-        let (mut rest, mut spare_rest) = (jac.as_mut_slice(), spare.as_mut_slice());
+        let (mut rest, mut spare_rest) = (jac, spare.as_mut_slice());
         for (j, col) in cols.iter_mut().enumerate().take(np) {
             let from = if self.free.contains(&j) {
                 &mut rest
@@ -432,12 +472,12 @@ impl CurveProblem<'_> {
                 ]
             };
             let r = &mut res[start..end];
-            c.eval_block::<true>(&self.t[start..end], r, g, &mut scratch);
-            let y = &self.y[start..end];
+            c.eval_block::<true>(&t[start..end], r, g, &mut scratch);
+            let y = &y[start..end];
             // OR-ing `nonfinite_bits` tests the block without a branch, so
             // that the loop vectorises.
             let mut nonfinite = 0u64;
-            match &self.sqrt_w {
+            match sqrt_w {
                 None => {
                     for (ri, yi) in r.iter_mut().zip(y) {
                         let e = yi - *ri;
@@ -1481,9 +1521,9 @@ mod avx2_tests {
                     DMatrix::zeros(77, free.len()),
                     DMatrix::zeros(77, free.len()),
                 );
-                let ok1 = problem.fill_any(&x, &mut r1, &mut j1);
+                let ok1 = problem.fill_any(&x, 0..77, &mut r1, j1.as_mut_slice());
                 // SAFETY: AVX2 is available (checked at the top).
-                let ok2 = unsafe { problem.fill_avx2(&x, &mut r2, &mut j2) };
+                let ok2 = unsafe { problem.fill_avx2(&x, 0..77, &mut r2, j2.as_mut_slice()) };
                 assert_eq!(ok1, ok2, "{}", model.name());
                 let bits = |v: &[f64]| v.iter().map(|x| x.to_bits()).collect::<Vec<_>>();
                 assert_eq!(bits(&r1), bits(&r2), "{} residuals", model.name());

@@ -133,7 +133,7 @@ fn criterion_median_ns(root: &Path, id: &str) -> Result<f64> {
 }
 
 /// The venv's python, creating `.venv` from `requirements.txt` if missing.
-fn ensure_venv(root: &Path) -> Result<PathBuf> {
+pub(crate) fn ensure_venv(root: &Path) -> Result<PathBuf> {
     let venv = root.join(".venv");
     let bin = |name: &str| {
         if cfg!(windows) {

@@ -7,6 +7,7 @@
 
 mod bench_batch;
 mod bench_vs_scipy;
+mod bench_whole_process;
 mod ci;
 mod demo_data;
 mod dist;
@@ -55,6 +56,11 @@ const TASKS: &[Task] = &[
         about: "plateau batch on a generated file of N 50-point series (default 100000): time and peak RSS",
     },
     Task {
+        name: "bench-whole-process",
+        usage: "[--points N] [--runs R]",
+        about: "plateau fit against tests/reference/whole_process_scipy.py on an N-point CSV, whole process, median ratio",
+    },
+    Task {
         name: "help",
         usage: "",
         about: "list the tasks",
@@ -88,6 +94,7 @@ fn dispatch(args: &[String]) -> anyhow::Result<()> {
         "demo-data" => demo_data::run(rest),
         "bench-vs-scipy" => bench_vs_scipy::run(rest),
         "bench-batch" => bench_batch::run(rest),
+        "bench-whole-process" => bench_whole_process::run(rest),
         other => {
             help();
             anyhow::bail!("unknown task `{other}`")

@@ -26,7 +26,7 @@
 use super::{
     build_series, decide_decimal, delimiter_hint, detect_delimiter, error, is_missing,
     looks_like_header, quote, read_records, read_text, time, DataError, DataErrorKind, Meta,
-    Record, Row, Series,
+    Record, Row, Rows, Series,
 };
 use crate::warning::{Warning, WarningCode};
 use serde::Serialize;
@@ -290,7 +290,7 @@ fn parse_wide(
     let all: Vec<Row> = rows.iter().flatten().copied().collect();
     let kind =
         time::detect(all[0].time).ok_or_else(|| super::bad_time(&all[0], None, &time_name))?;
-    let dec = decide_decimal(&all, kind, delimiter)?;
+    let dec = decide_decimal(&Rows::Slice(&all), kind, delimiter)?;
 
     let mut series = Vec::new();
     let mut warnings = Vec::new();
@@ -315,7 +315,7 @@ fn parse_wide(
             delimiter,
             value_col: c,
         };
-        let mut s = build_series(&rows[c], &skipped[c], meta, Some(dec))
+        let mut s = build_series(&Rows::Slice(&rows[c]), &skipped[c], meta, Some(dec))
             .map_err(|e| name_error(name, e))?;
         name_warnings(name, &mut s);
         warnings.extend(s.warnings.iter().cloned());
@@ -662,7 +662,7 @@ impl PendingSeries {
                 ),
             )));
         }
-        match build_series(&rows, &g.skipped, meta, None) {
+        match build_series(&Rows::Slice(&rows), &g.skipped, meta, None) {
             Ok(mut s) => {
                 name_warnings(&g.name, &mut s);
                 Ok(NamedSeries {

@@ -694,3 +694,48 @@ fn decline_warning_tells_counts_from_totals() {
     let s = parse_series(plateau, &ParseOptions::default()).unwrap();
     assert!(decline_warning(&s).is_none());
 }
+
+/// A line of far more fields than any series file has (a whole series
+/// pasted as one row) is refused with its line and the count, not turned
+/// into a list of that many column names.
+#[test]
+fn a_row_of_too_many_fields_is_refused_with_its_line() {
+    let wide: Vec<String> = (0..=MAX_FIELDS).map(|i| i.to_string()).collect();
+    let text = format!("t,value\n1,5\n\n{}\n3,7\n", wide.join(","));
+    let e = err(&text);
+    assert_eq!(e.kind, DataErrorKind::TooManyFields);
+    assert_eq!(e.line, Some(4));
+    assert!(
+        e.message
+            .contains(&format!("more than {MAX_FIELDS} fields")),
+        "{}",
+        e.message
+    );
+    // At the limit the row is read (and its first two fields are the row).
+    let at = format!("t,value\n1,5\n{}\n", wide[..MAX_FIELDS].join(","));
+    assert_eq!(ok(&at).times, vec![1.0, 0.0]);
+}
+
+/// Line numbers are counted forwards through blank lines, `\r\n` and old
+/// Mac `\r` line ends without an index of the text's lines.
+#[test]
+fn lines_are_counted_through_every_line_end() {
+    let s = ok("t,value\r\n\r\n1,5\r2,6\n\n\n3,7\r\n4,8");
+    assert_eq!(s.lines, vec![3, 4, 7, 8]);
+}
+
+/// The field count before reading follows CSV quoting: delimiters inside a
+/// quoted field (with `""` in it) are not fields, and a stray quote inside
+/// a field (12" for inches) opens nothing, so later lines are not taken
+/// for one long record.
+#[test]
+fn field_count_check_follows_quoting() {
+    let inside = format!("t,value\n1,\"a\"\"{}\"\n", ",".repeat(MAX_FIELDS + 5));
+    assert!(check_field_counts(&inside, b',').is_ok());
+    let mut stray = String::from("t,value,note\n1,5,12\" ok\n");
+    for i in 2..(MAX_FIELDS / 2) {
+        stray.push_str(&format!("{i},5,x\n"));
+    }
+    assert!(check_field_counts(&stray, b',').is_ok());
+    assert_eq!(ok(&stray).times.len(), MAX_FIELDS / 2 - 1);
+}

@@ -691,6 +691,14 @@ fn solve(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<Solved
     };
     let solver = opts.solver.clone().unwrap_or_default();
     let free: Vec<usize> = (0..np).filter(|j| fixed[*j].is_none()).collect();
+    // With held parameters: a small deterministic multi-start from starts
+    // that honour the held values (see `start_held`), the lowest minimum kept.
+    let held = fixed.iter().any(Option::is_some) && !free.is_empty();
+    let starts = if held {
+        with_held_starts(model, tt, y, opts.weights.as_deref(), &fixed, starts)
+    } else {
+        starts
+    };
     let mut best: Option<(crate::solver::Outcome, Vec<f64>, Vec<f64>)> = None;
     let mut r = Vec::new();
     let mut queue: std::collections::VecDeque<Vec<f64>> = starts.into();
@@ -714,6 +722,7 @@ fn solve(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<Solved
         };
         let better = match &best {
             None => true,
+            Some((b, _, _)) if held => lower_minimum(&out, b),
             Some((b, _, _)) => {
                 out.rss.is_finite()
                     && (!b.rss.is_finite()
@@ -742,6 +751,27 @@ fn solve(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<Solved
     let Some((mut outcome, mut p, mut r)) = best else {
         return Err(error(FitErrorKind::NoStart, "no starting values"));
     };
+    if held && !outcome.converged() && outcome.rss.is_finite() {
+        // The lowest point reached did not converge: once more from there.
+        let problem = CurveProblem {
+            model,
+            t: tt,
+            y: &target,
+            sqrt_w: sqrt_w.clone(),
+            base: p.clone(),
+            free: free.clone(),
+            scale,
+        };
+        let x0: Vec<f64> = free.iter().map(|&j| p[j]).collect();
+        let mut r2 = Vec::new();
+        let mut out = solver.minimize_factored(&problem, &x0, &mut r2);
+        if lower_minimum(&out, &outcome) {
+            out.iterations += outcome.iterations;
+            p = problem.full(&out.x);
+            outcome = out;
+            r = r2;
+        }
+    }
     // The bi-logistic's two pulses can be swapped without changing the
     // curve; report the earlier one as pulse 1. The swapped vector is a
     // minimum too, so re-solving from it converges at once and gives the
@@ -842,6 +872,48 @@ fn solve(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<Solved
         scale,
         loglik_extra,
     })
+}
+
+/// Starts tried from the held-value grid (see [`start_held`]).
+const HELD_STARTS: usize = 3;
+
+/// The self-starts for a fit with held parameters plus up to
+/// [`HELD_STARTS`] from the held-value grid; the grid's first when a shape
+/// parameter (not only a level) is held, as the self-start ignores those.
+fn with_held_starts(
+    model: Model,
+    t: &[f64],
+    y: &[f64],
+    w: Option<&[f64]>,
+    fixed: &[Option<f64>],
+    starts: Vec<Vec<f64>>,
+) -> Vec<Vec<f64>> {
+    let grid = start_held::held_starts(model, t, y, w, fixed, HELD_STARTS);
+    let names = model.param_names();
+    let shape_held = fixed
+        .iter()
+        .zip(names)
+        .any(|(f, n)| f.is_some() && !matches!(*n, "K" | "L" | "m"));
+    if shape_held {
+        grid.into_iter().chain(starts).collect()
+    } else {
+        starts.into_iter().chain(grid).collect()
+    }
+}
+
+/// Whether `out` is a lower minimum than `best`: a lower sum of squares
+/// (beyond rounding), or the same one with convergence where `best` has
+/// none. A converged point is never preferred over a clearly lower one,
+/// which a multi-start would report instead.
+fn lower_minimum(out: &crate::solver::Outcome, best: &crate::solver::Outcome) -> bool {
+    if !out.rss.is_finite() {
+        return false;
+    }
+    if !best.rss.is_finite() {
+        return true;
+    }
+    let tie = 1e-10 * best.rss.abs();
+    out.rss < best.rss - tie || (out.rss <= best.rss + tie && out.converged() && !best.converged())
 }
 
 /// Rounds of reweighting for the relative and count error models, and the
@@ -1431,6 +1503,7 @@ fn diagnose(fit: &mut Fit, t: &[f64], y: &[f64]) {
 }
 
 mod profile;
+mod start_held;
 
 #[cfg(test)]
 mod tests;

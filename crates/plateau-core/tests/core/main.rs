@@ -6,6 +6,7 @@ mod bass;
 mod bilogistic;
 mod bootstrap_calibration;
 mod calibration;
+mod constrained;
 mod diagnostics;
 mod error_models;
 mod multi;

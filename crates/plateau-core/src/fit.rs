@@ -338,9 +338,7 @@ impl LeastSquares for CurveProblem<'_> {
     }
     fn feasible(&self, x: &[f64]) -> bool {
         let doms = self.model.domains();
-        x.iter()
-            .zip(&self.free)
-            .all(|(v, &j)| v.is_finite() && (doms[j] == Domain::Real || *v > 0.0))
+        x.iter().zip(&self.free).all(|(v, &j)| doms[j].contains(*v))
     }
     fn residuals(&self, x: &[f64], res: &mut [f64]) -> bool {
         if self.scale != Scale::default() {
@@ -576,6 +574,8 @@ struct Solved {
     scale: Scale,
     /// Added to the Gaussian log-likelihood (see [`stats::criteria_with`]).
     loglik_extra: f64,
+    /// Warnings the solve itself found (Richards' ν at an edge).
+    notes: Vec<Warning>,
 }
 
 /// Validates the inputs, self-starts and minimises from every start;
@@ -849,6 +849,24 @@ fn solve(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<Solved
         (None, true) => -target.iter().sum::<f64>(),
         (None, false) => 0.0,
     };
+    let mut notes = Vec::new();
+    if model == Model::Richards && fixed[3].is_none() && outcome.rss.is_finite() {
+        let problem = CurveProblem {
+            model,
+            t: tt,
+            y: &target,
+            sqrt_w: sqrt_w.clone(),
+            base: p.clone(),
+            free: free.clone(),
+            scale,
+        };
+        if let Some((out, r2)) = richards_gompertz_limit(&problem, &solver, &p, &outcome) {
+            p = problem.full(&out.x);
+            outcome = out;
+            r = r2;
+        }
+        notes = richards_notes(&p);
+    }
     if outcome.termination == Termination::InvalidStart || !outcome.rss.is_finite() {
         return Err(error(
             FitErrorKind::Failed,
@@ -871,7 +889,81 @@ fn solve(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<Solved
         sqrt_w,
         scale,
         loglik_extra,
+        notes,
     })
+}
+
+/// Below this |ν| a Richards fit is at its Gompertz limit (see
+/// [`richards_gompertz_limit`]).
+pub const NU_GOMPERTZ_LIMIT: f64 = 1e-6;
+
+/// A Richards fit that ended with `|ν| < NU_GOMPERTZ_LIMIT`: there the
+/// solver's steps in K, r and t0 can stall while ν creeps towards 0, so
+/// the Gompertz curve (the ν → 0 limit) is fitted on the same problem from
+/// the Richards estimate, and the Richards fit solved again from that
+/// limit at `ν = 0` (where the curve and its ν-derivative `y u²/2` are
+/// defined), so that K, r and t0 are at their minimum. Returns the new
+/// outcome and factor when it is at least as low as `outcome`.
+fn richards_gompertz_limit(
+    problem: &CurveProblem<'_>,
+    solver: &Solver,
+    p: &[f64],
+    outcome: &crate::solver::Outcome,
+) -> Option<(crate::solver::Outcome, Vec<f64>)> {
+    if p[3].abs() >= NU_GOMPERTZ_LIMIT {
+        return None;
+    }
+    let free3: Vec<usize> = problem.free.iter().copied().filter(|&j| j < 3).collect();
+    let mut limit = p.to_vec();
+    limit[3] = 0.0;
+    if !free3.is_empty() {
+        let gompertz = CurveProblem {
+            model: Model::Gompertz,
+            t: problem.t,
+            y: problem.y,
+            sqrt_w: problem.sqrt_w.clone(),
+            base: p[..3].to_vec(),
+            free: free3.clone(),
+            scale: problem.scale,
+        };
+        let x0: Vec<f64> = free3.iter().map(|&j| p[j]).collect();
+        let g = solver.minimize(&gompertz, &x0);
+        if g.rss.is_finite() {
+            limit[..3].copy_from_slice(&gompertz.full(&g.x));
+        }
+    }
+    let x0: Vec<f64> = problem.free.iter().map(|&j| limit[j]).collect();
+    let mut r = Vec::new();
+    let mut out = solver.minimize_factored(problem, &x0, &mut r);
+    if !(out.rss.is_finite() && out.rss <= outcome.rss * (1.0 + 1e-12)) {
+        return None;
+    }
+    out.iterations += outcome.iterations;
+    Some((out, r))
+}
+
+/// Warnings about where a Richards fit's ν ended: at the Gompertz limit
+/// (`gompertz_limit`), or at an edge of its range (`parameter_at_bound`:
+/// within 1e-3 of −1, or above 1e3).
+fn richards_notes(p: &[f64]) -> Vec<Warning> {
+    let nu = p[3];
+    let mut w = Vec::new();
+    if nu.abs() < NU_GOMPERTZ_LIMIT {
+        w.push(Warning::new(
+            WarningCode::GompertzLimit,
+            format!(
+                "nu = {nu:.1e}: the best Richards curve is its Gompertz limit (nu -> 0); K, r and t0 \
+                 are refitted there and equal the Gompertz fit's, so the Gompertz model, with one \
+                 parameter fewer, says the same"
+            ),
+        ));
+    } else if !(-1.0 + 1e-3..=1e3).contains(&nu) {
+        w.push(Warning::new(
+            WarningCode::ParameterAtBound,
+            format!("nu = {nu:.6e} is at the edge of its allowed range (above -1)"),
+        ));
+    }
+    w
 }
 
 /// Starts tried from the held-value grid (see [`start_held`]).
@@ -1037,6 +1129,7 @@ fn statistics(t: &[f64], model: Model, solved: &Solved, opts: &FitOptions) -> Fi
         sqrt_w,
         scale,
         loglik_extra,
+        notes,
     } = solved;
     let (t_ref, scale) = (*t_ref, *scale);
     let mut p = p.clone();
@@ -1081,7 +1174,7 @@ fn statistics(t: &[f64], model: Model, solved: &Solved, opts: &FitOptions) -> Fi
         }
     };
     let mut covariance = cov.matrix;
-    let mut warnings = Vec::new();
+    let mut warnings = notes.clone();
 
     if t_ref != 0.0 {
         // a = a' e^(−r t_ref); Jacobian of (a', r) ↦ (a, r) for the covariance.
@@ -1181,16 +1274,20 @@ fn param_index(model: Model, name: &str) -> Result<usize, FitError> {
 }
 
 fn check_value(model: Model, j: usize, v: f64) -> Result<(), FitError> {
-    let positive = model.domains()[j] == Domain::Positive;
-    if !v.is_finite() || (positive && v <= 0.0) {
+    let domain = model.domains()[j];
+    if !domain.contains(v) {
+        let what = match domain {
+            Domain::Positive => "a finite, positive number",
+            Domain::AboveMinusOne => "a finite number greater than -1",
+            Domain::Real => "a finite number",
+        };
         return Err(error(
             FitErrorKind::InvalidValue,
             format!(
-                "{} = {} is not allowed in the {} model; expected a finite{} number",
+                "{} = {} is not allowed in the {} model; expected {what}",
                 model.param_names()[j],
                 v,
                 model.name(),
-                if positive { ", positive" } else { "" }
             ),
         ));
     }

@@ -40,7 +40,7 @@
 
 use super::{CiMethod, CurveProblem, Fit, FitOptions, Interval, Scale, Solved};
 use crate::linalg;
-use crate::model::{Domain, Model};
+use crate::model::Model;
 use crate::solver::{LeastSquares, Solver};
 use crate::stats;
 use crate::warning::{Warning, WarningCode};
@@ -100,8 +100,43 @@ struct Profiler<'a> {
 
 impl Profiler<'_> {
     /// `S(θ_j = value)` and the full parameter vector at that profile point.
+    ///
+    /// When the warm start is outside where the curve is defined (a
+    /// Richards ν < 0 held further down, where `1 + ν e^(−r (t − t0))`
+    /// turns negative at the first time), the refit starts from the best
+    /// independent start instead.
     fn at(&self, j: usize, value: f64, warm: &[f64]) -> Option<(f64, Vec<f64>)> {
-        self.refit(j, value, warm).map(|(rss, p, _)| (rss, p))
+        if let Some((rss, p, _)) = self.refit(j, value, warm) {
+            return Some((rss, p));
+        }
+        self.independent_starts(j, value)
+            .iter()
+            .filter_map(|s| self.refit(j, value, s))
+            .min_by(|a, b| a.0.total_cmp(&b.0))
+            .map(|(rss, p, _)| (rss, p))
+    }
+
+    /// Starts that honour `θ_j = value` and the fit's held values, derived
+    /// from the data alone: the held-value grid of `start_held` where the
+    /// model has one, else the model's self-start.
+    fn independent_starts(&self, j: usize, value: f64) -> Vec<Vec<f64>> {
+        let mut fixed = self.fixed.to_vec();
+        fixed[j] = Some(value);
+        let (t, y, w) = self.plain;
+        if super::start_held::supported(self.model) {
+            return super::start_held::held_starts(self.model, t, y, w, &fixed, 3);
+        }
+        if t.len() == self.t.len() && t == self.t {
+            let none = vec![None; fixed.len()];
+            let opts = FitOptions {
+                weights: w.map(<[f64]>::to_vec),
+                ..FitOptions::default()
+            };
+            if let Ok((s, _)) = super::starting_points(self.model, t, y, &fixed, &none, &opts) {
+                return s;
+            }
+        }
+        Vec::new()
     }
 
     /// [`Profiler::at`], with whether the refit converged.
@@ -146,24 +181,8 @@ impl Profiler<'_> {
         let claimed = self.rss_hat + (self.tcrit * self.s).powi(2);
         // A refit lower than this moves τ² by more than 1e-6.
         let below = claimed - 1e-6 * self.s * self.s;
-        let mut fixed = self.fixed.to_vec();
-        fixed[j] = Some(value);
-        let (t, y, w) = self.plain;
         let mut starts = vec![warm.to_vec()];
-        if super::start_held::supported(self.model) {
-            starts.extend(super::start_held::held_starts(
-                self.model, t, y, w, &fixed, 3,
-            ));
-        } else if t.len() == self.t.len() && t == self.t {
-            let none = vec![None; fixed.len()];
-            let opts = FitOptions {
-                weights: w.map(<[f64]>::to_vec),
-                ..FitOptions::default()
-            };
-            if let Ok((s, _)) = super::starting_points(self.model, t, y, &fixed, &none, &opts) {
-                starts.extend(s);
-            }
-        }
+        starts.extend(self.independent_starts(j, value));
         // The lowest refit, and whether it (or one level with it) converged.
         let mut best: Option<(f64, Vec<f64>, bool)> = None;
         for s in starts {
@@ -196,7 +215,9 @@ impl Profiler<'_> {
     /// Traces one side (`dir` = ±1) of parameter `j`.
     fn side(&self, j: usize, dir: f64, se: Option<f64>, scale: f64) -> Side {
         let name = self.model.param_names()[j];
-        let positive = self.model.domains()[j] == Domain::Positive;
+        // A parameter with a lower edge (0, or −1 for ν) approaches it by
+        // shrinking its distance from the edge.
+        let edge = self.model.domains()[j].lower_edge();
         let th = self.p_hat[j];
         let far = th + dir * WIDE * scale;
         let mut h = match se {
@@ -207,12 +228,12 @@ impl Profiler<'_> {
         let mut checks = 0;
         for _ in 0..MAX_STEPS {
             let mut b = a + dir * h;
-            if positive && dir < 0.0 {
-                if a <= TINY * th {
+            if let (Some(e), true) = (edge, dir < 0.0) {
+                if a - e <= TINY * (th - e) {
                     return Side::Open;
                 }
-                if b <= 0.25 * a {
-                    b = 0.25 * a;
+                if b - e <= 0.25 * (a - e) {
+                    b = e + 0.25 * (a - e);
                 }
             } else if (b - far) * dir >= 0.0 {
                 if a == far {
@@ -402,6 +423,8 @@ pub(super) fn apply(
         let scale = match names[j] {
             "K" | "L" | "a" => y_scale,
             "t0" => t_scale,
+            // ν may be 0 (the Gompertz limit): at least 1 there.
+            "nu" => th.abs().max(1.0),
             _ => th.abs().max(f64::MIN_POSITIVE),
         };
         let se = fit.params[j].std_error;

@@ -13,5 +13,6 @@ mod multi;
 mod nist;
 mod profile;
 mod recovery;
+mod richards;
 mod scipy;
 mod symmetry;

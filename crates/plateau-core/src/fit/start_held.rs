@@ -8,9 +8,9 @@
 //! the models whose level enters linearly — the logistic, Gompertz and
 //! Richards curves (`y = K g(t; r, t0[, ν])`) and the floor logistic
 //! (`y = K s + L (1 − s)`) — the shape parameters that are free are
-//! searched on a grid (r on a log scale over 10⁻³…10³ per time span; t0 as
-//! `r (t_c − t0)` over ±8 around the mid time `t_c`, so that it follows the
-//! held or trial r), the free level(s) solved by weighted linear least
+//! searched on a grid (r on a log scale over 10⁻³…10³ per time span, in
+//! steps of half a decade; t0 as `r (t_c − t0)` over ±8 in steps of 1
+//! around the mid time `t_c`, so that it follows the held or trial r), the free level(s) solved by weighted linear least
 //! squares at every node, and the grid's best local minima returned as
 //! starts. Held values stay as they are at every node.
 //!
@@ -24,9 +24,9 @@ use crate::model::{Curve, Model};
 /// Observations the grid evaluates (evenly spread, first and last included).
 const GRID_POINTS: usize = 64;
 /// Grid of `log10(r · span)`.
-const LOG_R: (f64, f64, usize) = (-3.0, 3.0, 25);
+const LOG_R: (f64, f64, usize) = (-3.0, 3.0, 13);
 /// Grid of `r (t_c − t0)`.
-const Z: (f64, f64, usize) = (-8.0, 8.0, 33);
+const Z: (f64, f64, usize) = (-8.0, 8.0, 17);
 
 /// Whether [`held_starts`] derives starts for `model`.
 pub(super) fn supported(model: Model) -> bool {

@@ -23,7 +23,7 @@
 //! that parameter's interval.
 
 use crate::fit::Fit;
-use crate::model::{Domain, Model};
+use crate::model::Model;
 use crate::stats::t_quantile;
 
 /// Two-sided pointwise confidence interval of the fitted mean curve at `t`.
@@ -172,6 +172,8 @@ fn fraction_time(model: Model, q: &[f64], p: f64) -> Option<f64> {
     let t = match model {
         Model::Logistic | Model::Logistic4 => t0 + (p / (1.0 - p)).ln() / r,
         Model::Gompertz => t0 - (-p.ln()).ln() / r,
+        // ν = 0 is the Gompertz limit.
+        Model::Richards if q[3] == 0.0 => t0 - (-p.ln()).ln() / r,
         Model::Richards => {
             let nu = q[3];
             // p^(−ν) − 1 = expm1(−ν ln p) keeps precision for small ν.
@@ -323,9 +325,9 @@ fn delta_interval(
             theta[j].abs().max(1.0)
         };
         let mut step = 1e-3 * scale;
-        if domains[j] == Domain::Positive {
+        if let Some(edge) = domains[j].lower_edge() {
             // Stay inside the parameter's domain on the lower side.
-            step = step.min(0.5 * theta[j].abs());
+            step = step.min(0.5 * (theta[j] - edge).abs());
         }
         if step.is_nan() || step <= 0.0 {
             return None;

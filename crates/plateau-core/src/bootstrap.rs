@@ -30,7 +30,7 @@
 //! work to do per call (the page runs slices between frames).
 
 use crate::fit::{CurveProblem, ErrorModel, Fit, Scale};
-use crate::model::{Domain, Model};
+use crate::model::Model;
 use crate::solver::{LeastSquares, Solver};
 use rand_chacha::rand_core::SeedableRng;
 use rand_chacha::ChaCha8Rng;
@@ -269,10 +269,7 @@ impl Bootstrap {
             p[0] *= (-p[1] * self.t_ref).exp();
         }
         let domains = self.model.domains();
-        let ok = p
-            .iter()
-            .zip(domains)
-            .all(|(v, d)| v.is_finite() && (*d == Domain::Real || *v > 0.0));
+        let ok = p.iter().zip(domains).all(|(v, d)| d.contains(*v));
         ok.then_some(p)
     }
 

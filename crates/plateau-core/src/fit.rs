@@ -338,9 +338,7 @@ impl LeastSquares for CurveProblem<'_> {
     }
     fn feasible(&self, x: &[f64]) -> bool {
         let doms = self.model.domains();
-        x.iter()
-            .zip(&self.free)
-            .all(|(v, &j)| v.is_finite() && (doms[j] == Domain::Real || *v > 0.0))
+        x.iter().zip(&self.free).all(|(v, &j)| doms[j].contains(*v))
     }
     fn residuals(&self, x: &[f64], res: &mut [f64]) -> bool {
         if self.scale != Scale::default() {
@@ -616,6 +614,8 @@ struct Solved {
     scale: Scale,
     /// Added to the Gaussian log-likelihood (see [`stats::criteria_with`]).
     loglik_extra: f64,
+    /// Warnings the solve itself found (Richards' ν at an edge).
+    notes: Vec<Warning>,
 }
 
 /// Validates the inputs, self-starts and minimises from every start;
@@ -731,6 +731,14 @@ fn solve(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<Solved
     };
     let solver = opts.solver.clone().unwrap_or_default();
     let free: Vec<usize> = (0..np).filter(|j| fixed[*j].is_none()).collect();
+    // With held parameters: a small deterministic multi-start from starts
+    // that honour the held values (see `start_held`), the lowest minimum kept.
+    let held = fixed.iter().any(Option::is_some) && !free.is_empty();
+    let starts = if held {
+        with_held_starts(model, tt, y, opts.weights.as_deref(), &fixed, starts)
+    } else {
+        starts
+    };
     let mut best: Option<(crate::solver::Outcome, Vec<f64>, Vec<f64>)> = None;
     let mut r = Vec::new();
     let mut queue: std::collections::VecDeque<Vec<f64>> = starts.into();
@@ -754,6 +762,7 @@ fn solve(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<Solved
         };
         let better = match &best {
             None => true,
+            Some((b, _, _)) if held => lower_minimum(&out, b),
             Some((b, _, _)) => {
                 out.rss.is_finite()
                     && (!b.rss.is_finite()
@@ -782,6 +791,27 @@ fn solve(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<Solved
     let Some((mut outcome, mut p, mut r)) = best else {
         return Err(error(FitErrorKind::NoStart, "no starting values"));
     };
+    if held && !outcome.converged() && outcome.rss.is_finite() {
+        // The lowest point reached did not converge: once more from there.
+        let problem = CurveProblem {
+            model,
+            t: tt,
+            y: &target,
+            sqrt_w: sqrt_w.clone(),
+            base: p.clone(),
+            free: free.clone(),
+            scale,
+        };
+        let x0: Vec<f64> = free.iter().map(|&j| p[j]).collect();
+        let mut r2 = Vec::new();
+        let mut out = solver.minimize_factored(&problem, &x0, &mut r2);
+        if lower_minimum(&out, &outcome) {
+            out.iterations += outcome.iterations;
+            p = problem.full(&out.x);
+            outcome = out;
+            r = r2;
+        }
+    }
     // The bi-logistic's two pulses can be swapped without changing the
     // curve; report the earlier one as pulse 1. The swapped vector is a
     // minimum too, so re-solving from it converges at once and gives the
@@ -859,6 +889,24 @@ fn solve(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<Solved
         (None, true) => -target.iter().sum::<f64>(),
         (None, false) => 0.0,
     };
+    let mut notes = Vec::new();
+    if model == Model::Richards && fixed[3].is_none() && outcome.rss.is_finite() {
+        let problem = CurveProblem {
+            model,
+            t: tt,
+            y: &target,
+            sqrt_w: sqrt_w.clone(),
+            base: p.clone(),
+            free: free.clone(),
+            scale,
+        };
+        if let Some((out, r2)) = richards_gompertz_limit(&problem, &solver, &p, &outcome) {
+            p = problem.full(&out.x);
+            outcome = out;
+            r = r2;
+        }
+        notes = richards_notes(&p);
+    }
     if outcome.termination == Termination::InvalidStart || !outcome.rss.is_finite() {
         return Err(error(
             FitErrorKind::Failed,
@@ -881,7 +929,123 @@ fn solve(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<Solved
         sqrt_w,
         scale,
         loglik_extra,
+        notes,
     })
+}
+
+/// Below this |ν| a Richards fit is at its Gompertz limit (see
+/// [`richards_gompertz_limit`]).
+pub const NU_GOMPERTZ_LIMIT: f64 = 1e-6;
+
+/// A Richards fit that ended with `|ν| < NU_GOMPERTZ_LIMIT`: there the
+/// solver's steps in K, r and t0 can stall while ν creeps towards 0, so
+/// the Gompertz curve (the ν → 0 limit) is fitted on the same problem from
+/// the Richards estimate, and the Richards fit solved again from that
+/// limit at `ν = 0` (where the curve and its ν-derivative `y u²/2` are
+/// defined), so that K, r and t0 are at their minimum. Returns the new
+/// outcome and factor when it is at least as low as `outcome`.
+fn richards_gompertz_limit(
+    problem: &CurveProblem<'_>,
+    solver: &Solver,
+    p: &[f64],
+    outcome: &crate::solver::Outcome,
+) -> Option<(crate::solver::Outcome, Vec<f64>)> {
+    if p[3].abs() >= NU_GOMPERTZ_LIMIT {
+        return None;
+    }
+    let free3: Vec<usize> = problem.free.iter().copied().filter(|&j| j < 3).collect();
+    let mut limit = p.to_vec();
+    limit[3] = 0.0;
+    if !free3.is_empty() {
+        let gompertz = CurveProblem {
+            model: Model::Gompertz,
+            t: problem.t,
+            y: problem.y,
+            sqrt_w: problem.sqrt_w.clone(),
+            base: p[..3].to_vec(),
+            free: free3.clone(),
+            scale: problem.scale,
+        };
+        let x0: Vec<f64> = free3.iter().map(|&j| p[j]).collect();
+        let g = solver.minimize(&gompertz, &x0);
+        if g.rss.is_finite() {
+            limit[..3].copy_from_slice(&gompertz.full(&g.x));
+        }
+    }
+    let x0: Vec<f64> = problem.free.iter().map(|&j| limit[j]).collect();
+    let mut r = Vec::new();
+    let mut out = solver.minimize_factored(problem, &x0, &mut r);
+    if !(out.rss.is_finite() && out.rss <= outcome.rss * (1.0 + 1e-12)) {
+        return None;
+    }
+    out.iterations += outcome.iterations;
+    Some((out, r))
+}
+
+/// Warnings about where a Richards fit's ν ended: at the Gompertz limit
+/// (`gompertz_limit`), or at an edge of its range (`parameter_at_bound`:
+/// within 1e-3 of −1, or above 1e3).
+fn richards_notes(p: &[f64]) -> Vec<Warning> {
+    let nu = p[3];
+    let mut w = Vec::new();
+    if nu.abs() < NU_GOMPERTZ_LIMIT {
+        w.push(Warning::new(
+            WarningCode::GompertzLimit,
+            format!(
+                "nu = {nu:.1e}: the best Richards curve is its Gompertz limit (nu -> 0); K, r and t0 \
+                 are refitted there and equal the Gompertz fit's, so the Gompertz model, with one \
+                 parameter fewer, says the same"
+            ),
+        ));
+    } else if !(-1.0 + 1e-3..=1e3).contains(&nu) {
+        w.push(Warning::new(
+            WarningCode::ParameterAtBound,
+            format!("nu = {nu:.6e} is at the edge of its allowed range (above -1)"),
+        ));
+    }
+    w
+}
+
+/// Starts tried from the held-value grid (see [`start_held`]).
+const HELD_STARTS: usize = 3;
+
+/// The self-starts for a fit with held parameters plus up to
+/// [`HELD_STARTS`] from the held-value grid; the grid's first when a shape
+/// parameter (not only a level) is held, as the self-start ignores those.
+fn with_held_starts(
+    model: Model,
+    t: &[f64],
+    y: &[f64],
+    w: Option<&[f64]>,
+    fixed: &[Option<f64>],
+    starts: Vec<Vec<f64>>,
+) -> Vec<Vec<f64>> {
+    let grid = start_held::held_starts(model, t, y, w, fixed, HELD_STARTS);
+    let names = model.param_names();
+    let shape_held = fixed
+        .iter()
+        .zip(names)
+        .any(|(f, n)| f.is_some() && !matches!(*n, "K" | "L" | "m"));
+    if shape_held {
+        grid.into_iter().chain(starts).collect()
+    } else {
+        starts.into_iter().chain(grid).collect()
+    }
+}
+
+/// Whether `out` is a lower minimum than `best`: a lower sum of squares
+/// (beyond rounding), or the same one with convergence where `best` has
+/// none. A converged point is never preferred over a clearly lower one,
+/// which a multi-start would report instead.
+fn lower_minimum(out: &crate::solver::Outcome, best: &crate::solver::Outcome) -> bool {
+    if !out.rss.is_finite() {
+        return false;
+    }
+    if !best.rss.is_finite() {
+        return true;
+    }
+    let tie = 1e-10 * best.rss.abs();
+    out.rss < best.rss - tie || (out.rss <= best.rss + tie && out.converged() && !best.converged())
 }
 
 /// Rounds of reweighting for the relative and count error models, and the
@@ -1005,6 +1169,7 @@ fn statistics(t: &[f64], model: Model, solved: &Solved, opts: &FitOptions) -> Fi
         sqrt_w,
         scale,
         loglik_extra,
+        notes,
     } = solved;
     let (t_ref, scale) = (*t_ref, *scale);
     let mut p = p.clone();
@@ -1049,7 +1214,7 @@ fn statistics(t: &[f64], model: Model, solved: &Solved, opts: &FitOptions) -> Fi
         }
     };
     let mut covariance = cov.matrix;
-    let mut warnings = Vec::new();
+    let mut warnings = notes.clone();
 
     if t_ref != 0.0 {
         // a = a' e^(−r t_ref); Jacobian of (a', r) ↦ (a, r) for the covariance.
@@ -1149,16 +1314,20 @@ fn param_index(model: Model, name: &str) -> Result<usize, FitError> {
 }
 
 fn check_value(model: Model, j: usize, v: f64) -> Result<(), FitError> {
-    let positive = model.domains()[j] == Domain::Positive;
-    if !v.is_finite() || (positive && v <= 0.0) {
+    let domain = model.domains()[j];
+    if !domain.contains(v) {
+        let what = match domain {
+            Domain::Positive => "a finite, positive number",
+            Domain::AboveMinusOne => "a finite number greater than -1",
+            Domain::Real => "a finite number",
+        };
         return Err(error(
             FitErrorKind::InvalidValue,
             format!(
-                "{} = {} is not allowed in the {} model; expected a finite{} number",
+                "{} = {} is not allowed in the {} model; expected {what}",
                 model.param_names()[j],
                 v,
                 model.name(),
-                if positive { ", positive" } else { "" }
             ),
         ));
     }
@@ -1471,6 +1640,7 @@ fn diagnose(fit: &mut Fit, t: &[f64], y: &[f64]) {
 }
 
 mod profile;
+mod start_held;
 
 #[cfg(test)]
 mod tests;

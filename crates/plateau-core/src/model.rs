@@ -30,6 +30,17 @@ use serde::Serialize;
 /// the Gompertz and Richards curves t0 is the inflection time
 /// (`y(t0) = K/e` and `K (1 + ν)^(−1/ν)`).
 ///
+/// **Richards' ν** ranges over `ν > −1`: `ν = 1` is the logistic, `ν → 0`
+/// the Gompertz curve (the limit `(1 + ν u)^(−1/ν) → e^(−u)`, which the
+/// curve takes at `ν = 0` exactly, with `∂y/∂ν = y u²/2` there), and
+/// `−1 < ν < 0` the curves between the Gompertz and von Bertalanffy-type
+/// growth (t0 is still the inflection: `d²y/dt² = 0` where
+/// `e^(−r (t − t0)) = 1` for every `ν > −1`). For `ν < 0` the curve is
+/// defined only where `B = 1 + ν e^(−r (t − t0)) > 0`, that is for
+/// `t > t0 + ln(−ν) / r` ([`Model::defined_from`]); it is not a number
+/// (NaN) before. As `B` grows with t, a fit whose first observation lies in
+/// the defined range is defined at every later time too.
+///
 /// **Bass diffusion** (Bass 1969): cumulative adopters out of a market of
 /// `m`, with innovation coefficient `p`, imitation coefficient `q` and
 /// launch time `tau`:
@@ -72,6 +83,24 @@ pub enum Model {
 pub enum Domain {
     Positive,
     Real,
+    /// Strictly above −1 (Richards' ν; see [`Model`]).
+    AboveMinusOne,
+}
+
+impl Domain {
+    /// The open lower edge of the range, if any: 0 or −1.
+    pub fn lower_edge(self) -> Option<f64> {
+        match self {
+            Domain::Positive => Some(0.0),
+            Domain::AboveMinusOne => Some(-1.0),
+            Domain::Real => None,
+        }
+    }
+
+    /// Whether `v` is a finite value inside the range.
+    pub fn contains(self, v: f64) -> bool {
+        v.is_finite() && self.lower_edge().is_none_or(|e| v > e)
+    }
 }
 
 impl Model {
@@ -163,18 +192,25 @@ impl Model {
     /// The allowed range of each parameter, in `param_names` order.
     ///
     /// K and r are positive for the saturating models (growth towards an
-    /// upper level), ν is positive by the Richards form's definition; the
+    /// upper level), Richards' ν is above −1 (see [`Model`]); the
     /// exponential's `a` and `r` are free so that decline can be fitted.
     pub fn domains(self) -> &'static [Domain] {
         use Domain::*;
         match self {
             Model::Logistic | Model::Gompertz => &[Positive, Positive, Real],
             Model::Logistic4 => &[Positive, Positive, Real, Real],
-            Model::Richards => &[Positive, Positive, Real, Positive],
+            Model::Richards => &[Positive, Positive, Real, AboveMinusOne],
             Model::Exponential => &[Real, Real],
             Model::Bass => &[Positive, Positive, Positive, Real],
             Model::Bilogistic => &[Positive, Positive, Real, Positive, Positive, Real],
         }
+    }
+
+    /// The earliest time at which the curve is defined: `t0 + ln(−ν) / r`
+    /// for a Richards curve with `ν < 0` (before it `1 + ν e^(−r (t − t0))
+    /// ≤ 0`); `None` when the curve is defined at every time.
+    pub fn defined_from(self, p: &[f64]) -> Option<f64> {
+        (self == Model::Richards && p[3] < 0.0).then(|| p[2] + (-p[3]).ln() / p[1])
     }
 
     /// Whether the model has a saturation level (K, Bass's m, or K1 + K2).
@@ -269,7 +305,8 @@ impl Curve {
         let mut q = [0.0; MAX_PARAMS];
         q[..n].copy_from_slice(&p[..n]);
         let (ln_nu, inv_nu, inv_nu2) = if model == Model::Richards {
-            (q[3].ln(), 1.0 / q[3], 1.0 / (q[3] * q[3]))
+            // ln |ν|: for ν < 0 the curve takes `richards_nonpositive`.
+            (q[3].abs().ln(), 1.0 / q[3], 1.0 / (q[3] * q[3]))
         } else {
             (0.0, 0.0, 0.0)
         };
@@ -309,6 +346,11 @@ impl Curve {
             Model::Gompertz => {
                 let u = exp(-r * d);
                 let (f, g) = gompertz_out(k, r, d, u, exp(-u));
+                *grad = g;
+                f
+            }
+            Model::Richards if !self.richards_positive() => {
+                let (f, g) = self.richards_nonpositive(d);
                 *grad = g;
                 f
             }
@@ -437,6 +479,12 @@ impl Curve {
                     put!(i, v, gr, 3);
                 }
             }
+            Model::Richards if !self.richards_positive() => {
+                for i in 0..n {
+                    let (v, gr) = self.richards_nonpositive(t[i] - t0);
+                    put!(i, v, gr, 4);
+                }
+            }
             Model::Richards => {
                 for i in 0..n {
                     a[i] = -(self.ln_nu - r * (t[i] - t0)).abs();
@@ -522,6 +570,41 @@ impl Curve {
         }
     }
 
+    /// Whether the Richards curve takes the vectorised path for `ν > 0`
+    /// (else [`Curve::richards_nonpositive`]: `ν ≤ 0`, or `ν` so small that
+    /// `1/ν²` would overflow, where the curve is the Gompertz limit to
+    /// within rounding).
+    #[inline(always)]
+    fn richards_positive(&self) -> bool {
+        self.p[3] > NU_GOMPERTZ
+    }
+
+    /// Richards value and gradient at `d = t − t0` for `ν ≤ NU_GOMPERTZ`:
+    /// with `u = e^(−r d)`, the Gompertz limit `K e^(−u)` (and
+    /// `∂y/∂ν = y u²/2`) for `|ν| ≤ NU_GOMPERTZ`; for `ν < 0`,
+    /// `B = 1 − |ν| u = 1 − e^(ln|ν| − r d)`, `ln B = ln(1 − e^x)` and
+    /// `w = ν u / B`, the same formulas as for `ν > 0` (NaN where `B ≤ 0`:
+    /// the curve is not defined there).
+    #[inline(always)]
+    fn richards_nonpositive(&self, d: f64) -> (f64, [f64; MAX_PARAMS]) {
+        let [k, r, _, nu, ..] = self.p;
+        if nu.abs() <= NU_GOMPERTZ {
+            let u = exp(-r * d);
+            let (f, mut g) = gompertz_out(k, r, d, u, exp(-u));
+            let uu = u * u;
+            g[3] = if uu.is_finite() { 0.5 * f * uu } else { 0.0 };
+            return (f, g);
+        }
+        let ex = exp(self.ln_nu - r * d);
+        if ex.is_nan() || ex >= 1.0 {
+            return (f64::NAN, [f64::NAN; MAX_PARAMS]);
+        }
+        let ln_b = (-ex).ln_1p();
+        let w = -ex / (1.0 - ex);
+        let big_e = exp(-ln_b * self.inv_nu);
+        self.richards_out(d, ln_b, w, big_e)
+    }
+
     /// Richards value and gradient from `d = t − t0`, `(ln B, w)` of
     /// [`richards_terms`] and `big_e = e^(−ln B / ν) = B^(−1/ν)`.
     #[inline(always)]
@@ -542,6 +625,11 @@ impl Curve {
         )
     }
 }
+
+/// Below this |ν| the Richards curve is evaluated as its Gompertz limit:
+/// the relative difference, about `ν u² / 2`, is below rounding, and
+/// `1/ν²` in the ν-derivative would overflow.
+pub(crate) const NU_GOMPERTZ: f64 = 1e-100;
 
 /// `e^x` for every entry of `a`, in place: without branches when every
 /// argument is in the ordinary range (the usual case), else one by one.
@@ -697,7 +785,8 @@ fn richards_nu_term(ln_b: f64, w: f64) -> f64 {
         acc = c + w * acc;
     }
     let series = w * w * acc;
-    if w < 0.0625 {
+    // `w < 0` for ν < 0 (the series holds for |w| < 1 either way).
+    if w.abs() < 0.0625 {
         series
     } else {
         ln_b - w

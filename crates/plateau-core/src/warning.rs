@@ -35,6 +35,9 @@ pub enum WarningCode {
     /// A parameter's profile-likelihood interval could not be traced; its
     /// asymptotic interval is reported instead.
     ProfileNotComputed,
+    /// A Richards fit ended at its Gompertz limit (ν → 0); K, r and t0 are
+    /// the Gompertz curve's.
+    GompertzLimit,
 }
 
 impl WarningCode {
@@ -52,6 +55,7 @@ impl WarningCode {
             WarningCode::ParameterNotRepresentable => "parameter_not_representable",
             WarningCode::ValuesDecline => "values_decline",
             WarningCode::ProfileNotComputed => "profile_not_computed",
+            WarningCode::GompertzLimit => "gompertz_limit",
         }
     }
 }

@@ -25,13 +25,22 @@
 //! parameter's scale (for K, the data's range; for t0, the time span; for
 //! a positive parameter going down, a millionth of its estimate) is open.
 //!
+//! A finite bound is reported only where the refit there is a verified
+//! minimum: at the crossing, the warm-started refit is repeated next to
+//! refits from independent starts that honour the held value (the
+//! held-value grid of `start_held`, or the model's self-start). If one of
+//! them reaches a lower sum of squares, the warm-started trace had left
+//! the valley of minima; the trace goes on from the lower point (τ below
+//! the threshold) or looks for the crossing again. If none converged at
+//! the lowest point, nothing vouches for the bound and the side is open.
+//!
 //! The refits use the fit's final weights as known (for the reweighted
 //! error models this is the usual approximation), on the same residual
 //! scale as the fit.
 
 use super::{CiMethod, CurveProblem, Fit, FitOptions, Interval, Scale, Solved};
 use crate::linalg;
-use crate::model::{Domain, Model};
+use crate::model::Model;
 use crate::solver::{LeastSquares, Solver};
 use crate::stats;
 use crate::warning::{Warning, WarningCode};
@@ -54,6 +63,21 @@ enum Side {
     Failed(String),
 }
 
+/// The outcome of checking a bound's refit against independent starts.
+enum Check {
+    /// The refit converged and no independent start went lower.
+    Verified,
+    /// An independent start reached a lower sum of squares (with the full
+    /// parameter vector there): the traced refit was not the minimum.
+    Better(f64, Vec<f64>),
+    /// The refit did not converge and nothing went lower: no minimum to
+    /// vouch for.
+    Unverified,
+}
+
+/// Rounds of re-tracing after a bound's check found a lower minimum.
+const MAX_CHECKS: usize = 8;
+
 #[derive(Clone)]
 struct Profiler<'a> {
     model: Model,
@@ -67,11 +91,56 @@ struct Profiler<'a> {
     s: f64,
     tcrit: f64,
     solver: Solver,
+    /// The fit's held values (the profiled parameter is added per refit).
+    fixed: &'a [Option<f64>],
+    /// The data on their own scale and the user's weights, for the
+    /// independent starts of [`Profiler::verify`].
+    plain: (&'a [f64], &'a [f64], Option<&'a [f64]>),
 }
 
 impl Profiler<'_> {
     /// `S(θ_j = value)` and the full parameter vector at that profile point.
+    ///
+    /// When the warm start is outside where the curve is defined (a
+    /// Richards ν < 0 held further down, where `1 + ν e^(−r (t − t0))`
+    /// turns negative at the first time), the refit starts from the best
+    /// independent start instead.
     fn at(&self, j: usize, value: f64, warm: &[f64]) -> Option<(f64, Vec<f64>)> {
+        if let Some((rss, p, _)) = self.refit(j, value, warm) {
+            return Some((rss, p));
+        }
+        self.independent_starts(j, value)
+            .iter()
+            .filter_map(|s| self.refit(j, value, s))
+            .min_by(|a, b| a.0.total_cmp(&b.0))
+            .map(|(rss, p, _)| (rss, p))
+    }
+
+    /// Starts that honour `θ_j = value` and the fit's held values, derived
+    /// from the data alone: the held-value grid of `start_held` where the
+    /// model has one, else the model's self-start.
+    fn independent_starts(&self, j: usize, value: f64) -> Vec<Vec<f64>> {
+        let mut fixed = self.fixed.to_vec();
+        fixed[j] = Some(value);
+        let (t, y, w) = self.plain;
+        if super::start_held::supported(self.model) {
+            return super::start_held::held_starts(self.model, t, y, w, &fixed, 3);
+        }
+        if t.len() == self.t.len() && t == self.t {
+            let none = vec![None; fixed.len()];
+            let opts = FitOptions {
+                weights: w.map(<[f64]>::to_vec),
+                ..FitOptions::default()
+            };
+            if let Ok((s, _)) = super::starting_points(self.model, t, y, &fixed, &none, &opts) {
+                return s;
+            }
+        }
+        Vec::new()
+    }
+
+    /// [`Profiler::at`], with whether the refit converged.
+    fn refit(&self, j: usize, value: f64, warm: &[f64]) -> Option<(f64, Vec<f64>, bool)> {
         let mut base = warm.to_vec();
         base[j] = value;
         let free: Vec<usize> = self.free.iter().copied().filter(|&f| f != j).collect();
@@ -91,10 +160,52 @@ impl Profiler<'_> {
                 return None;
             }
             let rss = res.iter().map(|r| r * r).sum::<f64>();
-            return Some((rss, problem.base));
+            return Some((rss, problem.base, true));
         }
         let out = self.solver.minimize(&problem, &x0);
-        out.rss.is_finite().then(|| (out.rss, problem.full(&out.x)))
+        out.rss
+            .is_finite()
+            .then(|| (out.rss, problem.full(&out.x), out.converged()))
+    }
+
+    /// Checks the refit at a bound `θ_j = value` (warm-started from `warm`)
+    /// against refits from independent starts that honour the held value:
+    /// the held-value grid of `start_held` where the model has one, else
+    /// the model's self-start with `θ_j` held.
+    fn verify(&self, j: usize, value: f64, warm: &[f64]) -> Check {
+        if self.free.len() <= 1 {
+            // Nothing is refitted: S(θ_j) is evaluated, not minimised.
+            return Check::Verified;
+        }
+        // The sum of squares a bound claims: τ = t there.
+        let claimed = self.rss_hat + (self.tcrit * self.s).powi(2);
+        // A refit lower than this moves τ² by more than 1e-6.
+        let below = claimed - 1e-6 * self.s * self.s;
+        let mut starts = vec![warm.to_vec()];
+        starts.extend(self.independent_starts(j, value));
+        // The lowest refit, and whether it (or one level with it) converged.
+        let mut best: Option<(f64, Vec<f64>, bool)> = None;
+        for s in starts {
+            if let Some((r2, p2, conv)) = self.refit(j, value, &s) {
+                best = match best {
+                    Some(b) if r2 > b.0 + 1e-9 * b.0.abs() => Some(b),
+                    Some(b) if r2 >= b.0 - 1e-9 * b.0.abs() => {
+                        let conv = conv || b.2;
+                        Some(if r2 < b.0 {
+                            (r2, p2, conv)
+                        } else {
+                            (b.0, b.1, conv)
+                        })
+                    }
+                    _ => Some((r2, p2, conv)),
+                };
+            }
+        }
+        match best {
+            Some((r2, p2, _)) if r2 < below => Check::Better(r2, p2),
+            Some((_, _, true)) => Check::Verified,
+            _ => Check::Unverified,
+        }
     }
 
     fn tau(&self, rss: f64) -> f64 {
@@ -104,7 +215,9 @@ impl Profiler<'_> {
     /// Traces one side (`dir` = ±1) of parameter `j`.
     fn side(&self, j: usize, dir: f64, se: Option<f64>, scale: f64) -> Side {
         let name = self.model.param_names()[j];
-        let positive = self.model.domains()[j] == Domain::Positive;
+        // A parameter with a lower edge (0, or −1 for ν) approaches it by
+        // shrinking its distance from the edge.
+        let edge = self.model.domains()[j].lower_edge();
         let th = self.p_hat[j];
         let far = th + dir * WIDE * scale;
         let mut h = match se {
@@ -112,14 +225,15 @@ impl Profiler<'_> {
             _ => 0.1 * scale,
         };
         let (mut a, mut ta, mut wa) = (th, 0.0, self.p_hat.to_vec());
+        let mut checks = 0;
         for _ in 0..MAX_STEPS {
             let mut b = a + dir * h;
-            if positive && dir < 0.0 {
-                if a <= TINY * th {
+            if let (Some(e), true) = (edge, dir < 0.0) {
+                if a - e <= TINY * (th - e) {
                     return Side::Open;
                 }
-                if b <= 0.25 * a {
-                    b = 0.25 * a;
+                if b - e <= 0.25 * (a - e) {
+                    b = e + 0.25 * (a - e);
                 }
             } else if (b - far) * dir >= 0.0 {
                 if a == far {
@@ -132,7 +246,31 @@ impl Profiler<'_> {
             };
             let tb = self.tau(rss);
             if tb >= self.tcrit {
-                return self.root(j, (a, ta, wa), (b, tb));
+                // A finite bound only where the refit there is a verified
+                // minimum; a lower minimum found there moves the trace on.
+                let mut outside = (b, tb);
+                loop {
+                    let (c, wc) = match self.root(j, (a, ta, wa.clone()), outside) {
+                        Ok(v) => v,
+                        Err(why) => return Side::Failed(why),
+                    };
+                    checks += 1;
+                    match self.verify(j, c, &wc) {
+                        Check::Verified => return Side::Bound(c),
+                        Check::Unverified => return Side::Open,
+                        Check::Better(..) if checks >= MAX_CHECKS => return Side::Open,
+                        Check::Better(rc, pc) => {
+                            let tc = self.tau(rc);
+                            if tc >= self.tcrit {
+                                outside = (c, tc);
+                                continue;
+                            }
+                            (a, ta, wa) = (c, tc, pc);
+                            break;
+                        }
+                    }
+                }
+                continue;
             }
             let slope = (tb - ta) / (b - a).abs();
             h = if slope > 0.0 {
@@ -147,7 +285,12 @@ impl Profiler<'_> {
 
     /// The crossing `τ = t` between `inside` (below) and `outside` (at or
     /// above), by the Illinois method.
-    fn root(&self, j: usize, inside: (f64, f64, Vec<f64>), outside: (f64, f64)) -> Side {
+    fn root(
+        &self,
+        j: usize,
+        inside: (f64, f64, Vec<f64>),
+        outside: (f64, f64),
+    ) -> Result<(f64, Vec<f64>), String> {
         let name = self.model.param_names()[j];
         let (mut a, ta, mut warm) = inside;
         let (mut b, tb) = outside;
@@ -165,14 +308,14 @@ impl Profiler<'_> {
             }
             if c <= lo || c >= hi {
                 // The bracket is down to adjacent doubles.
-                return Side::Bound(c);
+                return Ok((c, warm));
             }
             let Some((rss, wc)) = self.at(j, c, &warm) else {
-                return Side::Failed(format!("the refit with {name} = {c:.6e} failed"));
+                return Err(format!("the refit with {name} = {c:.6e} failed"));
             };
             let gc = self.tau(rss) - self.tcrit;
             if gc.abs() <= 1e-10 * self.tcrit {
-                return Side::Bound(c);
+                return Ok((c, wc));
             }
             if gc < 0.0 {
                 (a, ga, warm) = (c, gc, wc);
@@ -191,11 +334,12 @@ impl Profiler<'_> {
                 break;
             }
         }
-        Side::Bound(if gb > ga {
+        let c = if gb > ga {
             b - gb * (b - a) / (gb - ga)
         } else {
             0.5 * (a + b)
-        })
+        };
+        Ok((c, warm))
     }
 }
 
@@ -242,6 +386,8 @@ pub(super) fn apply(
         s,
         tcrit: stats::t_quantile(0.95, fit.dof),
         solver: opts.solver.clone().unwrap_or_default(),
+        fixed: &solved.fixed,
+        plain: (t, y, opts.weights.as_deref()),
     };
     let (ymin, ymax) = linalg::min_max(y);
     let y_scale = (ymax - ymin).max(ymax.abs()).max(f64::MIN_POSITIVE);
@@ -277,6 +423,8 @@ pub(super) fn apply(
         let scale = match names[j] {
             "K" | "L" | "a" => y_scale,
             "t0" => t_scale,
+            // ν may be 0 (the Gompertz limit): at least 1 there.
+            "nu" => th.abs().max(1.0),
             _ => th.abs().max(f64::MIN_POSITIVE),
         };
         let se = fit.params[j].std_error;

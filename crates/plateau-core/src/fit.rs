@@ -588,6 +588,10 @@ fn fit_in_units(
     if opts.intervals == IntervalMethod::Profile {
         profile::apply(&mut fit, &solved, model, (t, y), opts);
     }
+    if let Some(refs) = shape_checks::references(&solved) {
+        let w = shape_checks::warnings(&fit, &refs);
+        fit.warnings.extend(w);
+    }
     Ok(fit)
 }
 
@@ -1462,6 +1466,15 @@ fn diagnose(fit: &mut Fit, t: &[f64], y: &[f64]) {
             ));
         }
     }
+    // Any free parameter whose interval is open on a side (or that has no
+    // interval at all) is not determined by the data.
+    for p in fit.params.iter_mut().filter(|p| !p.fixed) {
+        if p.interval
+            .is_none_or(|iv| iv.lo.is_none() || iv.hi.is_none())
+        {
+            p.identified = false;
+        }
+    }
     if let Some((name, t_infl)) = inflection(fit) {
         if tmax < t_infl {
             w.push(Warning::new(
@@ -1478,6 +1491,7 @@ fn diagnose(fit: &mut Fit, t: &[f64], y: &[f64]) {
 
 mod profile;
 mod scaled;
+mod shape_checks;
 
 #[cfg(test)]
 mod tests;

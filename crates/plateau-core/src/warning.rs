@@ -35,6 +35,13 @@ pub enum WarningCode {
     /// A parameter's profile-likelihood interval could not be traced; its
     /// asymptotic interval is reported instead.
     ProfileNotComputed,
+    /// A constant describes the data better than the curve (AICc lower by
+    /// 2 or more): the data look trendless (noise, or values alternating
+    /// about one level).
+    NoTrend,
+    /// A straight line describes the data better than the curve (AICc
+    /// lower by 2 or more) and better than a constant: the data look linear.
+    LooksLinear,
 }
 
 impl WarningCode {
@@ -52,6 +59,8 @@ impl WarningCode {
             WarningCode::ParameterNotRepresentable => "parameter_not_representable",
             WarningCode::ValuesDecline => "values_decline",
             WarningCode::ProfileNotComputed => "profile_not_computed",
+            WarningCode::NoTrend => "no_trend",
+            WarningCode::LooksLinear => "looks_linear",
         }
     }
 }

@@ -8,6 +8,7 @@ mod bootstrap_calibration;
 mod calibration;
 mod diagnostics;
 mod error_models;
+mod ill_posed;
 mod multi;
 mod nist;
 mod profile;

@@ -57,8 +57,24 @@ pub(super) struct Units {
 /// `v · 2^k`, exact unless the result overflows or underflows (in two
 /// steps, so that `2^k` itself need not be representable).
 pub(super) fn pow2(v: f64, k: i32) -> f64 {
-    let h = k / 2;
-    v * 2f64.powi(h) * 2f64.powi(k - h)
+    let (a, b) = pow2_pair(k);
+    v * a * b
+}
+
+/// `(2^(k/2), 2^(k − k/2))`, from the bits (both normal numbers for every
+/// |k| ≤ 2044, which covers any exponent that can matter). Both factors
+/// have the sign of `k`, so an intermediate product under- or overflows
+/// only when the result does.
+fn pow2_pair(k: i32) -> (f64, f64) {
+    let k = k.clamp(-2044, 2044);
+    let two = |e: i32| f64::from_bits(((e + 1023) as u64) << 52);
+    (two(k / 2), two(k - k / 2))
+}
+
+/// `v · 2^k` for every entry of `v`.
+fn pow2_all(v: impl Iterator<Item = f64>, k: i32) -> Vec<f64> {
+    let (a, b) = pow2_pair(k);
+    v.map(|x| x * a * b).collect()
 }
 
 /// The binary exponent `e` with `2^e ≤ |v| < 2^(e+1)` (`v` finite, non-zero).
@@ -188,16 +204,12 @@ impl Units {
         let tt = if self.t_c == 0.0 && self.time_exp == 0 {
             Cow::Borrowed(t)
         } else {
-            Cow::Owned(
-                t.iter()
-                    .map(|v| pow2(v - self.t_c, self.time_exp))
-                    .collect(),
-            )
+            Cow::Owned(pow2_all(t.iter().map(|v| v - self.t_c), self.time_exp))
         };
         let yy = if self.value_exp == 0 {
             Cow::Borrowed(y)
         } else {
-            Cow::Owned(y.iter().map(|v| pow2(*v, self.value_exp)).collect())
+            Cow::Owned(pow2_all(y.iter().copied(), self.value_exp))
         };
         (tt, yy)
     }
@@ -313,8 +325,9 @@ impl Units {
         fit.aic -= 2.0 * shift;
         fit.aicc -= 2.0 * shift;
         fit.bic -= 2.0 * shift;
+        let (a, b) = pow2_pair(-self.value_exp);
         for v in fit.fitted.iter_mut() {
-            *v = pow2(*v, -self.value_exp);
+            *v = *v * a * b;
         }
     }
 }

@@ -219,10 +219,16 @@ pub const IDENTIFIABILITY_WARNINGS: [WarningCode; 5] = [
     WarningCode::SaturationNotIdentified,
 ];
 
+/// Warnings that say the data show no S-curve at all: a constant or a
+/// straight line describes them better than the curve (see [`crate::fit`]'s
+/// shape checks).
+pub const SHAPE_WARNINGS: [WarningCode; 2] = [WarningCode::NoTrend, WarningCode::LooksLinear];
+
 /// The model to use and why.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Recommendation {
-    /// `None` when no model was fitted.
+    /// `None` when no model was fitted, or when the data support no S-curve
+    /// (see [`recommend`]; the first reason says why).
     pub model: Option<Model>,
     /// One short sentence per reason, most important first.
     pub reasons: Vec<String>,
@@ -241,6 +247,10 @@ pub struct Recommendation {
 /// 3. Name the runner-up and its ΔAICc and Akaike weight, the LR p-values,
 ///    and the residual verdicts of the chosen model (a flagged one means no
 ///    model here captures the pattern).
+/// 4. When every fitted S-curve (every saturating model) carries a
+///    [`SHAPE_WARNINGS`] code, say first that no S-curve is supported, with
+///    the reason; then no model is recommended (`model` is `None`; the
+///    ranking stays in the reasons).
 pub fn recommend(entries: &[Entry], t: &[f64], y: &[f64]) -> Recommendation {
     let bad = |f: &Fit| -> Vec<&'static str> {
         IDENTIFIABILITY_WARNINGS
@@ -331,6 +341,28 @@ pub fn recommend(entries: &[Entry], t: &[f64], y: &[f64]) -> Recommendation {
             }
         ));
     }
+    // No S-curve supported: every saturating fit is flagged.
+    let shape_flag = |f: &Fit| {
+        f.warnings
+            .iter()
+            .find(|w| SHAPE_WARNINGS.contains(&w.code))
+            .map(|w| w.message.clone())
+    };
+    let curves: Vec<&(&Entry, &Fit)> = fitted.iter().filter(|(e, _)| e.model.saturates()).collect();
+    let mut recommended = Some(ce.model);
+    if !curves.is_empty() && curves.iter().all(|(_, f)| shape_flag(f).is_some()) {
+        // The best-ranked curve's reason.
+        let why = shape_flag(curves[0].1).unwrap_or_default();
+        reasons.insert(
+            0,
+            format!(
+                "no S-curve is supported by these data: for every growth curve fitted, a constant \
+                 or a straight line does better ({}: {why})",
+                curves[0].0.model.name()
+            ),
+        );
+        recommended = None;
+    }
     let diag = residual_diagnostics(choice.1, t, y);
     let flagged: Vec<&Verdict> = diag.verdicts.iter().filter(|v| v.flagged).collect();
     if flagged.is_empty() {
@@ -344,7 +376,7 @@ pub fn recommend(entries: &[Entry], t: &[f64], y: &[f64]) -> Recommendation {
         }
     }
     Recommendation {
-        model: Some(ce.model),
+        model: recommended,
         reasons,
         residual_verdicts: diag.verdicts,
     }

@@ -9,7 +9,7 @@
 
 use crate::linalg;
 use crate::mathfn::nonfinite_bits;
-use crate::model::{Curve, Domain, Model, BLOCK, MAX_PARAMS};
+use crate::model::{Curve, Domain, Model, Role, BLOCK, MAX_PARAMS};
 use crate::solver::{LeastSquares, Solver, Termination};
 use crate::stats;
 use crate::warning::{Warning, WarningCode};
@@ -178,9 +178,11 @@ pub struct ParamEstimate {
     /// [`IntervalMethod`]); `None` for a fixed parameter (nothing is
     /// estimated, so nothing is propagated) or when no interval exists.
     pub interval: Option<Interval>,
-    /// `false` when the data do not determine the parameter (K under the
-    /// `saturation_not_identified` warning): its interval is then open
-    /// above and the asymptotic interval is not to be shown.
+    /// `false` when the data do not determine the parameter: its reported
+    /// interval is open on either side (or there is none), or it is a
+    /// saturation level under the `saturation_not_identified` warning
+    /// (whose interval is then open above). The asymptotic interval is
+    /// not to be shown then.
     pub identified: bool,
 }
 
@@ -203,7 +205,11 @@ pub struct Fit {
     pub converged: bool,
     pub termination: Termination,
     pub iterations: usize,
-    /// Condition number of the column-scaled Jacobian at the estimate.
+    /// Condition number of the column-scaled (equilibrated) Jacobian at the
+    /// estimate. It does not depend on the units of values, times or
+    /// parameters (the fit runs in internally scaled units; this is the
+    /// same number); for the exponential it is taken on the axis centred
+    /// at the mean time, where `a` is the level there.
     pub condition_number: f64,
     /// In [`Model::param_names`] order.
     pub params: Vec<ParamEstimate>,
@@ -583,13 +589,47 @@ pub fn fit(series: &Series, model: Model, opts: &FitOptions) -> Result<Fit, FitE
 }
 
 /// Fits `model` to the points `(t[i], y[i])`.
+///
+/// The fit is computed in internally scaled units (values times a power
+/// of two, badly scaled time axes shifted and stretched; see
+/// [`scaled`]) and mapped back, so that the result does not depend on the
+/// data's magnitude: a series times 10^±150 gives the same relative
+/// estimates and the same warnings.
 pub fn fit_xy(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<Fit, FitError> {
+    let units = scaled::Units::choose(model, t, y)?;
+    let mut fit = if units.is_identity() {
+        fit_in_units(t, y, model, opts, &units)?
+    } else {
+        scaled::Units::precheck(t, y, opts)?;
+        let inner = units.options_in(model, opts)?;
+        let (ts, ys) = units.data(t, y);
+        let mut fit = fit_in_units(&ts, &ys, model, &inner, &units)?;
+        units.fit_out(&mut fit, opts);
+        fit
+    };
+    diagnose(&mut fit, t, y);
+    Ok(fit)
+}
+
+/// The fit itself, in the units given (statistics and profile intervals
+/// included; the warnings of [`diagnose`] are added by the caller in the
+/// user's units).
+fn fit_in_units(
+    t: &[f64],
+    y: &[f64],
+    model: Model,
+    opts: &FitOptions,
+    units: &scaled::Units,
+) -> Result<Fit, FitError> {
     let solved = solve(t, y, model, opts)?;
-    let mut fit = statistics(t, model, &solved, opts);
+    let mut fit = statistics(t, model, &solved, opts, units);
     if opts.intervals == IntervalMethod::Profile {
         profile::apply(&mut fit, &solved, model, (t, y), opts);
     }
-    diagnose(&mut fit, t, y);
+    if let Some(refs) = shape_checks::references(&solved) {
+        let w = shape_checks::warnings(&fit, &refs);
+        fit.warnings.extend(w);
+    }
     Ok(fit)
 }
 
@@ -1156,7 +1196,13 @@ fn subsample(
 }
 
 /// Standard errors, intervals, criteria, fitted values and warnings.
-fn statistics(t: &[f64], model: Model, solved: &Solved, opts: &FitOptions) -> Fit {
+fn statistics(
+    t: &[f64],
+    model: Model,
+    solved: &Solved,
+    opts: &FitOptions,
+    units: &scaled::Units,
+) -> Fit {
     let Solved {
         outcome,
         p,
@@ -1234,7 +1280,8 @@ fn statistics(t: &[f64], model: Model, solved: &Solved, opts: &FitOptions) -> Fi
                 format!(
                     "a = y(0) is not representable on this time axis (a' = {:.6} at t = {}); \
                      the curve itself is fine",
-                    p[0], t_ref
+                    units.value_out(p[0]),
+                    units.time_out(t_ref)
                 ),
             ));
         }
@@ -1540,14 +1587,15 @@ fn diagnose(fit: &mut Fit, t: &[f64], y: &[f64]) {
     let (tmin, tmax) = linalg::min_max(t);
     let ymax = linalg::min_max(y).1;
     let span = (tmax - tmin).max(f64::MIN_POSITIVE);
+    let roles = fit.model.roles();
     for (j, p) in fit.params.iter().enumerate() {
         if p.fixed || fit.model.domains()[j] != Domain::Positive {
             continue;
         }
-        let near = match p.name {
-            "r" | "r1" | "r2" | "p" | "q" => p.estimate * span < 1e-3,
-            "nu" => !(1e-3..=1e3).contains(&p.estimate),
-            _ => p.estimate < 1e-9 * ymax.abs().max(f64::MIN_POSITIVE),
+        let near = match roles[j] {
+            Role::Rate => p.estimate * span < 1e-3,
+            Role::Shape => !(1e-3..=1e3).contains(&p.estimate),
+            Role::Level | Role::Time => p.estimate < 1e-9 * ymax.abs().max(f64::MIN_POSITIVE),
         };
         if near {
             w.push(Warning::new(
@@ -1559,13 +1607,15 @@ fn diagnose(fit: &mut Fit, t: &[f64], y: &[f64]) {
             ));
         }
     }
-    // The saturation levels: K, Bass's m, and each pulse's K1 and K2 of
-    // the bi-logistic (whose level is their sum: a pulse the data do not
-    // determine leaves the sum undetermined too).
+    // The saturation levels: the positive levels K, Bass's m, and each
+    // pulse's K1 and K2 of the bi-logistic (whose level is their sum: a
+    // pulse the data do not determine leaves the sum undetermined too);
+    // not the floor L or the exponential's a (levels of any sign).
     let levels: Vec<usize> = (0..fit.params.len())
         .filter(|&j| {
-            let p = &fit.params[j];
-            matches!(p.name, "K" | "m" | "K1" | "K2") && !p.fixed
+            roles[j] == Role::Level
+                && fit.model.domains()[j] == Domain::Positive
+                && !fit.params[j].fixed
         })
         .collect();
     for kj in levels {
@@ -1625,6 +1675,15 @@ fn diagnose(fit: &mut Fit, t: &[f64], y: &[f64]) {
             ));
         }
     }
+    // Any free parameter whose interval is open on a side (or that has no
+    // interval at all) is not determined by the data.
+    for p in fit.params.iter_mut().filter(|p| !p.fixed) {
+        if p.interval
+            .is_none_or(|iv| iv.lo.is_none() || iv.hi.is_none())
+        {
+            p.identified = false;
+        }
+    }
     if let Some((name, t_infl)) = inflection(fit) {
         if tmax < t_infl {
             w.push(Warning::new(
@@ -1641,6 +1700,8 @@ fn diagnose(fit: &mut Fit, t: &[f64], y: &[f64]) {
 
 mod profile;
 mod start_held;
+mod scaled;
+mod shape_checks;
 
 #[cfg(test)]
 mod tests;

@@ -78,6 +78,23 @@ pub enum Model {
     Bilogistic,
 }
 
+/// What a parameter is, as far as units go: how it changes when the
+/// values are multiplied by `c` and the time axis is shifted and
+/// stretched (`t' = (t − t_c) s`). The fit uses this to work in
+/// internally scaled units and map the results back.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Role {
+    /// A level in the data's units (K, L, m, K1, K2; the exponential's
+    /// `a`, the level at t = 0): multiplied by `c`.
+    Level,
+    /// A rate per unit of time (r, p, q): divided by `s`.
+    Rate,
+    /// A time on the axis (t0, tau, t01, t02): `(t0 − t_c) s`.
+    Time,
+    /// A pure number (the Richards ν): unchanged.
+    Shape,
+}
+
 /// Whether a parameter must stay strictly positive.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Domain {
@@ -179,6 +196,30 @@ impl Model {
             Model::Bass => &["m", "p", "q", "tau"],
             Model::Bilogistic => &["K1", "r1", "t01", "K2", "r2", "t02"],
         }
+    }
+
+    /// Each parameter's [`Role`], in `param_names` order. Every model
+    /// with a [`Role::Time`] parameter depends on `t` only through
+    /// `t − t0` (or `t − tau`, `t − t01`, `t − t02`), so its time axis may
+    /// be shifted; the exponential has none (its `a` is the level at
+    /// t = 0, which depends on the time origin), so its axis may only be
+    /// stretched.
+    pub fn roles(self) -> &'static [Role] {
+        use Role::*;
+        match self {
+            Model::Logistic | Model::Gompertz => &[Level, Rate, Time],
+            Model::Logistic4 => &[Level, Rate, Time, Level],
+            Model::Richards => &[Level, Rate, Time, Shape],
+            Model::Exponential => &[Level, Rate],
+            Model::Bass => &[Level, Rate, Rate, Time],
+            Model::Bilogistic => &[Level, Rate, Time, Level, Rate, Time],
+        }
+    }
+
+    /// Whether the model's time axis may be shifted (it has a time
+    /// parameter; see [`Model::roles`]).
+    pub fn shift_invariant(self) -> bool {
+        self.roles().contains(&Role::Time)
     }
 
     pub fn n_params(self) -> usize {

@@ -41,8 +41,10 @@ pub struct ParamReport {
     /// parameter, without a covariance, or when `identified` is false.
     pub ci95_asymptotic: Option<[f64; 2]>,
     pub fixed: bool,
-    /// `false` when the data do not determine the parameter (K under
-    /// `saturation_not_identified`): no upper bound is given then.
+    /// `false` when the data do not determine the parameter: its `ci95`
+    /// is open (`null`) on either side or missing, or it is a saturation
+    /// level under `saturation_not_identified` (no upper bound is given
+    /// then). `ci95_asymptotic` is withheld when it is `false`.
     pub identified: bool,
 }
 

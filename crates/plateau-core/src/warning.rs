@@ -38,6 +38,13 @@ pub enum WarningCode {
     /// A Richards fit ended at its Gompertz limit (ν → 0); K, r and t0 are
     /// the Gompertz curve's.
     GompertzLimit,
+    /// A constant describes the data better than the curve (AICc lower by
+    /// 2 or more): the data look trendless (noise, or values alternating
+    /// about one level).
+    NoTrend,
+    /// A straight line describes the data better than the curve (AICc
+    /// lower by 2 or more) and better than a constant: the data look linear.
+    LooksLinear,
 }
 
 impl WarningCode {
@@ -56,6 +63,8 @@ impl WarningCode {
             WarningCode::ValuesDecline => "values_decline",
             WarningCode::ProfileNotComputed => "profile_not_computed",
             WarningCode::GompertzLimit => "gompertz_limit",
+            WarningCode::NoTrend => "no_trend",
+            WarningCode::LooksLinear => "looks_linear",
         }
     }
 }

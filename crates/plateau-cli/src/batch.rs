@@ -22,7 +22,8 @@
 //! without a series name.
 
 use plateau_core::data::{
-    cumulate, sniff_delimiter, split_line, LongGrouper, NamedSeries, PendingSeries, SeriesFailure,
+    per_period_totals, sniff_delimiter, split_line, LongGrouper, NamedSeries, PendingSeries,
+    SeriesFailure,
 };
 use plateau_core::fit::{fit, FitOptions};
 use plateau_core::report::{FitReport, CAUTION};
@@ -125,7 +126,21 @@ pub fn fit_one(item: Result<NamedSeries, SeriesFailure>, opts: &Options) -> Outc
         },
         Ok(mut ns) => {
             if opts.per_period {
-                ns.series.values = cumulate(&ns.series.values);
+                match per_period_totals(&ns.series) {
+                    Ok(totals) => ns.series.values = totals,
+                    Err(error) => {
+                        let first_line = ns.series.lines.first().copied().unwrap_or(0);
+                        let name = ns.name;
+                        return fit_one(
+                            Err(SeriesFailure {
+                                name,
+                                first_line,
+                                error,
+                            }),
+                            opts,
+                        );
+                    }
+                }
             }
             match fit(&ns.series, opts.model, &opts.fit) {
                 Ok(f) => Outcome {

@@ -409,7 +409,8 @@ fn read_series(
     let mut series =
         parse_series(&text, opts).map_err(|e| Failure::Input(anyhow::anyhow!("{name}: {e}")))?;
     if input.per_period {
-        series.values = plateau_core::data::cumulate(&series.values);
+        series.values = plateau_core::data::per_period_totals(&series)
+            .map_err(|e| Failure::Input(anyhow::anyhow!("{name}: {e}")))?;
         series.value_name = format!("{} (cumulative)", series.value_name);
     } else if let Some(mut w) = plateau_core::data::decline_warning(&series) {
         w.message.push_str(" (--per-period)");

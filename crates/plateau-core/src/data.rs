@@ -140,7 +140,10 @@ pub enum DataErrorKind {
     MixedTimeFormats,
     /// A time beyond ±1e9 (or an infinite one).
     TimeOutOfRange,
-    /// Two rows have the same time; the message names both lines.
+    /// Two rows have the same time where one value per time is needed
+    /// (per-period counts, increments: [`per_period_totals`],
+    /// [`check_increments`]); the message names both lines. Elsewhere
+    /// repeated times are replicates, kept with a `replicate_times` warning.
     DuplicateTime,
     /// A value that is not a number.
     BadValue,
@@ -191,6 +194,101 @@ pub fn cumulate(values: &[f64]) -> Vec<f64> {
             Some(*sum)
         })
         .collect()
+}
+
+/// The key two times share exactly when they are the same axis value: the
+/// bits, with −0 folded into 0 (so `1` and `1.0` are one time, `1` and
+/// `1.0000001` are two).
+fn time_key(t: f64) -> u64 {
+    (t + 0.0).to_bits()
+}
+
+/// The first row whose time an earlier row already has, as `(earlier,
+/// later)` indices into `times`; `None` when every time appears once.
+pub fn repeated_time(times: &[f64]) -> Option<(usize, usize)> {
+    let mut seen: HashMap<u64, usize> = HashMap::with_capacity(times.len());
+    for (i, &t) in times.iter().enumerate() {
+        if let Some(&earlier) = seen.get(&time_key(t)) {
+            return Some((earlier, i));
+        }
+        seen.insert(time_key(t), i);
+    }
+    None
+}
+
+/// The `replicate_times` warning: how many times carry more than one value
+/// and how many rows they have, with the first example.
+fn replicate_warning(times: &[f64], lines: &[usize], kind: TimeKind) -> Option<Warning> {
+    // time → (rows at that time, index of its first row)
+    let mut count: HashMap<u64, (usize, usize)> = HashMap::with_capacity(times.len());
+    for (i, &t) in times.iter().enumerate() {
+        count.entry(time_key(t)).or_insert((0, i)).0 += 1;
+    }
+    if count.len() == times.len() {
+        return None;
+    }
+    let repeated = count.values().filter(|c| c.0 > 1).count();
+    let rows: usize = count.values().filter(|c| c.0 > 1).map(|c| c.0).sum();
+    let (first, second) = repeated_time(times)?;
+    Some(Warning::new(
+        WarningCode::ReplicateTimes,
+        format!(
+            "{repeated} time{s} carr{ies} more than one value ({rows} rows at {them}, e.g. {} on lines {} and {}); \
+             they are fitted as given, each row one observation, and the residual checks that need one value \
+             per time use the mean residual per time",
+            kind.format(times[first]),
+            lines.get(first).copied().unwrap_or(0),
+            lines.get(second).copied().unwrap_or(0),
+            s = if repeated == 1 { "" } else { "s" },
+            ies = if repeated == 1 { "ies" } else { "y" },
+            them = if repeated == 1 { "it" } else { "them" },
+        ),
+    ))
+}
+
+/// Refuses a series with a repeated time for a step that needs one value
+/// per time, naming both lines: `what` says what needs it, `instead` what
+/// to do.
+fn one_value_per_time(series: &Series, what: &str, instead: &str) -> Result<(), DataError> {
+    let Some((first, second)) = repeated_time(&series.times) else {
+        return Ok(());
+    };
+    let line = |i: usize| series.lines.get(i).copied();
+    Err(error(
+        DataErrorKind::DuplicateTime,
+        line(second),
+        format!(
+            "time {} also appears on line {}: {what} needs one value per time, and replicate \
+             measurements give several; {instead}",
+            quote(&series.time_kind.format(series.times[first])),
+            line(first).unwrap_or(0),
+        ),
+    ))
+}
+
+/// The running totals of a series of per-period counts ([`cumulate`] in
+/// the order given), or an error naming the lines of a repeated time:
+/// per-period counts are one count per period, so replicates have no
+/// running total.
+pub fn per_period_totals(series: &Series) -> Result<Vec<f64>, DataError> {
+    one_value_per_time(
+        series,
+        "summing counts per period into running totals",
+        "add the counts of one period into one row, or fit the values as they are",
+    )?;
+    Ok(cumulate(&series.values))
+}
+
+/// Whether `series` can be fitted by its per-period increments
+/// ([`FitOptions::increments`](crate::fit::FitOptions::increments)): an
+/// error naming the lines of a repeated time otherwise, since differences
+/// between consecutive times need one value per time.
+pub fn check_increments(series: &Series) -> Result<(), DataError> {
+    one_value_per_time(
+        series,
+        "fitting increments (differences between consecutive times)",
+        "fit the values themselves, or combine the replicates of each time into one row",
+    )
 }
 
 /// A warning when values meant as running totals fall well below their
@@ -383,8 +481,11 @@ struct Meta {
 /// The kept rows of one series (line, raw time, raw value) and the lines
 /// of the rows skipped for a missing value, validated and read into a
 /// [`Series`]: one time kind, one decimal convention (`dec`, or decided
-/// from these rows), no duplicate times, warnings for the skipped and
-/// unsorted rows.
+/// from these rows), warnings for the skipped and unsorted rows and for
+/// repeated times. A time on several rows is a set of replicate
+/// measurements: every row is kept and fitted as its own observation
+/// (`replicate_times` warning); only what needs one value per time refuses
+/// them ([`per_period_totals`], [`check_increments`]).
 fn build_series(
     rows: &[Row],
     skipped: &[usize],
@@ -424,24 +525,10 @@ fn build_series(
     let mut times = Vec::with_capacity(rows.len());
     let mut values = Vec::with_capacity(rows.len());
     let mut lines = Vec::with_capacity(rows.len());
-    // Keyed by the bits of the axis value (with -0 folded into 0), which is
-    // exact equality: 1 and 1.0 are duplicates, 1 and 1.0000001 are not.
-    let mut seen: HashMap<u64, usize> = HashMap::with_capacity(rows.len());
     for row in rows {
         let t = time::parse(row.time, time_kind, dec)
             .map_err(|e| time_error(e, row, time_kind, &time_name))?;
         let v = parse_number(row.value, dec).map_err(|e| value_error(e, row, dec, delimiter))?;
-        if let Some(&earlier) = seen.get(&(t + 0.0).to_bits()) {
-            return Err(error(
-                DataErrorKind::DuplicateTime,
-                Some(row.line),
-                format!(
-                    "time {} also appears on line {earlier}; expected each time once",
-                    quote(row.time.trim())
-                ),
-            ));
-        }
-        seen.insert((t + 0.0).to_bits(), row.line);
         times.push(t);
         values.push(v);
         lines.push(row.line);
@@ -455,6 +542,9 @@ fn build_series(
         ));
     }
     if let Some(w) = unsorted_warning(&times, &lines, time_kind) {
+        warnings.push(w);
+    }
+    if let Some(w) = replicate_warning(&times, &lines, time_kind) {
         warnings.push(w);
     }
     Ok(Series {

@@ -35,6 +35,10 @@ pub enum WarningCode {
     /// A parameter's profile-likelihood interval could not be traced; its
     /// asymptotic interval is reported instead.
     ProfileNotComputed,
+    /// Some times carry more than one value (replicate measurements); every
+    /// row is fitted as its own observation, and the residual checks that
+    /// need one value per time use the mean residual per time.
+    ReplicateTimes,
 }
 
 impl WarningCode {
@@ -52,6 +56,7 @@ impl WarningCode {
             WarningCode::ParameterNotRepresentable => "parameter_not_representable",
             WarningCode::ValuesDecline => "values_decline",
             WarningCode::ProfileNotComputed => "profile_not_computed",
+            WarningCode::ReplicateTimes => "replicate_times",
         }
     }
 }

@@ -120,11 +120,38 @@ fn bad_input_exits_2_naming_the_line() {
 }
 
 #[test]
-fn duplicate_times_exit_2_naming_both_lines() {
-    let out = plateau(&["fit", "-"], Some("t,y\n1,2\n2,3\n2,4\n3,5\n"));
+fn replicate_times_are_fitted_and_per_period_refuses_them_naming_both_lines() {
+    let text = "t,y\n0,10\n1,20\n1,22\n2,40\n3,61\n4,80\n4,78\n5,90\n6,95\n7,98\n";
+    let out = plateau(&["fit", "-", "--json"], Some(text));
+    assert_eq!(
+        out.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let report: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(report["n"], 10);
+    let codes: Vec<&str> = report["warnings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter_map(|w| w["code"].as_str())
+        .collect();
+    assert!(codes.contains(&"replicate_times"), "{codes:?}");
+    let out = plateau(&["fit", "-", "--per-period"], Some(text));
     assert_eq!(out.status.code(), Some(2));
     let err = String::from_utf8_lossy(&out.stderr);
-    assert!(err.contains('3') && err.contains('4'), "{err}");
+    assert!(
+        err.contains("line 4: time \"1\" also appears on line 3"),
+        "{err}"
+    );
+    let out = plateau(&["fit", "-", "--increments"], Some(text));
+    assert_ne!(out.status.code(), Some(0));
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        err.contains("line 4") && err.contains("increments"),
+        "{err}"
+    );
 }
 
 #[test]

@@ -386,12 +386,75 @@ fn missing_time_is_an_error() {
 }
 
 #[test]
-fn duplicate_times_name_both_lines() {
-    let e = err("t,v\n1,1\n2,2\n\n1.0,3\n");
+fn repeated_times_are_replicates_kept_with_a_counted_warning() {
+    // `1` and `1.0` are one time; 2024Q1 and 2024-q1 too.
+    let s = ok("t,v\n1,1\n2,2\n\n1.0,3\n3,4\n3,5\n3,6\n");
+    assert_eq!(s.times, [1.0, 2.0, 1.0, 3.0, 3.0, 3.0]);
+    assert_eq!(s.values, [1.0, 2.0, 3.0, 4.0, 5.0, 6.0]);
+    assert_eq!(s.lines, [2, 3, 5, 6, 7, 8]);
+    let w = s
+        .warnings
+        .iter()
+        .find(|w| w.code == WarningCode::ReplicateTimes)
+        .expect("replicate warning");
+    // Times 1 (2 rows) and 3 (3 rows): 2 times, 5 rows.
+    assert!(
+        w.message.starts_with(
+            "2 times carry more than one value (5 rows at them, e.g. 1 on lines 2 and 5)"
+        ),
+        "{}",
+        w.message
+    );
+    assert_eq!(WarningCode::ReplicateTimes.as_str(), "replicate_times");
+    let s = ok("q,v\n2024Q1,1\n2024-q1,2\n2024Q2,3\n");
+    assert_eq!(codes(&s), [WarningCode::ReplicateTimes]);
+    assert!(
+        s.warnings[0].message.starts_with(
+            "1 time carries more than one value (2 rows at it, e.g. 2024Q1 on lines 2 and 3)"
+        ),
+        "{}",
+        s.warnings[0].message
+    );
+    // Distinct times: no warning.
+    assert!(codes(&ok("t,v\n1,1\n1.0000001,2\n")).is_empty());
+}
+
+#[test]
+fn per_period_and_increments_refuse_replicates_naming_both_lines() {
+    let s = ok("week,new\n1,5\n2,7\n\n2,8\n3,9\n");
+    let e = per_period_totals(&s).unwrap_err();
     assert_eq!((e.kind, e.line), (DataErrorKind::DuplicateTime, Some(5)));
-    assert!(e.message.contains("line 2"), "{e}");
-    let e = err("q,v\n2024Q1,1\n2024-q1,2\n");
-    assert_eq!((e.kind, e.line), (DataErrorKind::DuplicateTime, Some(3)));
+    assert!(
+        e.message.contains("time \"2\" also appears on line 3"),
+        "{e}"
+    );
+    assert!(e.message.contains("running totals"), "{e}");
+    let e = check_increments(&s).unwrap_err();
+    assert_eq!((e.kind, e.line), (DataErrorKind::DuplicateTime, Some(5)));
+    assert!(e.message.contains("increments"), "{e}");
+    // The fit refuses increments with repeated times too, naming the lines
+    // through the series and the observations through the bare data.
+    let opts = crate::fit::FitOptions {
+        increments: true,
+        ..Default::default()
+    };
+    let e = crate::fit::fit(&s, crate::Model::Logistic, &opts).unwrap_err();
+    assert_eq!(e.kind, crate::fit::FitErrorKind::NotApplicable);
+    assert!(
+        e.message
+            .starts_with("line 5: time \"2\" also appears on line 3"),
+        "{e}"
+    );
+    let (t, y) = (
+        [1.0, 2.0, 3.0, 2.0, 4.0, 5.0],
+        [1.0, 3.0, 6.0, 4.0, 8.0, 9.0],
+    );
+    let e = crate::fit::fit_xy(&t, &y, crate::Model::Logistic, &opts).unwrap_err();
+    assert!(e.message.contains("observations 2 and 4"), "{e}");
+    // Without repeats: the running totals, in the order given.
+    let s = ok("week,new\n1,5\n2,7\n3,9\n");
+    assert_eq!(per_period_totals(&s).unwrap(), [5.0, 12.0, 21.0]);
+    assert!(check_increments(&s).is_ok());
 }
 
 #[test]
@@ -639,8 +702,10 @@ proptest! {
         dialect in 0u8..3,
         header in any::<bool>(),
     ) {
+        // Repeated times (frequent among the years) are replicates: kept,
+        // with one warning.
         times.sort_by(f64::total_cmp);
-        times.dedup();
+        let repeats = times.windows(2).any(|w| w[0] == w[1]);
         let values = &values[..times.len()];
         let text = write_table(&times, values, dialect, header);
         let s = parse(&text).map_err(|e| TestCaseError::fail(format!("{e}\n{text}")))?;
@@ -650,7 +715,8 @@ proptest! {
             prop_assert!((got - want).abs() <= 1e-12 * want.abs(), "{} vs {}", got, want);
         }
         prop_assert_eq!(s.values.len(), values.len());
-        prop_assert!(s.warnings.is_empty());
+        let want = if repeats { vec![WarningCode::ReplicateTimes] } else { vec![] };
+        prop_assert_eq!(codes(&s), want);
     }
 
     #[test]

@@ -12,5 +12,6 @@ mod multi;
 mod nist;
 mod profile;
 mod recovery;
+mod replicates;
 mod scipy;
 mod symmetry;

@@ -253,6 +253,14 @@ fn push_line(
 /// The text of the line in `buf` without its line end (and without a
 /// byte-order mark on line 1).
 fn line_text(buf: &[u8], line_no: usize) -> Result<&str, Stop> {
+    if line_no == 1 {
+        if let Some(enc) = plateau_core::data::Utf16::detect(buf) {
+            return Err(Stop::Input(format!(
+                "line 1: the file is {}; save it as UTF-8 (\"CSV UTF-8\" in a spreadsheet's Save As)",
+                enc.describe()
+            )));
+        }
+    }
     let text = std::str::from_utf8(buf)
         .map_err(|e| {
             Stop::Input(format!(

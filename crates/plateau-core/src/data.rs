@@ -50,6 +50,13 @@ pub enum TimeKind {
     Number,
     /// ISO dates `YYYY-MM-DD`: the axis is the decimal year
     /// `year + ordinal0 / days_in_year` (365 or 366), so 1 January is `year + 0`.
+    ///
+    /// Also a column of Unix epoch times (UTC): every time a whole number
+    /// of 10 digits above 1e9 (seconds, 2001-09-09 to 2286-11-20) or every
+    /// time one of 13 digits (milliseconds, the same span). The axis is then
+    /// the decimal year with the time of day,
+    /// `year + (ordinal0 + seconds_of_day / 86400) / days_in_year`, and an
+    /// `epoch_times` warning says so.
     Date,
     /// Year-months `YYYY-MM`: the axis is `year + (month - 1) / 12`.
     Month,
@@ -138,7 +145,8 @@ pub enum DataErrorKind {
     MissingTime,
     /// A time of another kind than the first data row's (a date among numbers, …).
     MixedTimeFormats,
-    /// A time beyond ±1e9 (or an infinite one).
+    /// A time beyond ±1e9 (or an infinite one) in a column that is not
+    /// all Unix epoch seconds or milliseconds (those are read as dates).
     TimeOutOfRange,
     /// Two rows have the same time where one value per time is needed
     /// (per-period counts, increments: [`per_period_totals`],
@@ -163,6 +171,8 @@ pub enum DataErrorKind {
     MissingSeriesName,
     /// Long layout: a row with more fields than series, time and value.
     TooManyFields,
+    /// The bytes are neither UTF-8 nor UTF-16 text ([`decode_text`]).
+    NotText,
 }
 
 impl fmt::Display for DataError {
@@ -194,6 +204,111 @@ pub fn cumulate(values: &[f64]) -> Vec<f64> {
             Some(*sum)
         })
         .collect()
+}
+
+/// A text encoding [`decode_text`] recognises besides UTF-8.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Utf16 {
+    LittleEndian,
+    BigEndian,
+}
+
+impl Utf16 {
+    /// "UTF-16 (little-endian)" or "UTF-16 (big-endian)".
+    pub fn describe(self) -> &'static str {
+        match self {
+            Utf16::LittleEndian => "UTF-16 (little-endian)",
+            Utf16::BigEndian => "UTF-16 (big-endian)",
+        }
+    }
+
+    /// Whether the start of a file is UTF-16: its byte-order mark (`FF FE`
+    /// little-endian, `FE FF` big-endian), or without one the zero bytes
+    /// that ASCII characters carry in UTF-16: within the first 512 bytes,
+    /// a zero in every other byte of at least half the byte pairs and
+    /// none in the other position. (UTF-8 text has no zero bytes.)
+    pub fn detect(bytes: &[u8]) -> Option<Utf16> {
+        match bytes {
+            [0xEF, 0xBB, 0xBF, ..] => return None,
+            [0xFF, 0xFE, ..] => return Some(Utf16::LittleEndian),
+            [0xFE, 0xFF, ..] => return Some(Utf16::BigEndian),
+            _ => {}
+        }
+        let head = &bytes[..bytes.len().min(512) & !1];
+        let pairs = head.len() / 2;
+        if pairs < 2 {
+            return None;
+        }
+        let zeros = |k: usize| head.iter().skip(k).step_by(2).filter(|&&b| b == 0).count();
+        let (even, odd) = (zeros(0), zeros(1));
+        if odd * 2 >= pairs && even == 0 {
+            Some(Utf16::LittleEndian)
+        } else if even * 2 >= pairs && odd == 0 {
+            Some(Utf16::BigEndian)
+        } else {
+            None
+        }
+    }
+}
+
+/// The text of a file's bytes: UTF-8, or UTF-16 (little- or big-endian,
+/// with or without a byte-order mark, see [`Utf16::detect`]) decoded; a
+/// UTF-16 byte-order mark is dropped ([`parse_series`] drops UTF-8's).
+/// Anything else is a [`DataErrorKind::NotText`] error naming the line and
+/// byte offset of the first bad byte and the encoding it looked like. A
+/// pure function on bytes: the core reads no files, front ends call this
+/// where bytes become text. UTF-8 bytes become the `String` without a copy.
+pub fn decode_text(bytes: Vec<u8>) -> Result<String, DataError> {
+    if let Some(enc) = Utf16::detect(&bytes) {
+        let units = bytes.chunks(2).map(|c| match (enc, c) {
+            (Utf16::LittleEndian, [a, b]) => u16::from_le_bytes([*a, *b]),
+            (Utf16::BigEndian, [a, b]) => u16::from_be_bytes([*a, *b]),
+            // An odd last byte: not a code unit; decoding reports it.
+            _ => 0xDC00,
+        });
+        let mut text = String::with_capacity(bytes.len() / 2);
+        let mut line = 1;
+        for (i, c) in char::decode_utf16(units).enumerate() {
+            match c {
+                Ok(c) => {
+                    line += usize::from(c == '\n');
+                    text.push(c);
+                }
+                Err(_) => return Err(error(
+                    DataErrorKind::NotText,
+                    Some(line),
+                    format!(
+                        "the file is {} but has an invalid character at byte {}; save it as UTF-8 \
+                             (\"CSV UTF-8\" in a spreadsheet's Save As)",
+                        enc.describe(),
+                        2 * i
+                    ),
+                )),
+            }
+        }
+        return Ok(text
+            .strip_prefix('\u{feff}')
+            .map(str::to_string)
+            .unwrap_or(text));
+    }
+    match String::from_utf8(bytes) {
+        Ok(t) => Ok(t),
+        Err(e) => {
+            let at = e.utf8_error().valid_up_to();
+            let bytes = e.as_bytes();
+            let line_at =
+                |offset: usize| 1 + bytes[..offset].iter().filter(|&&b| b == b'\n').count();
+            Err(error(
+                DataErrorKind::NotText,
+                Some(line_at(at)),
+                format!(
+                    "not UTF-8 text (first bad byte 0x{:02X} at byte offset {at}); expected UTF-8 or UTF-16 text: \
+                     save the file as UTF-8 (\"CSV UTF-8\" in a spreadsheet's Save As)",
+                    bytes[at]
+                ),
+            ))
+        }
+    }
 }
 
 /// The key two times share exactly when they are the same axis value: the
@@ -522,12 +637,26 @@ fn build_series(
         None => decide_decimal(rows, time_kind, delimiter)?,
     };
 
+    // A column of Unix epoch seconds or milliseconds is read as dates
+    // (see `time::epoch_of` for when; the axis is the decimal year).
+    let epoch = (time_kind == TimeKind::Number)
+        .then(|| time::epoch_of(rows.iter().map(|r| r.time)))
+        .flatten();
+    let time_kind = if epoch.is_some() {
+        TimeKind::Date
+    } else {
+        time_kind
+    };
     let mut times = Vec::with_capacity(rows.len());
     let mut values = Vec::with_capacity(rows.len());
     let mut lines = Vec::with_capacity(rows.len());
     for row in rows {
-        let t = time::parse(row.time, time_kind, dec)
-            .map_err(|e| time_error(e, row, time_kind, &time_name))?;
+        let t = match epoch {
+            Some(unit) => time::epoch_axis(row.time, unit)
+                .ok_or_else(|| bad_time(row, Some(TimeKind::Number), &time_name))?,
+            None => time::parse(row.time, time_kind, dec)
+                .map_err(|e| time_error(e, row, time_kind, &time_name))?,
+        };
         let v = parse_number(row.value, dec).map_err(|e| value_error(e, row, dec, delimiter))?;
         times.push(t);
         values.push(v);
@@ -546,6 +675,17 @@ fn build_series(
     }
     if let Some(w) = replicate_warning(&times, &lines, time_kind) {
         warnings.push(w);
+    }
+    if let (Some(unit), Some(first)) = (epoch, rows.first()) {
+        warnings.push(Warning::new(
+            WarningCode::EpochTimes,
+            format!(
+                "the times are read as Unix epoch {} (UTC) and shown as dates (the nearest day): {} is {}",
+                unit.describe(),
+                first.time.trim(),
+                time::epoch_text(first.time, unit).unwrap_or_default()
+            ),
+        ));
     }
     Ok(Series {
         time_kind,
@@ -977,7 +1117,12 @@ fn time_error(e: TimeError, row: &Row, kind: TimeKind, name: &str) -> DataError 
         TimeError::OutOfRange => error(
             DataErrorKind::TimeOutOfRange,
             Some(row.line),
-            format!("the time {found} is out of range; expected a time between -1e9 and 1e9"),
+            format!(
+                "the time {found} is out of range; expected a time between -1e9 and 1e9 \
+                 (Unix epoch times are read as dates when every time in the column is a \
+                 whole number of seconds with 10 digits or of milliseconds with 13 digits; \
+                 otherwise convert them to dates YYYY-MM-DD)"
+            ),
         ),
     }
 }

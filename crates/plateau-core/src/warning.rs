@@ -39,6 +39,9 @@ pub enum WarningCode {
     /// row is fitted as its own observation, and the residual checks that
     /// need one value per time use the mean residual per time.
     ReplicateTimes,
+    /// The time column held Unix epoch seconds or milliseconds, read as
+    /// dates (UTC).
+    EpochTimes,
 }
 
 impl WarningCode {
@@ -57,6 +60,7 @@ impl WarningCode {
             WarningCode::ValuesDecline => "values_decline",
             WarningCode::ProfileNotComputed => "profile_not_computed",
             WarningCode::ReplicateTimes => "replicate_times",
+            WarningCode::EpochTimes => "epoch_times",
         }
     }
 }

@@ -760,3 +760,106 @@ fn decline_warning_tells_counts_from_totals() {
     let s = parse_series(plateau, &ParseOptions::default()).unwrap();
     assert!(decline_warning(&s).is_none());
 }
+
+// ---- epoch times and encodings ----------------------------------------------
+
+#[test]
+fn epoch_seconds_and_milliseconds_read_as_dates() {
+    // 1700000000 s = 2023-11-14 22:13:20 UTC (date -u -d @1700000000);
+    // 2023 has 365 days and 14 November is day 318 (ordinal0 317).
+    let s = ok("time,v\n1700000000,1\n1700086400,2\n1700172800,4\n");
+    assert_eq!(s.time_kind, TimeKind::Date);
+    let want = 2023.0 + (317.0 + 80000.0 / 86400.0) / 365.0;
+    assert!((s.times[0] - want).abs() < 1e-12, "{}", s.times[0]);
+    assert_eq!(TimeKind::Date.format(s.times[1]), "2023-11-16");
+    assert_eq!(codes(&s), [WarningCode::EpochTimes]);
+    assert!(s.warnings[0].message.contains("epoch seconds (UTC)"));
+    assert!(
+        s.warnings[0]
+            .message
+            .contains("1700000000 is 2023-11-14 22:13:20 UTC"),
+        "{}",
+        s.warnings[0].message
+    );
+    // Milliseconds: the same instants.
+    let m = ok("time,v\n1700000000000,1\n1700086400000,2\n1700172800500,4\n");
+    assert_eq!(m.time_kind, TimeKind::Date);
+    assert!((m.times[0] - s.times[0]).abs() < 1e-12);
+    assert!((m.times[2] - s.times[2] - 0.5 / 86400.0 / 365.0).abs() < 1e-12);
+    assert!(m.warnings[0].message.contains("milliseconds"));
+    // A leap year divides by 366: 2024-01-01 00:00 UTC is 1704067200.
+    assert_eq!(ok("t,v\n1704067200,1\n1704153600,2\n").times[0], 2024.0);
+    // Replicates of one instant stay replicates.
+    let r = ok("t,v\n1700000000,1\n1700000000,2\n1700086400,3\n");
+    assert_eq!(
+        codes(&r),
+        [WarningCode::ReplicateTimes, WarningCode::EpochTimes]
+    );
+}
+
+#[test]
+fn columns_that_are_not_all_epoch_keep_the_range_error_with_a_hint() {
+    // Seconds mixed with milliseconds, or with a plain number, or with a
+    // fraction: not an epoch column.
+    for text in [
+        "t,v\n1700000000,1\n1700000000000,2\n",
+        "t,v\n1700000000,1\n5,2\n",
+        "t,v\n1700000000.5,1\n1700000001,2\n",
+    ] {
+        let e = err(text);
+        assert_eq!(e.kind, DataErrorKind::TimeOutOfRange, "{text}");
+        assert!(
+            e.message.contains("Unix epoch times are read as dates"),
+            "{e}"
+        );
+    }
+    // Plain numbers up to 1e9 are numbers as before.
+    let s = ok("t,v\n999999999,1\n1000000000,2\n");
+    assert_eq!(s.time_kind, TimeKind::Number);
+}
+
+fn utf16(text: &str, big: bool, bom: bool) -> Vec<u8> {
+    let mut units: Vec<u16> = text.encode_utf16().collect();
+    if bom {
+        units.insert(0, 0xFEFF);
+    }
+    units
+        .iter()
+        .flat_map(|u| {
+            if big {
+                u.to_be_bytes()
+            } else {
+                u.to_le_bytes()
+            }
+        })
+        .collect()
+}
+
+#[test]
+fn utf16_is_detected_named_and_decoded() {
+    let text = "wöche,n\n1,2\n2,5\n3,9\n";
+    for (big, name) in [
+        (false, "UTF-16 (little-endian)"),
+        (true, "UTF-16 (big-endian)"),
+    ] {
+        for bom in [true, false] {
+            let bytes = utf16(text, big, bom);
+            assert_eq!(Utf16::detect(&bytes).map(Utf16::describe), Some(name));
+            assert_eq!(decode_text(bytes).unwrap(), text);
+        }
+    }
+    // An unpaired surrogate on line 2 (LE with BOM): named, with the line.
+    let mut bytes = utf16("t,v\n1,2\n", false, true);
+    bytes.extend_from_slice(&0xD800u16.to_le_bytes());
+    let e = decode_text(bytes).unwrap_err();
+    assert_eq!((e.kind, e.line), (DataErrorKind::NotText, Some(3)));
+    assert!(e.message.contains("UTF-16 (little-endian)"), "{e}");
+    // UTF-8 (with its BOM) is not UTF-16 and comes back as it is.
+    let utf8 = "\u{feff}t,v\n1,2\n".as_bytes().to_vec();
+    assert_eq!(Utf16::detect(&utf8), None);
+    assert_eq!(decode_text(utf8).unwrap(), "\u{feff}t,v\n1,2\n");
+    // Latin-1 bytes: not UTF-8, naming the line and offset.
+    let e = decode_text(b"t,v\n1,2\nw\xf6che,3\n".to_vec()).unwrap_err();
+    assert_eq!((e.kind, e.line), (DataErrorKind::NotText, Some(3)));
+    assert!(e.message.contains("byte offset 9"), "{e}");
+}

@@ -29,7 +29,8 @@
 //! why, and how many series the printed results cover.
 
 use plateau_core::data::{
-    cumulate, sniff_delimiter, split_line, LongGrouper, NamedSeries, PendingSeries, SeriesFailure,
+    per_period_totals, sniff_delimiter, split_line, LongGrouper, NamedSeries, PendingSeries,
+    SeriesFailure,
 };
 use plateau_core::fit::{fit, FitOptions};
 use plateau_core::report::{FitReport, CAUTION};
@@ -134,7 +135,21 @@ pub fn fit_one(item: Result<NamedSeries, SeriesFailure>, opts: &Options) -> Outc
         },
         Ok(mut ns) => {
             if opts.per_period {
-                ns.series.values = cumulate(&ns.series.values);
+                match per_period_totals(&ns.series) {
+                    Ok(totals) => ns.series.values = totals,
+                    Err(error) => {
+                        let first_line = ns.series.lines.first().copied().unwrap_or(0);
+                        let name = ns.name;
+                        return fit_one(
+                            Err(SeriesFailure {
+                                name,
+                                first_line,
+                                error,
+                            }),
+                            opts,
+                        );
+                    }
+                }
             }
             match fit(&ns.series, opts.model, &opts.fit) {
                 Ok(f) => Outcome {
@@ -294,6 +309,17 @@ fn push_line(
 /// The text of the line in `buf` without its line end (and without a
 /// byte-order mark on line 1).
 fn line_text(buf: &[u8], line_no: usize) -> Result<&str, Fatal> {
+    if line_no == 1 {
+        if let Some(enc) = plateau_core::data::Utf16::detect(buf) {
+            return Err(Fatal {
+                line: line_no,
+                message: format!(
+                    "line 1: the file is {}; save it as UTF-8 (\"CSV UTF-8\" in a spreadsheet's Save As)",
+                    enc.describe()
+                ),
+            });
+        }
+    }
     let text = std::str::from_utf8(buf)
         .map_err(|e| Fatal {
             line: line_no,

@@ -385,31 +385,27 @@ fn read_series(
     opts: &plateau_core::ParseOptions,
 ) -> Result<(String, Series), Failure> {
     let file = input.file.as_str();
-    let (name, text) = if file == "-" {
-        let mut s = String::new();
+    let (name, bytes) = if file == "-" {
+        let mut bytes = Vec::new();
         std::io::stdin()
-            .read_to_string(&mut s)
-            .context("cannot read standard input as UTF-8 text")
+            .read_to_end(&mut bytes)
+            .context("cannot read standard input")
             .map_err(Failure::Input)?;
-        ("<stdin>".to_string(), s)
+        ("<stdin>".to_string(), bytes)
     } else {
         let bytes = std::fs::read(file)
             .with_context(|| format!("cannot read {file}"))
             .map_err(Failure::Input)?;
-        let text = String::from_utf8(bytes)
-            .map_err(|e| {
-                anyhow::anyhow!(
-                    "{file}: not UTF-8 text (first bad byte at offset {})",
-                    e.utf8_error().valid_up_to()
-                )
-            })
-            .map_err(Failure::Input)?;
-        (file.to_string(), text)
+        (file.to_string(), bytes)
     };
+    // UTF-8, or UTF-16 decoded; anything else is named (core's decode_text).
+    let text = plateau_core::data::decode_text(bytes)
+        .map_err(|e| Failure::Input(anyhow::anyhow!("{name}: {e}")))?;
     let mut series =
         parse_series(&text, opts).map_err(|e| Failure::Input(anyhow::anyhow!("{name}: {e}")))?;
     if input.per_period {
-        series.values = plateau_core::data::cumulate(&series.values);
+        series.values = plateau_core::data::per_period_totals(&series)
+            .map_err(|e| Failure::Input(anyhow::anyhow!("{name}: {e}")))?;
         series.value_name = format!("{} (cumulative)", series.value_name);
     } else if let Some(mut w) = plateau_core::data::decline_warning(&series) {
         w.message.push_str(" (--per-period)");

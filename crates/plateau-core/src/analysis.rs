@@ -424,6 +424,13 @@ pub const MIN_COMPARED: usize = 3;
 /// near √2; the successive-difference estimate (von Neumann) sees only the
 /// point-to-point scatter.
 ///
+/// Replicates (several observations at one time): the data's reading at a
+/// time is the mean residual of its replicates (`ê` interpolates those
+/// means, and `v_i` counts each mean's variance σ²/m); every observation
+/// is still reflected and compared, and `s` takes successive differences
+/// over all observations in time order (replicates in input order), which
+/// estimates the scatter of one observation.
+///
 /// `None` also when `t` and `y` differ in length or have fewer than three
 /// finite points.
 pub fn symmetry(fit: &Fit, t: &[f64], y: &[f64]) -> Option<Symmetry> {
@@ -468,7 +475,17 @@ pub fn symmetry(fit: &Fit, t: &[f64], y: &[f64]) -> Option<Symmetry> {
         / (2.0 * (n - 1) as f64))
         .sqrt();
 
-    let (t_first, t_last) = (pts[0].0, pts[n - 1].0);
+    // Distinct times with the mean residual and the number of replicates
+    // there, and the first index in `pts` of each.
+    let mut groups: Vec<(f64, f64, usize, usize)> = Vec::new();
+    let mut start = 0;
+    for g in pts.chunk_by(|a, b| a.0 == b.0) {
+        let mean = g.iter().map(|q| q.2).sum::<f64>() / g.len() as f64;
+        groups.push((g[0].0, mean, g.len(), start));
+        start += g.len();
+    }
+    let n_groups = groups.len();
+    let (t_first, t_last) = (groups[0].0, groups[n_groups - 1].0);
     let mut sum = 0.0;
     let mut n_compared = 0;
     for (i, &(ti, yi, _)) in pts.iter().enumerate() {
@@ -477,33 +494,34 @@ pub fn symmetry(fit: &Fit, t: &[f64], y: &[f64]) -> Option<Symmetry> {
         if !(tr >= t_first && tr <= t_last) {
             continue;
         }
-        // Segment [k0, k1] with t_k0 ≤ tr < t_k1, or the last point itself.
-        let j = pts.partition_point(|q| q.0 <= tr);
-        let (k0, k1, w1) = if j >= n {
-            (n - 1, n - 1, 0.0)
+        // Segment [k0, k1] of distinct times with t_k0 ≤ tr < t_k1, or the last time itself.
+        let j = groups.partition_point(|q| q.0 <= tr);
+        let (k0, k1, w1) = if j >= n_groups {
+            (n_groups - 1, n_groups - 1, 0.0)
         } else {
-            let (a, b) = (pts[j - 1].0, pts[j].0);
+            let (a, b) = (groups[j - 1].0, groups[j].0);
             (j - 1, j, (tr - a) / (b - a))
         };
         let w0 = 1.0 - w1;
-        let e_hat = w0 * pts[k0].2 + w1 * pts[k1].2;
+        let e_hat = w0 * groups[k0].1 + w1 * groups[k1].1;
         let d = yr - model.eval(&p, tr) - e_hat;
-        // The reflected point carries −ε_i; the interpolated reading carries
-        // w0 ε_k0 + w1 ε_k1, and i may be one of k0, k1 (points near t_c).
-        let mut v = 0.0;
-        let mut own = 1.0;
+        // The reflected point carries −ε_i; the interpolated reading
+        // carries w ε̄_k of each time k it reads, ε̄_k the mean of m_k
+        // replicates, and i may be one of them (points near t_c):
+        // v = Σ_k w_k² / m_k + 1 (+ 2 w_k / m_k for i's own time).
+        let mut v = 1.0;
         for (k, w) in [(k0, w0), (k1, w1)] {
             if k0 == k1 && k == k1 && w == 0.0 {
                 continue;
             }
-            if k == i {
-                v += (w + own).powi(2);
-                own = 0.0;
-            } else {
-                v += w * w;
+            let (_, _, m, start) = groups[k];
+            let own = (start..start + m).contains(&i);
+            let m = m as f64;
+            v += w * w / m;
+            if own {
+                v += 2.0 * w / m;
             }
         }
-        v += own * own;
         sum += d * d / v;
         n_compared += 1;
     }

@@ -51,6 +51,13 @@ pub enum TimeKind {
     Number,
     /// ISO dates `YYYY-MM-DD`: the axis is the decimal year
     /// `year + ordinal0 / days_in_year` (365 or 366), so 1 January is `year + 0`.
+    ///
+    /// Also a column of Unix epoch times (UTC): every time a whole number
+    /// of 10 digits above 1e9 (seconds, 2001-09-09 to 2286-11-20) or every
+    /// time one of 13 digits (milliseconds, the same span). The axis is then
+    /// the decimal year with the time of day,
+    /// `year + (ordinal0 + seconds_of_day / 86400) / days_in_year`, and an
+    /// `epoch_times` warning says so.
     Date,
     /// Year-months `YYYY-MM`: the axis is `year + (month - 1) / 12`.
     Month,
@@ -139,9 +146,13 @@ pub enum DataErrorKind {
     MissingTime,
     /// A time of another kind than the first data row's (a date among numbers, …).
     MixedTimeFormats,
-    /// A time beyond ±1e9 (or an infinite one).
+    /// A time beyond ±1e9 (or an infinite one) in a column that is not
+    /// all Unix epoch seconds or milliseconds (those are read as dates).
     TimeOutOfRange,
-    /// Two rows have the same time; the message names both lines.
+    /// Two rows have the same time where one value per time is needed
+    /// (per-period counts, increments: [`per_period_totals`],
+    /// [`check_increments`]); the message names both lines. Elsewhere
+    /// repeated times are replicates, kept with a `replicate_times` warning.
     DuplicateTime,
     /// A value that is not a number.
     BadValue,
@@ -161,6 +172,8 @@ pub enum DataErrorKind {
     MissingSeriesName,
     /// Long layout: a row with more fields than series, time and value.
     TooManyFields,
+    /// The bytes are neither UTF-8 nor UTF-16 text ([`decode_text`]).
+    NotText,
 }
 
 impl fmt::Display for DataError {
@@ -192,6 +205,234 @@ pub fn cumulate(values: &[f64]) -> Vec<f64> {
             Some(*sum)
         })
         .collect()
+}
+
+/// A text encoding [`decode_text`] recognises besides UTF-8.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Utf16 {
+    LittleEndian,
+    BigEndian,
+}
+
+impl Utf16 {
+    /// "UTF-16 (little-endian)" or "UTF-16 (big-endian)".
+    pub fn describe(self) -> &'static str {
+        match self {
+            Utf16::LittleEndian => "UTF-16 (little-endian)",
+            Utf16::BigEndian => "UTF-16 (big-endian)",
+        }
+    }
+
+    /// Whether the start of a file is UTF-16: its byte-order mark (`FF FE`
+    /// little-endian, `FE FF` big-endian), or without one the zero bytes
+    /// that ASCII characters carry in UTF-16: within the first 512 bytes,
+    /// a zero in every other byte of at least half the byte pairs and
+    /// none in the other position. (UTF-8 text has no zero bytes.)
+    pub fn detect(bytes: &[u8]) -> Option<Utf16> {
+        match bytes {
+            [0xEF, 0xBB, 0xBF, ..] => return None,
+            [0xFF, 0xFE, ..] => return Some(Utf16::LittleEndian),
+            [0xFE, 0xFF, ..] => return Some(Utf16::BigEndian),
+            _ => {}
+        }
+        let head = &bytes[..bytes.len().min(512) & !1];
+        let pairs = head.len() / 2;
+        if pairs < 2 {
+            return None;
+        }
+        let zeros = |k: usize| head.iter().skip(k).step_by(2).filter(|&&b| b == 0).count();
+        let (even, odd) = (zeros(0), zeros(1));
+        if odd * 2 >= pairs && even == 0 {
+            Some(Utf16::LittleEndian)
+        } else if even * 2 >= pairs && odd == 0 {
+            Some(Utf16::BigEndian)
+        } else {
+            None
+        }
+    }
+}
+
+/// The text of a file's bytes: UTF-8, or UTF-16 (little- or big-endian,
+/// with or without a byte-order mark, see [`Utf16::detect`]) decoded; a
+/// UTF-16 byte-order mark is dropped ([`parse_series`] drops UTF-8's).
+/// Anything else is a [`DataErrorKind::NotText`] error naming the line and
+/// byte offset of the first bad byte and the encoding it looked like. A
+/// pure function on bytes: the core reads no files, front ends call this
+/// where bytes become text. UTF-8 bytes become the `String` without a copy.
+pub fn decode_text(bytes: Vec<u8>) -> Result<String, DataError> {
+    if let Some(enc) = Utf16::detect(&bytes) {
+        let units = bytes.chunks(2).map(|c| match (enc, c) {
+            (Utf16::LittleEndian, [a, b]) => u16::from_le_bytes([*a, *b]),
+            (Utf16::BigEndian, [a, b]) => u16::from_be_bytes([*a, *b]),
+            // An odd last byte: not a code unit; decoding reports it.
+            _ => 0xDC00,
+        });
+        let mut text = String::with_capacity(bytes.len() / 2);
+        let mut line = 1;
+        for (i, c) in char::decode_utf16(units).enumerate() {
+            match c {
+                Ok(c) => {
+                    line += usize::from(c == '\n');
+                    text.push(c);
+                }
+                Err(_) => {
+                    return Err(error(
+                        DataErrorKind::NotText,
+                        Some(line),
+                        format!(
+                        "the file is {} but has an invalid character at byte {}; save it as UTF-8 \
+                             (\"CSV UTF-8\" in a spreadsheet's Save As)",
+                        enc.describe(),
+                        2 * i
+                    ),
+                    ))
+                }
+            }
+        }
+        return Ok(text
+            .strip_prefix('\u{feff}')
+            .map(str::to_string)
+            .unwrap_or(text));
+    }
+    match String::from_utf8(bytes) {
+        Ok(t) => Ok(t),
+        Err(e) => {
+            let at = e.utf8_error().valid_up_to();
+            let bytes = e.as_bytes();
+            let line_at =
+                |offset: usize| 1 + bytes[..offset].iter().filter(|&&b| b == b'\n').count();
+            Err(error(
+                DataErrorKind::NotText,
+                Some(line_at(at)),
+                format!(
+                    "not UTF-8 text (first bad byte 0x{:02X} at byte offset {at}); expected UTF-8 or UTF-16 text: \
+                     save the file as UTF-8 (\"CSV UTF-8\" in a spreadsheet's Save As)",
+                    bytes[at]
+                ),
+            ))
+        }
+    }
+}
+
+/// The key two times share exactly when they are the same axis value: the
+/// bits, with −0 folded into 0 (so `1` and `1.0` are one time, `1` and
+/// `1.0000001` are two).
+fn time_key(t: f64) -> u64 {
+    (t + 0.0).to_bits()
+}
+
+/// The first row whose time an earlier row already has, as `(earlier,
+/// later)` indices into `times`; `None` when every time appears once.
+pub fn repeated_time(times: &[f64]) -> Option<(usize, usize)> {
+    if is_sorted(times) {
+        // Equal times are neighbours: no map for a sorted series.
+        let i = times.windows(2).position(|w| w[0] == w[1])?;
+        return Some((i, i + 1));
+    }
+    let mut seen: HashMap<u64, usize> = HashMap::with_capacity(times.len());
+    for (i, &t) in times.iter().enumerate() {
+        if let Some(&earlier) = seen.get(&time_key(t)) {
+            return Some((earlier, i));
+        }
+        seen.insert(time_key(t), i);
+    }
+    None
+}
+
+fn is_sorted(times: &[f64]) -> bool {
+    times.windows(2).all(|w| w[0] <= w[1])
+}
+
+/// How many times carry more than one row, and how many rows those are.
+fn replicate_counts(times: &[f64]) -> (usize, usize) {
+    if is_sorted(times) {
+        let (mut repeated, mut rows, mut run) = (0, 0, 1);
+        for i in 1..=times.len() {
+            if i < times.len() && times[i] == times[i - 1] {
+                run += 1;
+                continue;
+            }
+            if run > 1 {
+                repeated += 1;
+                rows += run;
+            }
+            run = 1;
+        }
+        return (repeated, rows);
+    }
+    let mut count: HashMap<u64, usize> = HashMap::with_capacity(times.len());
+    for &t in times {
+        *count.entry(time_key(t)).or_insert(0) += 1;
+    }
+    let repeated = count.values().filter(|&&c| c > 1).count();
+    let rows = count.values().filter(|&&c| c > 1).sum();
+    (repeated, rows)
+}
+
+/// The `replicate_times` warning: how many times carry more than one value
+/// and how many rows they have, with the first example.
+fn replicate_warning(times: &[f64], lines: &[usize], kind: TimeKind) -> Option<Warning> {
+    let (first, second) = repeated_time(times)?;
+    let (repeated, rows) = replicate_counts(times);
+    Some(Warning::new(
+        WarningCode::ReplicateTimes,
+        format!(
+            "{repeated} time{s} carr{ies} more than one value ({rows} rows at {them}, e.g. {} on lines {} and {}); \
+             they are fitted as given, each row one observation, and the residual checks that need one value \
+             per time use the mean residual per time",
+            kind.format(times[first]),
+            lines.get(first).copied().unwrap_or(0),
+            lines.get(second).copied().unwrap_or(0),
+            s = if repeated == 1 { "" } else { "s" },
+            ies = if repeated == 1 { "ies" } else { "y" },
+            them = if repeated == 1 { "it" } else { "them" },
+        ),
+    ))
+}
+
+/// Refuses a series with a repeated time for a step that needs one value
+/// per time, naming both lines: `what` says what needs it, `instead` what
+/// to do.
+fn one_value_per_time(series: &Series, what: &str, instead: &str) -> Result<(), DataError> {
+    let Some((first, second)) = repeated_time(&series.times) else {
+        return Ok(());
+    };
+    let line = |i: usize| series.lines.get(i).copied();
+    Err(error(
+        DataErrorKind::DuplicateTime,
+        line(second),
+        format!(
+            "time {} also appears on line {}: {what} needs one value per time, and replicate \
+             measurements give several; {instead}",
+            quote(&series.time_kind.format(series.times[first])),
+            line(first).unwrap_or(0),
+        ),
+    ))
+}
+
+/// The running totals of a series of per-period counts ([`cumulate`] in
+/// the order given), or an error naming the lines of a repeated time:
+/// per-period counts are one count per period, so replicates have no
+/// running total.
+pub fn per_period_totals(series: &Series) -> Result<Vec<f64>, DataError> {
+    one_value_per_time(
+        series,
+        "summing counts per period into running totals",
+        "add the counts of one period into one row, or fit the values as they are",
+    )?;
+    Ok(cumulate(&series.values))
+}
+
+/// Whether `series` can be fitted by its per-period increments
+/// ([`FitOptions::increments`](crate::fit::FitOptions::increments)): an
+/// error naming the lines of a repeated time otherwise, since differences
+/// between consecutive times need one value per time.
+pub fn check_increments(series: &Series) -> Result<(), DataError> {
+    one_value_per_time(
+        series,
+        "fitting increments (differences between consecutive times)",
+        "fit the values themselves, or combine the replicates of each time into one row",
+    )
 }
 
 /// A warning when values meant as running totals fall well below their
@@ -520,8 +761,11 @@ struct Meta {
 /// The kept rows of one series (line, raw time, raw value) and the lines
 /// of the rows skipped for a missing value, validated and read into a
 /// [`Series`]: one time kind, one decimal convention (`dec`, or decided
-/// from these rows), no duplicate times, warnings for the skipped and
-/// unsorted rows.
+/// from these rows), warnings for the skipped and unsorted rows and for
+/// repeated times. A time on several rows is a set of replicate
+/// measurements: every row is kept and fitted as its own observation
+/// (`replicate_times` warning); only what needs one value per time refuses
+/// them ([`per_period_totals`], [`check_increments`]).
 fn build_series(
     rows: &Rows,
     skipped: &[usize],
@@ -558,45 +802,41 @@ fn build_series(
         None => decide_decimal(rows, time_kind, delimiter)?,
     };
 
+    // A column of Unix epoch seconds or milliseconds is read as dates
+    // (see `time::epoch_of` for when; the axis is the decimal year).
+    let epoch = match time::epoch_of(std::iter::once(first_row.time)) {
+        Some(unit) if time_kind == TimeKind::Number => {
+            // Every row must be the same unit; one pass, no copy of the rows.
+            let mut all = true;
+            rows.try_for_each(|row| {
+                all &= time::epoch_of(std::iter::once(row.time)) == Some(unit);
+                Ok(())
+            })?;
+            all.then_some(unit)
+        }
+        _ => None,
+    };
+    let time_kind = if epoch.is_some() {
+        TimeKind::Date
+    } else {
+        time_kind
+    };
     let mut times = Vec::with_capacity(rows.len());
     let mut values = Vec::with_capacity(rows.len());
     let mut lines = Vec::with_capacity(rows.len());
-    // Keyed by the bits of the axis value (with -0 folded into 0), which is
-    // exact equality: 1 and 1.0 are duplicates, 1 and 1.0000001 are not.
-    // Times that only increase cannot repeat, so the map is only built (from
-    // the rows so far) at the first time that does not, and a long sorted
-    // series needs none.
-    let mut seen: Option<HashMap<u64, usize>> = None;
     rows.try_for_each(|row| {
-        let t = time::parse(row.time, time_kind, dec)
-            .map_err(|e| time_error(e, &row, time_kind, &time_name))?;
+        let t = match epoch {
+            Some(unit) => time::epoch_axis(row.time, unit)
+                .ok_or_else(|| bad_time(&row, Some(TimeKind::Number), &time_name))?,
+            None => time::parse(row.time, time_kind, dec)
+                .map_err(|e| time_error(e, &row, time_kind, &time_name))?,
+        };
         let v = parse_number(row.value, dec).map_err(|e| value_error(e, &row, dec, delimiter))?;
-        if seen.is_none() && times.last().is_some_and(|&last: &f64| t <= last) {
-            let mut map = HashMap::with_capacity(times.len() + 1);
-            for (&earlier, &line) in times.iter().zip(&lines) {
-                map.insert((earlier + 0.0).to_bits(), line);
-            }
-            seen = Some(map);
-        }
-        if let Some(seen) = seen.as_mut() {
-            if let Some(&earlier) = seen.get(&(t + 0.0).to_bits()) {
-                return Err(error(
-                    DataErrorKind::DuplicateTime,
-                    Some(row.line),
-                    format!(
-                        "time {} also appears on line {earlier}; expected each time once",
-                        quote(row.time.trim())
-                    ),
-                ));
-            }
-            seen.insert((t + 0.0).to_bits(), row.line);
-        }
         times.push(t);
         values.push(v);
         lines.push(row.line);
         Ok(())
     })?;
-    drop(seen);
 
     let mut warnings = Vec::new();
     if !skipped.is_empty() {
@@ -607,6 +847,20 @@ fn build_series(
     }
     if let Some(w) = unsorted_warning(&times, &lines, time_kind) {
         warnings.push(w);
+    }
+    if let Some(w) = replicate_warning(&times, &lines, time_kind) {
+        warnings.push(w);
+    }
+    if let (Some(unit), Some(first)) = (epoch, rows.first()) {
+        warnings.push(Warning::new(
+            WarningCode::EpochTimes,
+            format!(
+                "the times are read as Unix epoch {} (UTC) and shown as dates (the nearest day): {} is {}",
+                unit.describe(),
+                first.time.trim(),
+                time::epoch_text(first.time, unit).unwrap_or_default()
+            ),
+        ));
     }
     Ok(Series {
         time_kind,
@@ -1165,7 +1419,12 @@ fn time_error(e: TimeError, row: &Row, kind: TimeKind, name: &str) -> DataError 
         TimeError::OutOfRange => error(
             DataErrorKind::TimeOutOfRange,
             Some(row.line),
-            format!("the time {found} is out of range; expected a time between -1e9 and 1e9"),
+            format!(
+                "the time {found} is out of range; expected a time between -1e9 and 1e9 \
+                 (Unix epoch times are read as dates when every time in the column is a \
+                 whole number of seconds with 10 digits or of milliseconds with 13 digits; \
+                 otherwise convert them to dates YYYY-MM-DD)"
+            ),
         ),
     }
 }

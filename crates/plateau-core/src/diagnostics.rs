@@ -13,6 +13,15 @@
 //!
 //! Residuals are `e_i = y_i − f(t_i)` (unweighted), taken in time order.
 //!
+//! Replicates (several observations at one time): the normality checks
+//! (Q-Q, Jarque–Bera) use every residual; the checks of serial order — the
+//! runs test, Durbin–Watson and the lag-1 autocorrelation — need one value
+//! per time and use the mean residual of each distinct time, in time order
+//! ([`mean_per_time`]). Replicates of one time have no order among
+//! themselves, so a sequence through them would measure the input order,
+//! not the curve's misfit; their mean is the data's reading at that time.
+//! [`ResidualDiagnostics::serial_n`] says how many values those checks used.
+//!
 //! Thresholds (all documented on the constants): tests at [`ALPHA`] = 0.05;
 //! Durbin–Watson outside [[`DW_LOW`], [`DW_HIGH`]] = [1.5, 2.5] (a rule of
 //! thumb, common practice: DW ≈ 2 (1 − r₁), so these bounds are |r₁| ≳ 0.25);
@@ -357,8 +366,17 @@ pub struct ResidualDiagnostics {
     pub qq: Option<NormalQq>,
     pub jarque_bera: Option<JarqueBera>,
     /// Runs, autocorrelation and normality, in that order (one `too_few`
-    /// verdict instead when n < [`MIN_RESIDUALS`]).
+    /// verdict instead when n < [`MIN_RESIDUALS`]; with replicates and
+    /// fewer than [`MIN_RESIDUALS`] distinct times, one `too_few` verdict
+    /// for the order checks, then normality).
     pub verdicts: Vec<Verdict>,
+    /// Values the runs test, Durbin–Watson and the lag-1 autocorrelation
+    /// were computed from: `n`, or with replicate times the number of
+    /// distinct times (one mean residual each, see the module docs).
+    pub serial_n: usize,
+    /// Whether those checks used the mean residual per time (the times
+    /// repeat) rather than the residuals themselves.
+    pub per_time_means: bool,
 }
 
 /// Residuals of `fit` in time order (stable for equal times), finite ones
@@ -373,6 +391,15 @@ pub struct ResidualDiagnostics {
 /// For a fit to per-period increments, `y` and `f` are the differences of
 /// consecutive (time-ordered) values and curve values, n − 1 of them.
 pub fn residuals_in_time_order(fit: &Fit, t: &[f64], y: &[f64]) -> Vec<f64> {
+    timed_residuals(fit, t, y)
+        .into_iter()
+        .map(|q| q.1)
+        .collect()
+}
+
+/// [`residuals_in_time_order`] with the time of each (for increments, the
+/// later time of the pair).
+fn timed_residuals(fit: &Fit, t: &[f64], y: &[f64]) -> Vec<(f64, f64)> {
     let p = fit.values();
     let mut pts: Vec<(f64, f64, f64)> = t
         .iter()
@@ -381,51 +408,107 @@ pub fn residuals_in_time_order(fit: &Fit, t: &[f64], y: &[f64]) -> Vec<f64> {
         .map(|(&a, &b)| (a, b, fit.model.eval(&p, a)))
         .collect();
     pts.sort_by(|a, b| a.0.total_cmp(&b.0));
-    let pairs: Vec<(f64, f64)> = if fit.increments {
+    let pairs: Vec<(f64, f64, f64)> = if fit.increments {
         pts.windows(2)
-            .map(|w| (w[1].1 - w[0].1, w[1].2 - w[0].2))
+            .map(|w| (w[1].0, w[1].1 - w[0].1, w[1].2 - w[0].2))
             .collect()
     } else {
-        pts.iter().map(|q| (q.1, q.2)).collect()
+        pts
     };
     pairs
         .into_iter()
-        .map(|(obs, f)| match fit.error_model {
-            ErrorModel::Additive => obs - f,
-            ErrorModel::Relative => (obs - f) / f,
-            ErrorModel::Log => obs.ln() - f.ln(),
-            ErrorModel::Count => (obs - f) / f.sqrt(),
+        .map(|(time, obs, f)| {
+            let e = match fit.error_model {
+                ErrorModel::Additive => obs - f,
+                ErrorModel::Relative => (obs - f) / f,
+                ErrorModel::Log => obs.ln() - f.ln(),
+                ErrorModel::Count => (obs - f) / f.sqrt(),
+            };
+            (time, e)
         })
-        .filter(|e| e.is_finite())
+        .filter(|q| q.1.is_finite())
+        .collect()
+}
+
+/// The mean residual of each distinct time, in time order, from
+/// `(time, residual)` pairs sorted by time: the one value per time that
+/// the runs test, Durbin–Watson and the lag-1 autocorrelation use when
+/// times repeat (replicates). Times are equal when their values are
+/// (`1` and `1.0` are one time). Without repeats it is the residuals.
+pub fn mean_per_time(timed: &[(f64, f64)]) -> Vec<f64> {
+    timed
+        .chunk_by(|a, b| a.0 == b.0)
+        .map(|g| g.iter().map(|q| q.1).sum::<f64>() / g.len() as f64)
         .collect()
 }
 
 /// Runs test, Durbin–Watson, lag-1 autocorrelation, Q-Q data and the
 /// Jarque–Bera test of the fit's residuals, with their verdicts.
+///
+/// With replicate times the runs test, Durbin–Watson and the lag-1
+/// autocorrelation use the mean residual per time ([`mean_per_time`]; see
+/// the module docs), the normality checks every residual.
 pub fn residual_diagnostics(fit: &Fit, t: &[f64], y: &[f64]) -> ResidualDiagnostics {
-    of_residuals(residuals_in_time_order(fit, t, y))
+    let timed = timed_residuals(fit, t, y);
+    let means = mean_per_time(&timed);
+    let res: Vec<f64> = timed.into_iter().map(|q| q.1).collect();
+    if means.len() == res.len() {
+        of_residuals(res)
+    } else {
+        of_residuals_and_means(res, means)
+    }
 }
 
-/// [`residual_diagnostics`] for residuals already in time order.
+/// [`residual_diagnostics`] for residuals already in time order, one per
+/// time.
 pub fn of_residuals(res: Vec<f64>) -> ResidualDiagnostics {
-    let runs = runs_test(&res);
-    let dw = durbin_watson(&res);
-    let r1 = lag1_autocorrelation(&res);
+    let serial = res.clone();
+    let mut d = of_residuals_and_means(res, serial);
+    d.per_time_means = false;
+    d
+}
+
+/// [`residual_diagnostics`] from every residual in time order (`res`, for
+/// Q-Q and Jarque–Bera) and the mean residual per distinct time (`means`,
+/// for the runs test, Durbin–Watson and the lag-1 autocorrelation).
+pub fn of_residuals_and_means(res: Vec<f64>, means: Vec<f64>) -> ResidualDiagnostics {
+    let runs = runs_test(&means);
+    let dw = durbin_watson(&means);
+    let r1 = lag1_autocorrelation(&means);
     let qq = normal_qq(&res);
     let jb = jarque_bera(&res);
     let n = res.len();
+    let serial_n = means.len();
+    let per_time_means = serial_n != n;
     let verdicts = if n < MIN_RESIDUALS {
         vec![verdict(
             "too_few",
             false,
             format!("only {n} residuals: too few to judge their pattern (at least {MIN_RESIDUALS} needed)"),
         )]
-    } else {
+    } else if serial_n < MIN_RESIDUALS {
         vec![
-            runs_verdict(runs.as_ref()),
-            dw_verdict(dw, r1),
+            verdict(
+                "too_few",
+                false,
+                format!(
+                    "only {serial_n} distinct times: too few to judge the order of the residuals \
+                     (at least {MIN_RESIDUALS} needed; replicates of one time count once)"
+                ),
+            ),
             normality_verdict(jb.as_ref()),
         ]
+    } else {
+        let mut order = vec![runs_verdict(runs.as_ref()), dw_verdict(dw, r1)];
+        if per_time_means {
+            for v in &mut order {
+                v.text.push_str(&format!(
+                    " (on the mean residual of each of the {serial_n} distinct times)"
+                ));
+            }
+        }
+        order.push(normality_verdict(jb.as_ref()));
+        order
     };
     ResidualDiagnostics {
         n,
@@ -436,6 +519,8 @@ pub fn of_residuals(res: Vec<f64>) -> ResidualDiagnostics {
         qq,
         jarque_bera: jb,
         verdicts,
+        serial_n,
+        per_time_means,
     }
 }
 
@@ -865,6 +950,10 @@ pub const FISHER_PRY_MIN_POINTS: usize = 5;
 /// (or K is wrong: too high bends the points down at the late end, too low
 /// bends them up).
 ///
+/// Replicate measurements (several at one time) enter as separate points
+/// of the regression, which is what weighted least squares does with
+/// repeated x; the curvature test needs at least three distinct times.
+///
 /// `None` when K is not positive and finite or `t`, `y` differ in length.
 pub fn fisher_pry(t: &[f64], y: &[f64], k: f64, errors: ErrorModel) -> Option<FisherPry> {
     if !(k.is_finite() && k > 0.0) || t.len() != y.len() {
@@ -935,7 +1024,10 @@ pub fn fisher_pry(t: &[f64], y: &[f64], k: f64, errors: ErrorModel) -> Option<Fi
         .filter(|v| v.is_finite());
 
     let (mut c, mut ct, mut cp) = (None, None, None);
-    if n >= FISHER_PRY_MIN_POINTS {
+    // Replicates (repeated times) are observations like any other in this
+    // regression; a quadratic needs three distinct times, though.
+    let distinct = pts.chunk_by(|a, b| a.0 == b.0).count();
+    if n >= FISHER_PRY_MIN_POINTS && distinct >= 3 {
         let x = nalgebra::DMatrix::from_fn(n, 3, |i, j| {
             pts[i].2 * ((pts[i].0 - tm) / ts).powi(j as i32)
         });

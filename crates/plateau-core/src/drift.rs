@@ -16,6 +16,13 @@
 //! Both warm-start each fit from the previous prefix's estimate (the
 //! prefixes differ by one point, so it is a close start) and fall back to
 //! the self-start when that does not converge.
+//!
+//! Replicates (several observations at one time): a prefix is cut between
+//! distinct times, never inside one time's replicates, so "the data up to
+//! time c" always means all of them. A prefix then grows by one time (all
+//! its replicates) rather than one point; in a backtest, horizon h is the
+//! h-th distinct time after the origin and each replicate there is one
+//! scored forecast.
 
 use crate::fit::{fit_xy, Fit, FitOptions, IntervalMethod, ParamEstimate};
 use crate::model::Model;
@@ -88,6 +95,16 @@ fn warm_fit(
     fit_xy(t, y, model, opts).map_err(|e| e.message)
 }
 
+/// The prefix sizes of the time-ordered times `ts` that end between two
+/// distinct times (and `ts.len()` itself): the only places a prefix may be
+/// cut, so that it never splits one time's replicates. Without repeated
+/// times it is `1..=n`.
+fn cut_points(ts: &[f64]) -> Vec<usize> {
+    (1..=ts.len())
+        .filter(|&m| m == ts.len() || ts[m] != ts[m - 1])
+        .collect()
+}
+
 /// Free parameters of `model` under `opts` (fixed names that the model
 /// does not have are ignored here; the fit reports them).
 fn n_free(model: Model, opts: &FitOptions) -> usize {
@@ -100,7 +117,8 @@ fn n_free(model: Model, opts: &FitOptions) -> usize {
 }
 
 /// Refits `model` on every prefix of `(t, y)` from `n_free + 1` points to
-/// all of them, in time order. See the module docs.
+/// all of them, in time order, cut only between distinct times. See the
+/// module docs.
 pub fn drift(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Vec<DriftRow> {
     drift_sampled(t, y, model, opts, usize::MAX)
 }
@@ -123,14 +141,18 @@ pub fn drift_sampled(
     if n < first || max_rows == 0 {
         return Vec::new();
     }
-    let count = n - first + 1;
+    let cuts: Vec<usize> = cut_points(&ts)
+        .into_iter()
+        .filter(|&m| m >= first)
+        .collect();
+    let count = cuts.len();
     let sizes: Vec<usize> = if count <= max_rows {
-        (first..=n).collect()
+        cuts
     } else if max_rows == 1 {
         vec![n]
     } else {
         let mut v: Vec<usize> = (0..max_rows)
-            .map(|i| first + (i * (count - 1) + (max_rows - 1) / 2) / (max_rows - 1))
+            .map(|i| cuts[(i * (count - 1) + (max_rows - 1) / 2) / (max_rows - 1)])
             .collect();
         v.dedup();
         v
@@ -162,7 +184,8 @@ pub fn drift_sampled(
 /// Settings of [`backtest`].
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct BacktestOptions {
-    /// Largest horizon H (steps ahead, in observations).
+    /// Largest horizon H (steps ahead, in observations; in distinct times
+    /// when times repeat).
     pub horizon: usize,
     /// Points in the first origin; `None`: half the series, at least the
     /// model's free parameters plus two.
@@ -208,7 +231,10 @@ pub struct ModelBacktest {
 
 /// Rolling-origin evaluation of every model in `models` (see the module
 /// docs). Origins run from the first training size to n − 1; an origin's
-/// forecasts are the points o+1 … o+H that exist. Each model is fitted with
+/// forecasts are the points o+1 … o+H that exist. With replicate times,
+/// origins are cut between distinct times (the first training size rounds
+/// up to the end of a time) and horizon h covers every replicate of the
+/// h-th distinct time after the origin. Each model is fitted with
 /// [`crate::compare::options_for`] it (a known K is Bass's m).
 pub fn backtest(
     t: &[f64],
@@ -221,6 +247,7 @@ pub fn backtest(
     let ts: Vec<f64> = order.iter().map(|&i| t[i]).collect();
     let ys: Vec<f64> = order.iter().map(|&i| y[i]).collect();
     let n = ts.len();
+    let cuts = cut_points(&ts);
     let horizon = bt.horizon.max(1);
     // Point forecasts only: no interval refits.
     let opts = &FitOptions {
@@ -242,7 +269,10 @@ pub fn backtest(
             let mut origins = 0;
             let mut failed = 0;
             let mut prev: Option<Fit> = None;
-            for o in first..n {
+            for (c, &o) in cuts.iter().enumerate() {
+                if o < first || o >= n {
+                    continue;
+                }
                 origins += 1;
                 if error.is_some() {
                     failed += 1;
@@ -250,19 +280,23 @@ pub fn backtest(
                 }
                 match warm_fit(&ts[..o], &ys[..o], model, opts, prev.as_ref()) {
                     Ok(f) => {
+                        // Distinct time h after the origin: rows cuts[c + h - 1]..cuts[c + h].
                         for h in 1..=horizon {
-                            let Some(&actual) = ys.get(o + h - 1) else {
+                            let Some(&end) = cuts.get(c + h) else {
                                 break;
                             };
-                            let e = (f.predict(ts[o + h - 1]) - actual).abs();
-                            if !e.is_finite() {
-                                continue;
-                            }
-                            abs[h - 1].0 += 1;
-                            abs[h - 1].1 += e;
-                            if actual != 0.0 {
-                                pct[h - 1].0 += 1;
-                                pct[h - 1].1 += 100.0 * e / actual.abs();
+                            for i in cuts[c + h - 1]..end {
+                                let actual = ys[i];
+                                let e = (f.predict(ts[i]) - actual).abs();
+                                if !e.is_finite() {
+                                    continue;
+                                }
+                                abs[h - 1].0 += 1;
+                                abs[h - 1].1 += e;
+                                if actual != 0.0 {
+                                    pct[h - 1].0 += 1;
+                                    pct[h - 1].1 += 100.0 * e / actual.abs();
+                                }
                             }
                         }
                         if f.converged {

@@ -584,7 +584,13 @@ fn rows(c: &mut [f64], r: std::ops::Range<usize>) -> &mut [f64] {
 }
 
 /// Fits `model` to `series`.
+/// With [`FitOptions::increments`], a repeated time is refused naming its
+/// lines ([`crate::data::check_increments`]).
 pub fn fit(series: &Series, model: Model, opts: &FitOptions) -> Result<Fit, FitError> {
+    if opts.increments {
+        crate::data::check_increments(series)
+            .map_err(|e| error(FitErrorKind::NotApplicable, e.to_string()))?;
+    }
     fit_xy(&series.times, &series.values, model, opts)
 }
 
@@ -1095,8 +1101,26 @@ const IRLS_TOLERANCE: f64 = 1e-10;
 
 /// The data on the residual scale: differences for increments, logs for
 /// the log error model (every one must then be positive).
+///
+/// Increments need one value per time: with replicate measurements
+/// (a repeated time) there is no difference between consecutive times, so
+/// they are refused ([`crate::data::check_increments`] names the lines).
 fn target_values(t: &[f64], y: &[f64], scale: Scale) -> Result<Vec<f64>, FitError> {
     let off = usize::from(scale.increments);
+    if scale.increments {
+        if let Some((a, b)) = crate::data::repeated_time(t) {
+            return Err(error(
+                FitErrorKind::NotApplicable,
+                format!(
+                    "fitting increments needs one value per time, but observations {} and {} (in the order given) \
+                     share a time (replicate measurements); fit the values themselves, or combine the replicates \
+                     of each time into one",
+                    a + 1,
+                    b + 1
+                ),
+            ));
+        }
+    }
     let mut out: Vec<f64> = if scale.increments {
         y.windows(2).map(|w| w[1] - w[0]).collect()
     } else {
@@ -1699,9 +1723,9 @@ fn diagnose(fit: &mut Fit, t: &[f64], y: &[f64]) {
 }
 
 mod profile;
-mod start_held;
 mod scaled;
 mod shape_checks;
+mod start_held;
 
 #[cfg(test)]
 mod tests;

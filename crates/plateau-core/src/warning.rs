@@ -45,6 +45,13 @@ pub enum WarningCode {
     /// A straight line describes the data better than the curve (AICc
     /// lower by 2 or more) and better than a constant: the data look linear.
     LooksLinear,
+    /// Some times carry more than one value (replicate measurements); every
+    /// row is fitted as its own observation, and the residual checks that
+    /// need one value per time use the mean residual per time.
+    ReplicateTimes,
+    /// The time column held Unix epoch seconds or milliseconds, read as
+    /// dates (UTC).
+    EpochTimes,
 }
 
 impl WarningCode {
@@ -65,6 +72,8 @@ impl WarningCode {
             WarningCode::GompertzLimit => "gompertz_limit",
             WarningCode::NoTrend => "no_trend",
             WarningCode::LooksLinear => "looks_linear",
+            WarningCode::ReplicateTimes => "replicate_times",
+            WarningCode::EpochTimes => "epoch_times",
         }
     }
 }

@@ -10,8 +10,8 @@ use plateau_core::analysis;
 use plateau_core::bootstrap::{Bootstrap, BootstrapOptions, Resampling, DEFAULT_SEED};
 use plateau_core::compare::{compare, nested_tests, recommend};
 use plateau_core::data::{
-    column_count, cumulate, decline_warning, parse_multi, ColumnRef, DataError, Layout,
-    MultiOptions, TimeKind,
+    check_increments, column_count, decline_warning, parse_multi, per_period_totals, ColumnRef,
+    DataError, Layout, MultiOptions, TimeKind,
 };
 use plateau_core::diagnostics::{self, Verdict};
 use plateau_core::drift::{drift_sampled, DriftRow};
@@ -597,8 +597,13 @@ fn analyse_multi(
     };
     for ns in set.series {
         let mut series = ns.series;
-        let values = if settings.per_period {
-            cumulate(&series.values)
+        let totals = settings.per_period.then(|| per_period_totals(&series));
+        let values = if let Some(totals) = totals {
+            totals.map_err(|e| {
+                let mut u = UpdateError::from(e);
+                u.message = format!("series \"{}\": {}", ns.name, u.message);
+                u
+            })?
         } else {
             if let Some(mut w) = decline_warning(&series) {
                 w.message = format!(
@@ -667,8 +672,11 @@ fn analyse_series(
     settings: &Settings,
     model: Model,
 ) -> Result<Analysis, UpdateError> {
+    if settings.increments {
+        check_increments(&series)?;
+    }
     let values = if settings.per_period {
-        cumulate(&series.values)
+        per_period_totals(&series)?
     } else {
         let warned = series
             .warnings

@@ -745,3 +745,29 @@ fn overlay_puts_every_series_on_the_reference_curve() {
     let svg = render_overlay_svg(&only, W, H).unwrap();
     assert!(svg.contains("needs a model with K"));
 }
+
+/// Replicates (several values at one time) are drawn one marker each on
+/// the curve, residual and symmetry charts, and the symmetry figure still
+/// has its ratio.
+#[test]
+fn replicates_are_drawn_one_marker_each() {
+    let (t1, y1) = series(Model::Logistic, &[1000.0, 0.35, 2015.0], 30, 15.0, 11);
+    let (_, y2) = series(Model::Logistic, &[1000.0, 0.35, 2015.0], 30, 15.0, 12);
+    let t: Vec<f64> = t1.iter().chain(&t1).copied().collect();
+    let y: Vec<f64> = y1.iter().chain(&y2).copied().collect();
+    let fit = fit_xy(&t, &y, Model::Logistic, &FitOptions::default()).expect("fit");
+    let case = Case { t, y, fit };
+    let input = case.input();
+    // Plus one legend sample on the curve and symmetry charts.
+    for (kind, legend) in [
+        (ChartKind::Curve, 1),
+        (ChartKind::Residuals, 0),
+        (ChartKind::Symmetry, 1),
+    ] {
+        let svg = render(kind, &input);
+        assert_eq!(count(&svg, "<circle"), 60 + legend, "{kind:?}");
+    }
+    let sym = symmetry(&case.fit, &case.t, &case.y).unwrap();
+    assert_eq!(sym.reflected.len(), 60);
+    assert!(sym.rms_ratio.is_some());
+}

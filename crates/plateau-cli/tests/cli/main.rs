@@ -120,11 +120,38 @@ fn bad_input_exits_2_naming_the_line() {
 }
 
 #[test]
-fn duplicate_times_exit_2_naming_both_lines() {
-    let out = plateau(&["fit", "-"], Some("t,y\n1,2\n2,3\n2,4\n3,5\n"));
+fn replicate_times_are_fitted_and_per_period_refuses_them_naming_both_lines() {
+    let text = "t,y\n0,10\n1,20\n1,22\n2,40\n3,61\n4,80\n4,78\n5,90\n6,95\n7,98\n";
+    let out = plateau(&["fit", "-", "--json"], Some(text));
+    assert_eq!(
+        out.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let report: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(report["n"], 10);
+    let codes: Vec<&str> = report["warnings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter_map(|w| w["code"].as_str())
+        .collect();
+    assert!(codes.contains(&"replicate_times"), "{codes:?}");
+    let out = plateau(&["fit", "-", "--per-period"], Some(text));
     assert_eq!(out.status.code(), Some(2));
     let err = String::from_utf8_lossy(&out.stderr);
-    assert!(err.contains('3') && err.contains('4'), "{err}");
+    assert!(
+        err.contains("line 4: time \"1\" also appears on line 3"),
+        "{err}"
+    );
+    let out = plateau(&["fit", "-", "--increments"], Some(text));
+    assert_ne!(out.status.code(), Some(0));
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        err.contains("line 4") && err.contains("increments"),
+        "{err}"
+    );
 }
 
 #[test]
@@ -1247,4 +1274,55 @@ fn drift_table_and_json_show_the_same_intervals() {
     // Both cases occur: K withheld early, shown once the data determine it.
     assert!(withheld >= 3 && shown >= 10, "{withheld} {shown}");
     assert!(table.contains("(-) no interval"), "{table}");
+}
+
+/// UTF-16 input (a spreadsheet's "Unicode text") is decoded; Latin-1 is
+/// refused naming the line; epoch seconds are read as dates.
+#[test]
+fn utf16_files_are_read_and_epoch_seconds_are_dates() {
+    let text = "t,y\n0,10\n1,20\n2,40\n3,61\n4,80\n5,90\n6,95\n7,98\n";
+    let dir = std::env::temp_dir().join(format!("plateau-utf16-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let utf16 = dir.join("utf16.csv");
+    let mut bytes = vec![0xFF, 0xFE];
+    bytes.extend(text.encode_utf16().flat_map(u16::to_le_bytes));
+    std::fs::write(&utf16, bytes).unwrap();
+    let plain = plateau(&["fit", "-", "--json"], Some(text));
+    let out = plateau(&["fit", utf16.to_str().unwrap(), "--json"], None);
+    assert_eq!(
+        out.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let (a, b): (Value, Value) = (
+        serde_json::from_slice(&plain.stdout).unwrap(),
+        serde_json::from_slice(&out.stdout).unwrap(),
+    );
+    assert_eq!(a["params"], b["params"]);
+    let latin1 = dir.join("latin1.csv");
+    std::fs::write(&latin1, b"t,y\n0,10\nw\xf6che,3\n").unwrap();
+    let out = plateau(&["fit", latin1.to_str().unwrap()], None);
+    assert_eq!(out.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(err.contains("line 3: not UTF-8 text"), "{err}");
+    std::fs::remove_dir_all(&dir).ok();
+
+    let epoch = "t,y\n1700000000,10\n1700086400,20\n1700172800,40\n1700259200,61\n\
+                 1700345600,80\n1700432000,90\n1700518400,95\n1700604800,98\n";
+    let out = plateau(&["fit", "-", "--json"], Some(epoch));
+    assert_eq!(
+        out.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let report: Value = serde_json::from_slice(&out.stdout).unwrap();
+    let codes: Vec<&str> = report["warnings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter_map(|w| w["code"].as_str())
+        .collect();
+    assert!(codes.contains(&"epoch_times"), "{codes:?}");
 }

@@ -386,12 +386,75 @@ fn missing_time_is_an_error() {
 }
 
 #[test]
-fn duplicate_times_name_both_lines() {
-    let e = err("t,v\n1,1\n2,2\n\n1.0,3\n");
+fn repeated_times_are_replicates_kept_with_a_counted_warning() {
+    // `1` and `1.0` are one time; 2024Q1 and 2024-q1 too.
+    let s = ok("t,v\n1,1\n2,2\n\n1.0,3\n3,4\n3,5\n3,6\n");
+    assert_eq!(s.times, [1.0, 2.0, 1.0, 3.0, 3.0, 3.0]);
+    assert_eq!(s.values, [1.0, 2.0, 3.0, 4.0, 5.0, 6.0]);
+    assert_eq!(s.lines, [2, 3, 5, 6, 7, 8]);
+    let w = s
+        .warnings
+        .iter()
+        .find(|w| w.code == WarningCode::ReplicateTimes)
+        .expect("replicate warning");
+    // Times 1 (2 rows) and 3 (3 rows): 2 times, 5 rows.
+    assert!(
+        w.message.starts_with(
+            "2 times carry more than one value (5 rows at them, e.g. 1 on lines 2 and 5)"
+        ),
+        "{}",
+        w.message
+    );
+    assert_eq!(WarningCode::ReplicateTimes.as_str(), "replicate_times");
+    let s = ok("q,v\n2024Q1,1\n2024-q1,2\n2024Q2,3\n");
+    assert_eq!(codes(&s), [WarningCode::ReplicateTimes]);
+    assert!(
+        s.warnings[0].message.starts_with(
+            "1 time carries more than one value (2 rows at it, e.g. 2024Q1 on lines 2 and 3)"
+        ),
+        "{}",
+        s.warnings[0].message
+    );
+    // Distinct times: no warning.
+    assert!(codes(&ok("t,v\n1,1\n1.0000001,2\n")).is_empty());
+}
+
+#[test]
+fn per_period_and_increments_refuse_replicates_naming_both_lines() {
+    let s = ok("week,new\n1,5\n2,7\n\n2,8\n3,9\n");
+    let e = per_period_totals(&s).unwrap_err();
     assert_eq!((e.kind, e.line), (DataErrorKind::DuplicateTime, Some(5)));
-    assert!(e.message.contains("line 2"), "{e}");
-    let e = err("q,v\n2024Q1,1\n2024-q1,2\n");
-    assert_eq!((e.kind, e.line), (DataErrorKind::DuplicateTime, Some(3)));
+    assert!(
+        e.message.contains("time \"2\" also appears on line 3"),
+        "{e}"
+    );
+    assert!(e.message.contains("running totals"), "{e}");
+    let e = check_increments(&s).unwrap_err();
+    assert_eq!((e.kind, e.line), (DataErrorKind::DuplicateTime, Some(5)));
+    assert!(e.message.contains("increments"), "{e}");
+    // The fit refuses increments with repeated times too, naming the lines
+    // through the series and the observations through the bare data.
+    let opts = crate::fit::FitOptions {
+        increments: true,
+        ..Default::default()
+    };
+    let e = crate::fit::fit(&s, crate::Model::Logistic, &opts).unwrap_err();
+    assert_eq!(e.kind, crate::fit::FitErrorKind::NotApplicable);
+    assert!(
+        e.message
+            .starts_with("line 5: time \"2\" also appears on line 3"),
+        "{e}"
+    );
+    let (t, y) = (
+        [1.0, 2.0, 3.0, 2.0, 4.0, 5.0],
+        [1.0, 3.0, 6.0, 4.0, 8.0, 9.0],
+    );
+    let e = crate::fit::fit_xy(&t, &y, crate::Model::Logistic, &opts).unwrap_err();
+    assert!(e.message.contains("observations 2 and 4"), "{e}");
+    // Without repeats: the running totals, in the order given.
+    let s = ok("week,new\n1,5\n2,7\n3,9\n");
+    assert_eq!(per_period_totals(&s).unwrap(), [5.0, 12.0, 21.0]);
+    assert!(check_increments(&s).is_ok());
 }
 
 #[test]
@@ -639,8 +702,10 @@ proptest! {
         dialect in 0u8..3,
         header in any::<bool>(),
     ) {
+        // Repeated times (frequent among the years) are replicates: kept,
+        // with one warning.
         times.sort_by(f64::total_cmp);
-        times.dedup();
+        let repeats = times.windows(2).any(|w| w[0] == w[1]);
         let values = &values[..times.len()];
         let text = write_table(&times, values, dialect, header);
         let s = parse(&text).map_err(|e| TestCaseError::fail(format!("{e}\n{text}")))?;
@@ -650,7 +715,8 @@ proptest! {
             prop_assert!((got - want).abs() <= 1e-12 * want.abs(), "{} vs {}", got, want);
         }
         prop_assert_eq!(s.values.len(), values.len());
-        prop_assert!(s.warnings.is_empty());
+        let want = if repeats { vec![WarningCode::ReplicateTimes] } else { vec![] };
+        prop_assert_eq!(codes(&s), want);
     }
 
     #[test]
@@ -738,4 +804,107 @@ fn field_count_check_follows_quoting() {
     }
     assert!(check_field_counts(&stray, b',').is_ok());
     assert_eq!(ok(&stray).times.len(), MAX_FIELDS / 2 - 1);
+}
+
+// ---- epoch times and encodings ----------------------------------------------
+
+#[test]
+fn epoch_seconds_and_milliseconds_read_as_dates() {
+    // 1700000000 s = 2023-11-14 22:13:20 UTC (date -u -d @1700000000);
+    // 2023 has 365 days and 14 November is day 318 (ordinal0 317).
+    let s = ok("time,v\n1700000000,1\n1700086400,2\n1700172800,4\n");
+    assert_eq!(s.time_kind, TimeKind::Date);
+    let want = 2023.0 + (317.0 + 80000.0 / 86400.0) / 365.0;
+    assert!((s.times[0] - want).abs() < 1e-12, "{}", s.times[0]);
+    assert_eq!(TimeKind::Date.format(s.times[1]), "2023-11-16");
+    assert_eq!(codes(&s), [WarningCode::EpochTimes]);
+    assert!(s.warnings[0].message.contains("epoch seconds (UTC)"));
+    assert!(
+        s.warnings[0]
+            .message
+            .contains("1700000000 is 2023-11-14 22:13:20 UTC"),
+        "{}",
+        s.warnings[0].message
+    );
+    // Milliseconds: the same instants.
+    let m = ok("time,v\n1700000000000,1\n1700086400000,2\n1700172800500,4\n");
+    assert_eq!(m.time_kind, TimeKind::Date);
+    assert!((m.times[0] - s.times[0]).abs() < 1e-12);
+    assert!((m.times[2] - s.times[2] - 0.5 / 86400.0 / 365.0).abs() < 1e-12);
+    assert!(m.warnings[0].message.contains("milliseconds"));
+    // A leap year divides by 366: 2024-01-01 00:00 UTC is 1704067200.
+    assert_eq!(ok("t,v\n1704067200,1\n1704153600,2\n").times[0], 2024.0);
+    // Replicates of one instant stay replicates.
+    let r = ok("t,v\n1700000000,1\n1700000000,2\n1700086400,3\n");
+    assert_eq!(
+        codes(&r),
+        [WarningCode::ReplicateTimes, WarningCode::EpochTimes]
+    );
+}
+
+#[test]
+fn columns_that_are_not_all_epoch_keep_the_range_error_with_a_hint() {
+    // Seconds mixed with milliseconds, or with a plain number, or with a
+    // fraction: not an epoch column.
+    for text in [
+        "t,v\n1700000000,1\n1700000000000,2\n",
+        "t,v\n1700000000,1\n5,2\n",
+        "t,v\n1700000000.5,1\n1700000001,2\n",
+    ] {
+        let e = err(text);
+        assert_eq!(e.kind, DataErrorKind::TimeOutOfRange, "{text}");
+        assert!(
+            e.message.contains("Unix epoch times are read as dates"),
+            "{e}"
+        );
+    }
+    // Plain numbers up to 1e9 are numbers as before.
+    let s = ok("t,v\n999999999,1\n1000000000,2\n");
+    assert_eq!(s.time_kind, TimeKind::Number);
+}
+
+fn utf16(text: &str, big: bool, bom: bool) -> Vec<u8> {
+    let mut units: Vec<u16> = text.encode_utf16().collect();
+    if bom {
+        units.insert(0, 0xFEFF);
+    }
+    units
+        .iter()
+        .flat_map(|u| {
+            if big {
+                u.to_be_bytes()
+            } else {
+                u.to_le_bytes()
+            }
+        })
+        .collect()
+}
+
+#[test]
+fn utf16_is_detected_named_and_decoded() {
+    let text = "wöche,n\n1,2\n2,5\n3,9\n";
+    for (big, name) in [
+        (false, "UTF-16 (little-endian)"),
+        (true, "UTF-16 (big-endian)"),
+    ] {
+        for bom in [true, false] {
+            let bytes = utf16(text, big, bom);
+            assert_eq!(Utf16::detect(&bytes).map(Utf16::describe), Some(name));
+            assert_eq!(decode_text(bytes).unwrap(), text);
+        }
+    }
+    // An unpaired surrogate on line 2 (LE with BOM): named, with the line.
+    let mut bytes = utf16("t,v\n1,2\n", false, true);
+    bytes.extend_from_slice(&0xD800u16.to_le_bytes());
+    let e = decode_text(bytes).unwrap_err();
+    assert_eq!((e.kind, e.line), (DataErrorKind::NotText, Some(3)));
+    assert!(e.message.contains("UTF-16 (little-endian)"), "{e}");
+    // UTF-8 (with its BOM) is not UTF-16 and comes back as it is.
+    let utf8 = "\u{feff}t,v\n1,2\n".as_bytes().to_vec();
+    assert_eq!(Utf16::detect(&utf8), None);
+    assert_eq!(decode_text(utf8).unwrap(), "\u{feff}t,v\n1,2\n");
+    // Latin-1 bytes: not UTF-8, naming the line and offset.
+    let e = decode_text(b"t,v\n1,2\nw\xf6che,3\n".to_vec()).unwrap_err();
+    assert_eq!((e.kind, e.line), (DataErrorKind::NotText, Some(3)));
+    assert!(e.message.contains("byte offset 9"), "{e}");
 }

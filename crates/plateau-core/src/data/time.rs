@@ -7,7 +7,7 @@
 
 use super::number::{parse_number, Decimal, NumError};
 use super::TimeKind;
-use chrono::{Datelike, NaiveDate};
+use chrono::{Datelike, NaiveDate, Timelike};
 
 /// Numeric times beyond this magnitude are refused: no growth series spans
 /// them, and the model's `exp(r (t - t0))` loses every digit there.
@@ -278,4 +278,75 @@ fn quarter_parts(s: &str) -> Option<(i32, u32)> {
     } else {
         None
     }
+}
+
+/// Unix epoch times: how a whole column of them is read.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub(super) enum Epoch {
+    /// Seconds since 1970-01-01 00:00 UTC, 10 digits above 1e9.
+    Seconds,
+    /// Milliseconds since 1970-01-01 00:00 UTC, 13 digits.
+    Milliseconds,
+}
+
+impl Epoch {
+    pub(super) fn describe(self) -> &'static str {
+        match self {
+            Epoch::Seconds => "seconds",
+            Epoch::Milliseconds => "milliseconds",
+        }
+    }
+}
+
+/// Whether a whole time column is Unix epoch times: every field (trimmed)
+/// is a plain whole number of 10 digits above 1e9 (seconds, 2001-09-09 to
+/// 2286-11-20) or every field one of 13 digits (milliseconds, the same
+/// span). Nothing else reads as epoch: such numbers were never valid plain
+/// times (beyond ±1e9), a single other field keeps the column plain, and
+/// seconds and milliseconds never mix.
+pub(super) fn epoch_of<'a>(mut fields: impl Iterator<Item = &'a str>) -> Option<Epoch> {
+    let unit = |s: &str| -> Option<Epoch> {
+        let s = s.trim();
+        if !s.bytes().all(|b| b.is_ascii_digit()) {
+            return None;
+        }
+        match s.len() {
+            10 if s > "1000000000" => Some(Epoch::Seconds),
+            13 if !s.starts_with('0') => Some(Epoch::Milliseconds),
+            _ => None,
+        }
+    };
+    let first = unit(fields.next()?)?;
+    fields.all(|f| unit(f) == Some(first)).then_some(first)
+}
+
+/// The calendar axis value (decimal year, as [`date_axis`] with the time
+/// of day: `year + (ordinal0 + seconds_of_day / 86400) / days_in_year`) of
+/// an epoch time that [`epoch_of`] accepted; UTC.
+pub(super) fn epoch_axis(s: &str, unit: Epoch) -> Option<f64> {
+    let v: i64 = s.trim().parse().ok()?;
+    let (secs, ms) = match unit {
+        Epoch::Seconds => (v, 0),
+        Epoch::Milliseconds => (v.div_euclid(1000), v.rem_euclid(1000)),
+    };
+    let dt = chrono::DateTime::from_timestamp(secs, 0)?.naive_utc();
+    let date = dt.date();
+    let day_seconds = f64::from(dt.time().num_seconds_from_midnight()) + ms as f64 / 1000.0;
+    let year = date.year();
+    Some(
+        f64::from(year)
+            + (f64::from(date.ordinal0()) + day_seconds / 86_400.0) / f64::from(days_in_year(year)),
+    )
+}
+
+/// An epoch time that [`epoch_of`] accepted, as `2023-11-14 22:13:20 UTC`
+/// (whole seconds), for messages.
+pub(super) fn epoch_text(s: &str, unit: Epoch) -> Option<String> {
+    let v: i64 = s.trim().parse().ok()?;
+    let secs = match unit {
+        Epoch::Seconds => v,
+        Epoch::Milliseconds => v.div_euclid(1000),
+    };
+    let dt = chrono::DateTime::from_timestamp(secs, 0)?;
+    Some(dt.format("%Y-%m-%d %H:%M:%S UTC").to_string())
 }

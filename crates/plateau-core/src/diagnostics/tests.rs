@@ -222,3 +222,69 @@ fn residuals_follow_the_error_model() {
     let f = fit_xy(&t, &y, Model::Logistic, &o).unwrap();
     assert_eq!(residuals_in_time_order(&f, &t, &y).len(), t.len() - 1);
 }
+
+/// With replicate times the order checks use the mean residual per time,
+/// worked by hand: residuals at times 1, 1, 2, 3, 3, 3, 4 of
+/// 1, 3 | −1 | −2, −4, 0 | 5 give the means 2, −1, −2, 5 (time order).
+#[test]
+fn replicates_use_the_mean_residual_per_time() {
+    let timed = [
+        (1.0, 1.0),
+        (1.0, 3.0),
+        (2.0, -1.0),
+        (3.0, -2.0),
+        (3.0, -4.0),
+        (3.0, 0.0),
+        (4.0, 5.0),
+    ];
+    let means = mean_per_time(&timed);
+    assert_eq!(means, [2.0, -1.0, -2.0, 5.0]);
+    // Signs + − − +: 3 runs. DW = (9 + 1 + 49) / (4 + 1 + 4 + 25) = 59/34.
+    // Mean 1: r₁ = Σ (e_t − 1)(e_{t−1} − 1) / Σ (e_t − 1)²
+    //           = ((−2)(1) + (−3)(−2) + (4)(−3)) / (1 + 4 + 9 + 16) = −8/30.
+    let res: Vec<f64> = timed.iter().map(|q| q.1).collect();
+    let d = of_residuals_and_means(res.clone(), means);
+    assert_eq!(d.runs.as_ref().unwrap().runs, 3);
+    assert!((d.durbin_watson.unwrap() - 59.0 / 34.0).abs() < 1e-15);
+    assert!((d.lag1_autocorrelation.unwrap() + 8.0 / 30.0).abs() < 1e-15);
+    assert_eq!((d.n, d.serial_n, d.per_time_means), (7, 4, true));
+    // Q-Q and Jarque–Bera use all seven residuals.
+    assert_eq!(d.qq.as_ref().unwrap().points.len(), 7);
+    assert_eq!(d.jarque_bera, jarque_bera(&res));
+    // Fewer than MIN_RESIDUALS distinct times: the order checks say so.
+    let many: Vec<f64> = (0..12).map(|i| f64::from(i % 3) - 1.0).collect();
+    let d = of_residuals_and_means(many, vec![1.0, -1.0, 0.5, -0.5]);
+    assert_eq!(d.verdicts.len(), 2);
+    assert_eq!(d.verdicts[0].code, "too_few");
+    assert!(d.verdicts[0].text.contains("4 distinct times"));
+    // Without replicates nothing changes.
+    let d = of_residuals(vec![1.0, -1.0, 2.0]);
+    assert_eq!((d.serial_n, d.per_time_means), (3, false));
+}
+
+/// `residual_diagnostics` of a fit to replicate data uses the per-time
+/// means of the residuals in time order, whatever the input order.
+#[test]
+fn residual_diagnostics_of_replicates_group_by_time() {
+    let (t0, y0) = noisy(Model::Logistic, &[1000.0, 0.3, 14.5], 10.0, 7);
+    let (_, y1) = noisy(Model::Logistic, &[1000.0, 0.3, 14.5], 10.0, 8);
+    // Both replicate sets, the second reversed.
+    let t: Vec<f64> = t0.iter().chain(t0.iter().rev()).copied().collect();
+    let y: Vec<f64> = y0.iter().chain(y1.iter().rev()).copied().collect();
+    let f = fit_xy(&t, &y, Model::Logistic, &FitOptions::default()).unwrap();
+    let d = residual_diagnostics(&f, &t, &y);
+    assert_eq!(
+        (d.n, d.serial_n, d.per_time_means),
+        (t.len(), t0.len(), true)
+    );
+    let p = f.values();
+    let means: Vec<f64> = (0..t0.len())
+        .map(|i| {
+            let f = Model::Logistic.eval(&p, t0[i]);
+            ((y0[i] - f) + (y1[i] - f)) / 2.0
+        })
+        .collect();
+    let dw = durbin_watson(&means).unwrap();
+    assert!((d.durbin_watson.unwrap() - dw).abs() < 1e-12 * dw);
+    assert!(d.verdicts[0].text.contains("distinct times"));
+}

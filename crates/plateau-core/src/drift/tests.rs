@@ -179,3 +179,56 @@ fn a_step_shaped_early_fit_is_not_carried_forward() {
         .warnings
         .is_empty()));
 }
+
+/// Replicates: every prefix ends between distinct times, so it holds all
+/// replicates of its last time; the backtest's horizon h scores each
+/// replicate of the h-th distinct time after the origin.
+#[test]
+fn prefixes_and_origins_never_split_replicates() {
+    let (t1, y1) = logistic_exact(20);
+    // Times 0..20, with two replicates at every even time (the second
+    // 1% higher), in input order reversed.
+    let mut t = Vec::new();
+    let mut y = Vec::new();
+    for (ti, yi) in t1.iter().zip(&y1).rev() {
+        t.push(*ti);
+        y.push(*yi);
+        if ti % 2.0 == 0.0 {
+            t.push(*ti);
+            y.push(yi * 1.01);
+        }
+    }
+    let rows = drift(&t, &y, Model::Logistic, &FitOptions::default());
+    // Sizes through time c: c + 1 rows plus one more per even time ≤ c.
+    let through = |c: usize| c + 1 + c / 2 + 1;
+    let sizes: Vec<usize> = rows.iter().map(|r| r.m).collect();
+    // The smallest prefix with ≥ 4 rows ends at time 2 (0, 0, 1, 2, 2: 5 rows).
+    let want: Vec<usize> = (2..20).map(through).collect();
+    assert_eq!(sizes, want);
+    for (r, c) in rows.iter().zip(2..20) {
+        assert_eq!(r.cutoff, f64::from(c), "m = {}", r.m);
+    }
+    let sampled = drift_sampled(&t, &y, Model::Logistic, &FitOptions::default(), 5);
+    assert!(sampled.iter().all(|r| want.contains(&r.m)));
+    assert_eq!(sampled.last().unwrap().m, t.len());
+
+    let bt = backtest(
+        &t,
+        &y,
+        &[Model::Logistic],
+        &FitOptions::default(),
+        &BacktestOptions {
+            horizon: 2,
+            min_train: Some(10),
+        },
+    );
+    // Origins: cuts ≥ 10 rows and < 30: through(6) = 11 … through(18) = 28.
+    let origins: Vec<usize> = (6..19).map(through).collect();
+    assert_eq!(bt[0].origins, origins.len());
+    // h = 1 after through(c) is time c + 1: 2 rows when c + 1 is even.
+    let h1: usize = (6..19).map(|c| if (c + 1) % 2 == 0 { 2 } else { 1 }).sum();
+    let h2: usize = (6..18).map(|c| if (c + 2) % 2 == 0 { 2 } else { 1 }).sum();
+    assert_eq!(bt[0].failed, 0);
+    assert_eq!(bt[0].by_horizon[0].count, h1);
+    assert_eq!(bt[0].by_horizon[1].count, h2);
+}

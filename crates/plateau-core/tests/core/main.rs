@@ -14,6 +14,7 @@ mod multi;
 mod nist;
 mod profile;
 mod recovery;
+mod replicates;
 mod richards;
 mod scale;
 mod scipy;

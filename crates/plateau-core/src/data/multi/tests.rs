@@ -60,8 +60,12 @@ fn wide_errors_name_line_and_series() {
     assert_eq!(e.line, Some(3));
     assert_eq!(e.kind, DataErrorKind::BadValue);
     assert!(e.message.starts_with("series \"b\": "), "{}", e.message);
-    let e = err("t,a,b\n1,1,2\n1,3,4\n");
-    assert_eq!((e.kind, e.line), (DataErrorKind::DuplicateTime, Some(3)));
+    // A repeated time is a replicate in every series, as in one series.
+    let s = ok("t,a,b\n1,1,2\n1,3,4\n2,5,6\n");
+    for ns in &s.series {
+        assert_eq!(ns.series.times, [1.0, 1.0, 2.0]);
+        assert_eq!(ns.series.warnings[0].code, WarningCode::ReplicateTimes);
+    }
     let e = err("t,a,b\n1,1,2\n,3,4\n");
     assert_eq!((e.kind, e.line), (DataErrorKind::MissingTime, Some(3)));
     let e = err("t,a,A\n1,1,2\n");
@@ -143,8 +147,12 @@ fn long_errors_name_line_and_series() {
     )
     .unwrap_err();
     assert_eq!((e.kind, e.line), (DataErrorKind::TooManyFields, Some(2)));
-    let e = err("s,t,v\na,1,1\na,1,2\n");
-    assert_eq!((e.kind, e.line), (DataErrorKind::DuplicateTime, Some(3)));
+    let s = ok("s,t,v\na,1,1\na,1,2\na,2,3\n");
+    assert_eq!(s.series[0].series.values, [1.0, 2.0, 3.0]);
+    assert_eq!(
+        s.series[0].series.warnings[0].code,
+        WarningCode::ReplicateTimes
+    );
     let e = err("s,t,v\na,1,NA\nb,1,2\n");
     assert_eq!((e.kind, e.line), (DataErrorKind::NoData, Some(2)));
 }

@@ -1,0 +1,4 @@
+//! The analysis layer both faces call: the CLI (`plateau-cli`) and the page
+//! (`plateau-web`) turn their flags or settings into one validated request,
+//! and read every answer, report, sentence and formatted number from here.
+//! The core computes; this crate decides how results are put to people.

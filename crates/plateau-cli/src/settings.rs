@@ -451,9 +451,15 @@ fn check_name(flag: &str, name: &str, v: f64, scope: Scope<'_>) -> Result<()> {
     }
     for (m, p) in holders {
         let j = m.param_index(p).unwrap_or(0);
-        if m.domains()[j] == plateau_core::model::Domain::Positive && v <= 0.0 {
+        let domain = m.domains()[j];
+        if !domain.contains(v) {
+            let range = match domain.lower_edge() {
+                Some(e) if e == 0.0 => "positive".to_string(),
+                Some(e) => format!("greater than {e}"),
+                None => "a finite number".to_string(),
+            };
             bail!(
-                "{flag} {name}={v}: {p} of the {} model must be positive",
+                "{flag} {name}={v}: {p} of the {} model must be {range}",
                 m.name()
             );
         }
@@ -571,6 +577,16 @@ mod tests {
         assert!(held(&strings(&["t0=-5"]), &[], one).is_ok());
         let e = held(&strings(&["K=0"]), &[], ALL).unwrap_err().to_string();
         assert!(e.contains("must be positive"), "{e}");
+        // Richards' nu lives in (-1, inf): -1 is refused as input, -0.5 is not.
+        let rich = Scope::One(Model::Richards);
+        let e = held(&strings(&["nu=-1"]), &[], rich)
+            .unwrap_err()
+            .to_string();
+        assert!(
+            e.contains("nu of the richards model must be greater than -1"),
+            "{e}"
+        );
+        assert!(held(&strings(&["nu=-0.5"]), &[], rich).is_ok());
     }
 
     #[test]

@@ -4,7 +4,7 @@
 //! parameters' [`Role`]s.
 //!
 //! With `y' = c y` (`c = 2^k`, chosen so that the largest |y'| lies in
-//! [1, 2)) and `t' = (t − t_c) s`:
+//! [1, 2) when the largest |y| lies outside [2^-64, 2^64); else `c = 1`) and `t' = (t − t_c) s`:
 //!
 //! ```text
 //! level   (K, L, m, a)   θ' = c θ
@@ -39,10 +39,16 @@ use std::borrow::Cow;
 
 /// Times are rescaled only when their span is outside
 /// `[2^-TIME_EXP, 2^TIME_EXP]` (stretched to a span in [1, 2)) ...
-const TIME_EXP: i32 = 16;
+const TIME_EXP: i32 = 32;
 /// ... and shifted (for models with a time parameter) when the midpoint
 /// is more than `2^SHIFT_EXP` spans from 0.
 const SHIFT_EXP: i32 = 4;
+/// Values are rescaled only when the largest |y| is outside
+/// `[2^-VALUE_EXP, 2^VALUE_EXP)`: inside it, squares summed over any series
+/// that fits in memory stay far from overflow and underflow, and a series
+/// of ordinary magnitude is fitted as given (no scaled copy of a long
+/// series).
+const VALUE_EXP: i32 = 64;
 
 /// The map from the user's units to the fit's.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -117,7 +123,10 @@ impl Units {
         let mut units = Units::IDENTITY;
         let big = y.iter().fold(0.0_f64, |a, v| a.max(v.abs()));
         if big > 0.0 {
-            units.value_exp = -exponent(big);
+            let e = exponent(big);
+            if !(-VALUE_EXP..VALUE_EXP).contains(&e) {
+                units.value_exp = -e;
+            }
             let small = y
                 .iter()
                 .filter(|v| **v != 0.0)

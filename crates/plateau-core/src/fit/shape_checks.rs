@@ -56,27 +56,26 @@ pub(super) fn references(solved: &Solved) -> Option<References> {
     if n < 5 {
         return None;
     }
-    let w: Vec<f64> = match &solved.sqrt_w {
-        Some(s) => s.iter().map(|v| v * v).collect(),
-        None => vec![1.0; n],
-    };
-    let sw: f64 = w.iter().sum();
+    // Weights read from the fit (no copy of a long series).
+    let sqrt_w = solved.sqrt_w.as_deref();
+    let w = |i: usize| sqrt_w.map_or(1.0, |s| s[i] * s[i]);
+    let sw: f64 = (0..n).map(w).sum();
     if sw.is_nan() || sw <= 0.0 {
         return None;
     }
-    let mean = |v: &dyn Fn(usize) -> f64| (0..n).map(|i| w[i] * v(i)).sum::<f64>() / sw;
+    let mean = |v: &dyn Fn(usize) -> f64| (0..n).map(|i| w(i) * v(i)).sum::<f64>() / sw;
     let ybar = mean(&|i| y[i]);
-    let rss_const: f64 = (0..n).map(|i| w[i] * (y[i] - ybar).powi(2)).sum();
+    let rss_const: f64 = (0..n).map(|i| w(i) * (y[i] - ybar).powi(2)).sum();
     // Weighted least-squares line about the weighted mean time.
     let tbar = mean(&|i| t[i]);
-    let stt: f64 = (0..n).map(|i| w[i] * (t[i] - tbar).powi(2)).sum();
-    let sty: f64 = (0..n).map(|i| w[i] * (t[i] - tbar) * (y[i] - ybar)).sum();
+    let stt: f64 = (0..n).map(|i| w(i) * (t[i] - tbar).powi(2)).sum();
+    let sty: f64 = (0..n).map(|i| w(i) * (t[i] - tbar) * (y[i] - ybar)).sum();
     let b = if stt > 0.0 { sty / stt } else { 0.0 };
     let rss_line = if solved.scale.log {
         log_line_rss(t, y, solved.sqrt_w.as_deref())?
     } else {
         (0..n)
-            .map(|i| w[i] * (y[i] - ybar - b * (t[i] - tbar)).powi(2))
+            .map(|i| w(i) * (y[i] - ybar - b * (t[i] - tbar)).powi(2))
             .sum()
     };
     let aicc = |rss: f64, p: usize| stats::criteria_with(rss, n, p, solved.loglik_extra).aicc;

@@ -111,7 +111,7 @@ impl Profiler<'_> {
         }
         self.independent_starts(j, value)
             .iter()
-            .filter_map(|s| self.refit(j, value, s))
+            .filter_map(|s| self.refit_cold(j, value, s))
             .min_by(|a, b| a.0.total_cmp(&b.0))
             .map(|(rss, p, _)| (rss, p))
     }
@@ -141,6 +141,24 @@ impl Profiler<'_> {
 
     /// [`Profiler::at`], with whether the refit converged.
     fn refit(&self, j: usize, value: f64, warm: &[f64]) -> Option<(f64, Vec<f64>, bool)> {
+        self.refit_from(j, value, warm, false)
+    }
+
+    /// [`Profiler::refit`] from a start that is not a neighbouring profile
+    /// point: a long series is first solved on its presolve subsample, as
+    /// the fit itself is ([`super::presolve`]); the minimum is still the
+    /// full data's, only the start differs.
+    fn refit_cold(&self, j: usize, value: f64, start: &[f64]) -> Option<(f64, Vec<f64>, bool)> {
+        self.refit_from(j, value, start, true)
+    }
+
+    fn refit_from(
+        &self,
+        j: usize,
+        value: f64,
+        warm: &[f64],
+        cold: bool,
+    ) -> Option<(f64, Vec<f64>, bool)> {
         let mut base = warm.to_vec();
         base[j] = value;
         let free: Vec<usize> = self.free.iter().copied().filter(|&f| f != j).collect();
@@ -162,7 +180,19 @@ impl Profiler<'_> {
             let rss = res.iter().map(|r| r * r).sum::<f64>();
             return Some((rss, problem.base, true));
         }
-        let out = self.solver.minimize(&problem, &x0);
+        let presolved = if cold {
+            super::presolve(&problem, &self.solver, &x0)
+        } else {
+            None
+        };
+        let out = match presolved {
+            Some(x) => self
+                .solver
+                .clone()
+                .with_initial_damping(super::PRESOLVED_DAMPING)
+                .minimize(&problem, &x),
+            None => self.solver.minimize(&problem, &x0),
+        };
         out.rss
             .is_finite()
             .then(|| (out.rss, problem.full(&out.x), out.converged()))
@@ -185,8 +215,13 @@ impl Profiler<'_> {
         starts.extend(self.independent_starts(j, value));
         // The lowest refit, and whether it (or one level with it) converged.
         let mut best: Option<(f64, Vec<f64>, bool)> = None;
-        for s in starts {
-            if let Some((r2, p2, conv)) = self.refit(j, value, &s) {
+        for (i, s) in starts.iter().enumerate() {
+            let refit = if i == 0 {
+                self.refit(j, value, s)
+            } else {
+                self.refit_cold(j, value, s)
+            };
+            if let Some((r2, p2, conv)) = refit {
                 best = match best {
                     Some(b) if r2 > b.0 + 1e-9 * b.0.abs() => Some(b),
                     Some(b) if r2 >= b.0 - 1e-9 * b.0.abs() => {

@@ -454,7 +454,7 @@ fn check_name(flag: &str, name: &str, v: f64, scope: Scope<'_>) -> Result<()> {
         let domain = m.domains()[j];
         if !domain.contains(v) {
             let range = match domain.lower_edge() {
-                Some(e) if e == 0.0 => "positive".to_string(),
+                Some(0.0) => "positive".to_string(),
                 Some(e) => format!("greater than {e}"),
                 None => "a finite number".to_string(),
             };

@@ -17,7 +17,8 @@
 //!   estimate nobody put an error on) shows [`PLAIN_DIGITS`] significant
 //!   digits, trailing zeros dropped; digits left of the decimal point are
 //!   never turned into zeros (`1234567.8` shows as `1,234,568`).
-//! - Whole parts carry thousands separators (`,`). Between `1e-4` and
+//! - Whole parts carry thousands separators (`,`), except times on the
+//!   data's axis ([`Precision::show_time`]: `2024.357` is a year). Between `1e-4` and
 //!   `1e12` (magnitudes [`SCIENTIFIC_BELOW`], [`SCIENTIFIC_FROM`]) no
 //!   scientific notation; outside it `1.5e12`, `2.3e-7`, which JavaScript's
 //!   `Number` and Rust's `parse` both read. `-0` shows as `0`; NaN as `–`,
@@ -102,8 +103,30 @@ impl Precision {
         }
     }
 
+    /// An estimate known with its 95% interval but not its standard error
+    /// (milestone times, forecast values, summary rows): half the
+    /// interval's width over 1.96 stands in for the standard error, as a
+    /// delta-method interval is `estimate ± 1.96 se` in large samples. An
+    /// interval with an open or non-finite side gives the plain rule.
+    pub fn of_interval(estimate: f64, ci95: Option<[f64; 2]>) -> Precision {
+        let se = ci95
+            .map(|[lo, hi]| (hi - lo).abs() / (2.0 * 1.96))
+            .filter(|s| usable(*s));
+        Precision::of_estimate(estimate, se)
+    }
+
     /// `x` rounded at this precision.
     pub fn show(&self, x: f64) -> String {
+        self.render(x, true)
+    }
+
+    /// A time on the data's axis (a year such as `2024.357`, a t0) at this
+    /// precision, without thousands separators: a year is not a quantity.
+    pub fn show_time(&self, x: f64) -> String {
+        self.render(x, false)
+    }
+
+    fn render(&self, x: f64, grouped: bool) -> String {
         if !x.is_finite() {
             return not_finite(x);
         }
@@ -131,7 +154,7 @@ impl Precision {
             let unit = 10f64.powi(place);
             format!("{:.0}", (x / unit).round() * unit)
         };
-        no_negative_zero(group(&s))
+        no_negative_zero(if grouped { group(&s) } else { s })
     }
 }
 

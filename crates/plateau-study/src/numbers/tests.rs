@@ -44,6 +44,25 @@ fn an_interval_shows_the_digits_of_its_estimate() {
 }
 
 #[test]
+fn an_interval_without_a_standard_error_stands_in_for_one() {
+    // Half-width 0.049 / 1.96 = 0.025: rounded at the third decimal.
+    let p = Precision::of_interval(2024.3567, Some([2024.3077, 2024.4057]));
+    assert_eq!(
+        [
+            p.show_time(2024.3567),
+            p.show_time(2024.3077),
+            p.show(2024.4057)
+        ],
+        ["2024.357", "2024.308", "2,024.406"]
+    );
+    assert_eq!(Precision::of_interval(2.5, None), Precision::plain(2.5));
+    assert_eq!(
+        Precision::of_interval(2.5, Some([f64::NEG_INFINITY, 3.0])),
+        Precision::plain(2.5)
+    );
+}
+
+#[test]
 fn plain_values_show_four_significant_digits() {
     assert_eq!(number(0.000123456), "0.0001235");
     assert_eq!(number(2.71838), "2.718");

@@ -24,7 +24,8 @@
 //!   `Number` and Rust's `parse` both read. `-0` shows as `0`; NaN as `–`,
 //!   infinities as `infinity` and `-infinity`.
 //! - **p-values and Akaike weights** ([`probability`]): three decimals,
-//!   `<0.001` below 0.001 and `>0.999` above 0.999.
+//!   `<0.001` below 0.001 and `>0.999` above 0.999; rounding never lifts
+//!   a p under 0.05 or 0.01 to the threshold's text.
 //! - **CSV** ([`csv`]): the shortest text that parses back to the same
 //!   `f64`, no separators.
 
@@ -263,17 +264,30 @@ pub fn with_se(estimate: f64, se: Option<f64>) -> String {
     }
 }
 
+/// Thresholds a p-value is read against: rounding never carries a p
+/// below one of them to a text at or above it.
+pub const P_THRESHOLDS: [f64; 2] = [0.01, 0.05];
+
 /// A p-value or an Akaike weight: three decimals, `<0.001` and `>0.999`
-/// at the ends.
+/// at the ends; a p just under 5% or 1% keeps the decimals that show it
+/// under (`0.0496`, not `0.050`).
 pub fn probability(p: f64) -> String {
     if !p.is_finite() {
-        not_finite(p)
+        return not_finite(p);
     } else if p < 0.001 {
-        "<0.001".into()
+        return "<0.001".into();
     } else if p > 0.999 {
-        ">0.999".into()
-    } else {
-        format!("{p:.3}")
+        return ">0.999".into();
+    }
+    let mut decimals = 3;
+    loop {
+        let s = format!("{p:.decimals$}");
+        let shown: f64 = s.parse().unwrap_or(p);
+        let crosses = P_THRESHOLDS.iter().any(|&t| p < t && shown >= t);
+        if !crosses || decimals >= 17 {
+            return s;
+        }
+        decimals += 1;
     }
 }
 

@@ -110,6 +110,30 @@ fn probabilities_and_weights() {
     assert_eq!(probability(0.9996), ">0.999");
     assert_eq!(probability(1.0), ">0.999");
     assert_eq!(probability(f64::NAN), "–");
+    // Under the 5% and 1% thresholds stays visibly under.
+    assert_eq!(probability(0.0496), "0.0496");
+    assert_eq!(probability(0.04996), "0.04996");
+    assert_eq!(probability(0.0099), "0.0099");
+    assert_eq!(probability(0.0504), "0.050");
+    assert_eq!(probability(0.05), "0.050");
+}
+
+/// The core writes p-values into its verdict sentences with its own small
+/// helper (the core cannot depend on this crate); it follows the same rule.
+#[test]
+fn the_cores_sentence_p_values_follow_the_same_rule() {
+    for i in 0..=20_000 {
+        let p = f64::from(i) / 20_000.0;
+        for p in [p, p * 1e-3, p * 0.06] {
+            let want = match probability(p).as_str() {
+                "<0.001" => "< 0.001".to_string(),
+                ">0.999" => "> 0.999".to_string(),
+                s => format!("= {s}"),
+            };
+            assert_eq!(plateau_core::diagnostics::fmt_p(p), want, "{p}");
+        }
+    }
+    assert_eq!(plateau_core::diagnostics::fmt_p(f64::NAN), "–");
 }
 
 #[test]

@@ -195,3 +195,32 @@ proptest! {
         prop_assert!(digits >= 3, "{}", s);
     }
 }
+
+/// The several-series summary CSV (`plateau batch --csv`, the page's
+/// "Summary (CSV)"), still written in the core, gives numbers that parse
+/// back to the summary's very `f64`s, like [`csv`].
+#[test]
+fn the_summary_csv_numbers_read_back_exactly() {
+    use plateau_core::summary::{csv_row, SeriesSummary};
+    use plateau_core::{fit, parse_series, Model, ParseOptions};
+    // A noisy-free logistic K = 1000/3, r = 0.37, t0 = 10.1: digits that
+    // a fixed number of decimals would cut.
+    let text: String = (0..30)
+        .map(|i| {
+            let t = f64::from(i);
+            let y = (1000.0 / 3.0) / (1.0 + (-0.37 * (t - 10.1)).exp());
+            format!("{t},{}\n", y * (1.0 + 1e-3 * (f64::from(i) * 1.7).sin()))
+        })
+        .collect();
+    let s = parse_series(&text, &ParseOptions::default()).unwrap();
+    let f = fit(&s, Model::Logistic, &Default::default()).unwrap();
+    let row = SeriesSummary::from_fit("a", &s, &f);
+    let cells: Vec<String> = csv_row(&row).split(',').map(str::to_string).collect();
+    let read = |j: usize| cells[j].parse::<f64>().unwrap();
+    for (at, e) in [(3, row.k), (6, row.r), (9, row.t0)] {
+        let e = e.unwrap();
+        let [lo, hi] = e.ci95.unwrap();
+        assert_eq!([read(at), read(at + 1), read(at + 2)], [e.estimate, lo, hi]);
+        assert_eq!(cells[at], csv(e.estimate));
+    }
+}

@@ -150,7 +150,7 @@ fn symmetry_chart_shows_both_marker_sets_and_the_ratio() {
         let sym = symmetry(&case.fit, &case.t, &case.y).unwrap();
         let ratio = sym.rms_ratio.expect("ratio");
         assert!(
-            svg.contains(&format!("rms ratio = {ratio:.2}")),
+            svg.contains(&format!("rms ratio = {}", format_value(ratio))),
             "ratio text"
         );
         let cue = if case.fit.model == Model::Logistic {

@@ -191,24 +191,6 @@ function writeControls() {
   $("seed").value = s.seed ?? "";
 }
 
-// The interval as the core reported it: a null side is open.
-function intervalText(p) {
-  if (!p.ci95) return "–";
-  // An open side arrives as null or undefined (serde-wasm-bindgen's None).
-  const [lo, hi] = p.ci95;
-  if (lo != null && hi != null) return `${fmt(lo)} … ${fmt(hi)}`;
-  if (lo != null) return `≥ ${fmt(lo)}`;
-  if (hi != null) return `≤ ${fmt(hi)}`;
-  return "no bound";
-}
-
-const fmt = (x) => {
-  if (x === null || x === undefined || !Number.isFinite(x)) return "–";
-  const a = Math.abs(x);
-  if (a !== 0 && (a >= 1e9 || a < 1e-4)) return x.toExponential(4);
-  return Number(x.toPrecision(6)).toString();
-};
-
 function cell(row, text, cls) {
   const td = document.createElement("td");
   td.textContent = text;
@@ -237,15 +219,17 @@ function showView(v) {
   });
   $("warnings").replaceChildren(...warnings);
 
-  fillBody("params", v.params.map((p) => {
+  // Every number arrives as text from Rust (v.text, plateau_study::numbers).
+  const text = v.text;
+  fillBody("params", v.params.map((p, i) => {
     const tr = document.createElement("tr");
+    const shown = text.params[i];
     tr.dataset.param = p.name;
     cell(tr, p.name);
-    cell(tr, fmt(p.estimate) + (p.asTime ? ` (${p.asTime})` : ""), "estimate");
+    cell(tr, shown.estimate + (p.asTime ? ` (${p.asTime})` : ""), "estimate");
     tr.lastChild.dataset.value = String(p.estimate);
-    // A standard error of an undetermined K would read as an interval.
-    cell(tr, p.fixed ? "fixed" : (p.identified ? fmt(p.stdError) : "not determined"));
-    cell(tr, intervalText(p), "interval");
+    cell(tr, shown.stdError);
+    cell(tr, shown.interval, "interval");
     cell(tr, p.ciMethod ?? "");
     if (!p.identified) tr.classList.add("not-identified");
     cell(tr, "–", "boot");
@@ -259,9 +243,9 @@ function showView(v) {
 
   const st = v.stats;
   const statRows = [
-    ["points n", st.n], ["degrees of freedom", st.dof], ["RSS", fmt(st.rss)],
-    ["sigma (residual SD)", fmt(st.sigma)], ["R²", fmt(st.rSquared)], ["AICc", fmt(st.aicc)],
-    ["AIC", fmt(st.aic)], ["BIC", fmt(st.bic)],
+    ["points n", st.n], ["degrees of freedom", st.dof], ["RSS", text.stats.rss],
+    ["sigma (residual SD)", text.stats.sigma], ["R²", text.stats.rSquared], ["AICc", text.stats.aicc],
+    ["AIC", text.stats.aic], ["BIC", text.stats.bic],
     ["solver", v.converged ? `converged in ${v.iterations} iterations` : `did not converge (${v.termination})`],
   ];
   fillBody("stats", statRows.map(([k, x]) => {
@@ -273,12 +257,13 @@ function showView(v) {
   }));
 
   currentPeak = v.peak;
+  currentPeakText = text.peak;
   showMilestones(v.milestones);
   const unit = v.timeUnit ? ` ${v.timeUnit}s` : " time units";
   $("duration").textContent = v.duration1090 == null ? "" :
-    `From 10% to 90% of ${v.saturation} takes ${fmt(v.duration1090)}${unit}` + (v.model === "logistic" ? " (ln 81 / r)." : ".");
+    `From 10% to 90% of ${v.saturation} takes ${text.duration1090}${unit}` + (v.model === "logistic" ? " (ln 81 / r)." : ".");
 
-  fillBody("comparison", v.comparison.map((c) => {
+  fillBody("comparison", v.comparison.map((c, i) => {
     const tr = document.createElement("tr");
     if (c.model === v.model) tr.className = "chosen";
     cell(tr, c.model);
@@ -288,12 +273,13 @@ function showView(v) {
       td.textContent = c.error;
       tr.appendChild(td);
     } else {
-      cell(tr, fmt(c.aicc)); cell(tr, fmt(c.deltaAicc)); cell(tr, fmt(c.weight)); cell(tr, fmt(c.bic)); cell(tr, fmt(c.k));
+      const t = text.comparison[i];
+      cell(tr, t.aicc); cell(tr, t.deltaAicc); cell(tr, t.weight); cell(tr, t.bic); cell(tr, t.k);
     }
     return tr;
   }));
 
-  fillBody("backtest", v.backtest.map((b) => {
+  fillBody("backtest", v.backtest.map((b, i) => {
     const tr = document.createElement("tr");
     tr.dataset.model = b.model;
     if (b.model === v.model) tr.className = "chosen";
@@ -306,7 +292,7 @@ function showView(v) {
       tr.appendChild(td);
       return tr;
     }
-    for (const m of b.mape) cell(tr, m == null ? "–" : `${m.toFixed(2)}%`, "mape");
+    for (const m of text.backtest[i]) cell(tr, m, "mape");
     return tr;
   }));
 
@@ -314,7 +300,7 @@ function showView(v) {
     ? "not available for this model."
     : v.symmetry.rmsRatio == null
       ? "no summary yet: too few reflected points fall inside the observed time range."
-      : `RMS mismatch ${fmt(v.symmetry.rmsRatio)} × the noise level. ${v.symmetry.meaning}`;
+      : `RMS mismatch ${text.symmetryRms} × the noise level. ${v.symmetry.meaning}`;
 
   showMulti(v);
   showChecks(v);
@@ -327,9 +313,6 @@ function showView(v) {
   }
 }
 
-const withInterval = (e) => !e ? "–" :
-  fmt(e.estimate) + (e.ci95 ? ` [${fmt(e.ci95[0])} … ${fmt(e.ci95[1])}]` : "");
-
 // Several series: the selector, the summary table and the overlay's section.
 function showMulti(v) {
   const m = v.multi;
@@ -340,6 +323,7 @@ function showMulti(v) {
     new Option(row.error ? `${row.series} (no fit)` : row.series, String(i), false, i === m.selected)));
   fillBody("summary", m.summary.map((row, i) => {
     const tr = document.createElement("tr");
+    const shown = v.text.summary[i];
     tr.dataset.series = row.series;
     if (i === m.selected) tr.className = "chosen";
     cell(tr, row.series);
@@ -352,12 +336,12 @@ function showMulti(v) {
       tr.appendChild(td);
       return tr;
     }
-    cell(tr, withInterval(row.K), "k");
+    cell(tr, shown.k, "k");
     tr.lastChild.dataset.value = String(row.K ? row.K.estimate : "");
-    cell(tr, withInterval(row.r), "r");
+    cell(tr, shown.r, "r");
     tr.lastChild.dataset.value = String(row.r ? row.r.estimate : "");
-    cell(tr, withInterval(row.t0) + (row.t0_date ? ` (${row.t0_date})` : ""), "t0");
-    cell(tr, withInterval(row.duration_10_90));
+    cell(tr, shown.t0 + (row.t0_date ? ` (${row.t0_date})` : ""), "t0");
+    cell(tr, shown.duration1090);
     cell(tr, row.converged ? "yes" : "no");
     cell(tr, row.warnings.map((w) => w.code).join(", "));
     tr.lastChild.title = row.warnings.map((w) => w.message).join("\n");
@@ -365,10 +349,11 @@ function showMulti(v) {
   }));
 }
 
-// The Bass adoption peak of the current view, shown under the milestones.
+// The Bass adoption peak of the current view and its text, shown under the milestones.
 let currentPeak = null;
+let currentPeakText = null;
 
-function peakRows(pk) {
+function peakRows(pk, shown) {
   if (!pk) return [];
   const t = document.createElement("tr");
   t.dataset.peak = "time";
@@ -378,9 +363,9 @@ function peakRows(pk) {
   cell(t, "–", "boot");
   const r = document.createElement("tr");
   r.dataset.peak = "rate";
-  cell(r, `peak rate m(p+q)²/(4q), ${fmt(pk.sharePercent)}% of m adopted by t*`);
-  cell(r, fmt(pk.rate), "when");
-  cell(r, pk.rateCi95 ? `${fmt(pk.rateCi95[0])} … ${fmt(pk.rateCi95[1])}` : "–", "delta");
+  cell(r, `peak rate m(p+q)²/(4q), ${shown.sharePercent}% of m adopted by t*`);
+  cell(r, shown.rate, "when");
+  cell(r, shown.rateCi95 ?? "–", "delta");
   cell(r, "–", "boot");
   return [t, r];
 }
@@ -401,7 +386,7 @@ function showMilestones(rows) {
       tr.cells[1].appendChild(small);
     }
     return tr;
-  }), ...peakRows(currentPeak)]);
+  }), ...peakRows(currentPeak, currentPeakText)]);
 }
 
 // The bootstrap runs in slices of about 12 ms of work, each in its own
@@ -453,9 +438,9 @@ function startBootstrap() {
 
 function showBootstrap(bv) {
   const rows = $("params").tBodies[0].rows;
-  bv.params.forEach((p, i) => {
+  bv.paramsText.forEach((shown, i) => {
     const td = rows[i] && rows[i].querySelector("td.boot");
-    if (td) td.textContent = p ? `${fmt(p[0])} … ${fmt(p[1])}` : "–";
+    if (td) td.textContent = shown;
   });
   showMilestones(bv.milestones);
   $("boot-status").textContent = `B = ${bv.replicates} (${bv.resampling}), seed ${bv.seed}; ` +
@@ -481,18 +466,19 @@ function showVerdict(id, verdict) {
 // recommendation beside the comparison table; every sentence comes from Rust.
 function showChecks(v) {
   const d = v.diagnostics;
+  const dt = v.text.diagnostics;
   const all = [...d.verdicts];
   if (v.symmetryTest) all.push(v.symmetryTest.verdict);
   if (v.fisherPry) all.push(v.fisherPry.verdict);
   $("verdicts").replaceChildren(...all.map((x) => verdictItem("li", x)));
   const rows = [
     ["residuals", d.n],
-    ["runs (expected)", d.runs == null ? "–" : `${d.runs} (${fmt(d.runsExpected)})`],
-    ["runs test p", fmt(d.runsP)],
-    ["Durbin–Watson", fmt(d.durbinWatson)],
-    ["lag-1 autocorrelation", fmt(d.lag1Autocorrelation)],
-    ["Q-Q correlation", fmt(d.qqCorrelation)],
-    ["Jarque–Bera p", fmt(d.jarqueBeraP)],
+    ["runs (expected)", d.runs == null ? "–" : `${d.runs} (${dt.runsExpected})`],
+    ["runs test p", dt.runsP],
+    ["Durbin–Watson", dt.durbinWatson],
+    ["lag-1 autocorrelation", dt.lag1Autocorrelation],
+    ["Q-Q correlation", dt.qqCorrelation],
+    ["Jarque–Bera p", dt.jarqueBeraP],
   ];
   fillBody("diag-stats", rows.map(([k, x]) => {
     const tr = document.createElement("tr");

@@ -122,45 +122,22 @@ pub fn linspace(a: f64, b: f64, n: usize) -> Vec<f64> {
         .collect()
 }
 
-/// A value in three significant digits with a thousands suffix (k, M, B for
-/// 10³, 10⁶, 10⁹), the way adoption figures are usually read:
-/// `1234567 → "1.23M"`, `0.0456 → "0.0456"`.
+/// A value as people read it everywhere in Plateau (the CLI's tables, the
+/// page): `plateau_study::numbers::number`, four significant digits with
+/// thousands separators (`1234567 → "1,234,567"`, `0.0456 → "0.0456"`).
 pub fn format_value(v: f64) -> String {
-    if !v.is_finite() {
-        return format!("{v}");
-    }
-    let a = v.abs();
-    let (x, suffix) = if a >= 1e12 {
-        return format!("{v:.2e}");
-    } else if a >= 1e9 {
-        (v / 1e9, "B")
-    } else if a >= 1e6 {
-        (v / 1e6, "M")
-    } else if a >= 1e4 {
-        (v / 1e3, "k")
-    } else {
-        (v, "")
-    };
-    let ax = x.abs();
-    let s = if ax == 0.0 {
-        "0".to_string()
-    } else if ax >= 100.0 {
-        format!("{x:.0}")
-    } else if ax >= 10.0 {
-        format!("{x:.1}")
-    } else if ax >= 1.0 {
-        format!("{x:.2}")
-    } else if ax >= 1e-3 {
-        format!("{x:.4}")
-    } else {
-        return format!("{v:.2e}");
-    };
-    let s = if s.contains('.') {
-        s.trim_end_matches('0').trim_end_matches('.').to_string()
-    } else {
-        s
-    };
-    format!("{s}{suffix}")
+    plateau_study::numbers::number(v)
+}
+
+/// Room for the value axis's labels: the widest of the range's ends as
+/// [`format_value`] writes them (ticks lie between them), at about 0.6 em
+/// a character, and never less than the 72 px of short labels.
+pub fn value_label_room((lo, hi): (f64, f64), scale: Scale) -> u32 {
+    let chars = format_value(lo)
+        .chars()
+        .count()
+        .max(format_value(hi).chars().count());
+    scale.px((chars as f64 * 0.6 * 13.0 + 20.0).max(72.0))
 }
 
 /// Splits `text` into lines of at most about `width` characters at spaces.
@@ -272,7 +249,7 @@ pub fn frame<'a, 'b, DB: DrawingBackend>(
         .margin(scale.px(12.0))
         .caption(title, scale.text(19.0))
         .x_label_area_size(scale.px(48.0))
-        .y_label_area_size(scale.px(72.0))
+        .y_label_area_size(value_label_room(y, scale))
         .build_cartesian_2d(x.0..x.1, y.0..y.1)?;
     let (w, _) = area.dim_in_pixel();
     let format_time = input.format_time;
@@ -339,13 +316,13 @@ mod tests {
 
     #[test]
     fn values_are_compact() {
-        assert_eq!(format_value(1_234_567.0), "1.23M");
-        assert_eq!(format_value(2_500_000.0), "2.5M");
-        assert_eq!(format_value(45_000.0), "45k");
-        assert_eq!(format_value(999.0), "999");
+        // The study layer's rules (checked there); here only that the
+        // charts use them.
+        assert_eq!(format_value(1_234_567.0), "1,234,567");
+        assert_eq!(format_value(2_500_000.0), "2,500,000");
         assert_eq!(format_value(0.0456), "0.0456");
-        assert_eq!(format_value(-3.0e9), "-3B");
-        assert_eq!(format_value(0.0), "0");
+        assert_eq!(format_value(-3.0e12), "-3e12");
+        assert_eq!(format_value(-0.0), "0");
         assert_eq!(plain_time(2024.50), "2024.5");
     }
 

@@ -95,7 +95,7 @@ pub fn draw_drift<DB: DrawingBackend>(
         .margin(scale.px(12.0))
         .caption(&title, scale.text(19.0))
         .x_label_area_size(scale.px(48.0))
-        .y_label_area_size(scale.px(72.0))
+        .y_label_area_size(common::value_label_room(y, scale))
         .build_cartesian_2d(x.0..x.1, y.0..y.1)?;
     let (w, _) = area.dim_in_pixel();
     let format_time = input.format_time;

@@ -43,7 +43,7 @@ pub fn draw_qq<DB: DrawingBackend>(
     );
     // Headroom for the text at the top left.
     let y = (y.0, y.1 + 0.14 * (y.1 - y.0));
-    let fmt_q = |v: f64| format!("{v:.1}");
+    let fmt_q = |v: f64| common::format_value(v);
     let axis = ChartInput {
         format_time: &fmt_q,
         time_caption: "standard normal quantile",
@@ -71,8 +71,8 @@ pub fn draw_qq<DB: DrawingBackend>(
     let chars = (w as f64 / (0.55 * scale.font(12.0))) as usize;
     let mut lines = vec![(
         format!(
-            "Q-Q correlation {:.3} (n = {})",
-            qq.correlation,
+            "Q-Q correlation {} (n = {})",
+            common::format_value(qq.correlation),
             qq.points.len()
         ),
         14.0,

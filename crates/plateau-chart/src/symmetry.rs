@@ -106,7 +106,8 @@ pub fn draw_symmetry<DB: DrawingBackend>(
     // The figure and how to read it, top left inside the plot.
     let headline = match sym.rms_ratio {
         Some(v) => format!(
-            "rms ratio = {v:.2} ({} of {} reflections inside the data)",
+            "rms ratio = {} ({} of {} reflections inside the data)",
+            common::format_value(v),
             sym.n_compared,
             sym.reflected.len()
         ),

@@ -36,6 +36,7 @@ use plateau_core::fit::{fit, FitOptions};
 use plateau_core::report::{FitReport, CAUTION};
 use plateau_core::summary::{csv_row, SeriesSummary, CSV_HEADER};
 use plateau_core::Model;
+use plateau_study::numbers::Precision;
 use rayon::prelude::*;
 use serde::Serialize;
 use std::fmt;
@@ -448,31 +449,19 @@ fn table_header() -> String {
     )
 }
 
-/// `v [lo, hi]` in 4 significant digits.
-fn with_interval(e: Option<plateau_core::summary::Estimate>) -> String {
+/// `v [lo, hi]`, the interval at the estimate's digits (see
+/// `plateau_study::numbers`); `time` for t0, a time on the data's axis.
+fn with_interval(e: Option<plateau_core::summary::Estimate>, time: bool) -> String {
     let Some(e) = e else {
         return "-".into();
     };
-    let v = sig4(e.estimate);
+    let d = Precision::of_interval(e.estimate, e.ci95);
+    let show = |x: f64| if time { d.show_time(x) } else { d.show(x) };
+    let v = show(e.estimate);
     match e.ci95 {
-        Some([a, b]) => format!("{v} [{}, {}]", sig4(a), sig4(b)),
+        Some([a, b]) => format!("{v} [{}, {}]", show(a), show(b)),
         None => v,
     }
-}
-
-fn sig4(x: f64) -> String {
-    if !x.is_finite() {
-        return format!("{x}");
-    }
-    if x == 0.0 {
-        return "0".into();
-    }
-    let a = x.abs();
-    if !(1e-3..1e7).contains(&a) {
-        return format!("{x:.3e}");
-    }
-    let decimals = (3 - a.log10().floor() as i32).max(0) as usize;
-    format!("{x:.decimals$}")
 }
 
 fn table_row(s: &SeriesSummary) -> String {
@@ -483,7 +472,7 @@ fn table_row(s: &SeriesSummary) -> String {
             codes.join(" ")
         }
     };
-    let t0 = match (&s.t0_date, with_interval(s.t0)) {
+    let t0 = match (&s.t0_date, with_interval(s.t0, true)) {
         (Some(d), t) if t != "-" => format!("{t} ({d})"),
         (_, t) => t,
     };
@@ -491,10 +480,10 @@ fn table_row(s: &SeriesSummary) -> String {
         "{:<20} {:>5}  {:<34} {:<32} {:<34} {:<30} {:<9} {}",
         s.series,
         s.n.map_or("-".into(), |n| n.to_string()),
-        with_interval(s.k),
-        with_interval(s.r),
+        with_interval(s.k, false),
+        with_interval(s.r, false),
         t0,
-        with_interval(s.duration_10_90),
+        with_interval(s.duration_10_90, false),
         s.converged.map_or("-", |c| if c { "yes" } else { "no" }),
         notes
     )

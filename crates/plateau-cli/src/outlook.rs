@@ -1,16 +1,25 @@
 //! `plateau forecast`, `plateau drift` and `plateau backtest`: the runs and
 //! their tables for people (`--json` prints the core's report shapes).
 
-use crate::table::num;
 use plateau_core::bootstrap::Bootstrap;
 use plateau_core::drift::ModelBacktest;
 use plateau_core::forecast_report::{DriftReport, ForecastReport};
 use plateau_core::report::CAUTION;
+use plateau_study::numbers::{number, Precision};
 use std::fmt::Write;
 
-fn pair(x: Option<[f64; 2]>) -> String {
-    x.map_or("-".into(), |[a, b]| format!("{} … {}", num(a), num(b)))
+/// `lo … hi` at the digits `d` (an estimate's), or `-`.
+fn pair(d: Precision, x: Option<[f64; 2]>) -> String {
+    pair_by(|v| d.show(v), x)
 }
+
+/// `lo … hi` each shown by `show`, or `-`.
+fn pair_by(show: impl Fn(f64) -> String, x: Option<[f64; 2]>) -> String {
+    x.map_or("-".into(), |[a, b]| format!("{} … {}", show(a), show(b)))
+}
+
+/// Times on the data's axis: shown without thousands separators.
+const TIME_PARAMS: [&str; 4] = ["t0", "tau", "t01", "t02"];
 
 /// The forecast table: parameters, milestones, then one row per time.
 pub fn forecast(name: &str, r: &ForecastReport, boot: Option<&Bootstrap>) -> String {
@@ -43,38 +52,56 @@ pub fn forecast(name: &str, r: &ForecastReport, boot: Option<&Bootstrap>) -> Str
         "param", "estimate", "95% interval (t)", "95% bootstrap"
     );
     for (n, p) in &r.params.0 {
+        let d = Precision::of_interval(p.estimate, p.ci95);
+        let time = TIME_PARAMS.contains(&n.as_str());
+        let show = |x: f64| if time { d.show_time(x) } else { d.show(x) };
+        let ends = |c| pair_by(show, c);
         let _ = writeln!(
             s,
             "{:<6} {:>14}  {:<31} {:<31}",
             n,
-            num(p.estimate),
+            show(p.estimate),
             if p.fixed {
                 "fixed".into()
             } else {
-                pair(p.ci95)
+                ends(p.ci95)
             },
-            pair(p.bootstrap_ci95)
+            ends(p.bootstrap_ci95)
         );
     }
     let _ = writeln!(s);
     let _ = writeln!(s, "milestones");
     for m in &r.milestones {
-        let when = m.time_text.clone().unwrap_or_else(|| "—".into());
         let unit = if m.kind == "duration_10_90" && !r.time_unit.is_empty() {
             format!(" {}s", r.time_unit)
         } else {
             String::new()
         };
+        let d = Precision::of_interval(m.estimate.unwrap_or(f64::NAN), m.delta95);
+        let show = |t: f64| {
+            if m.kind == "duration_10_90" {
+                d.show(t)
+            } else {
+                d.show_time(t)
+            }
+        };
+        // A time that is a number (a duration, a time on a numeric axis) at
+        // its interval's digits; dates, months and quarters as written.
+        let when = match (&m.time_text, m.estimate) {
+            (Some(t), Some(x)) if t.parse::<f64>().is_ok() => show(x),
+            (Some(t), _) => t.clone(),
+            (None, _) => "—".into(),
+        };
         let delta = if m.time_text.is_some() {
-            pair(m.delta95)
+            pair_by(show, m.delta95)
         } else {
             "-".into()
         };
         let boot = match (m.bootstrap95, m.time_text.is_some()) {
             (Some([lo, hi]), true) => format!(
                 "{} … {}",
-                lo.map_or("-".into(), num),
-                hi.map_or("never (open)".into(), num)
+                lo.map_or("-".into(), show),
+                hi.map_or("never (open)".into(), show)
             ),
             _ => "-".into(),
         };
@@ -94,15 +121,16 @@ pub fn forecast(name: &str, r: &ForecastReport, boot: Option<&Bootstrap>) -> Str
         "time", "observed", "fit", "95% confidence", "95% prediction", "95% bootstrap"
     );
     for p in &r.points {
+        let d = Precision::of_interval(p.fit, p.confidence95);
         let _ = writeln!(
             s,
             "{:<12} {:>12} {:>12}  {:<29} {:<29} {:<29}",
             p.time,
-            p.observed.map_or(String::new(), num),
-            num(p.fit),
-            pair(p.confidence95),
-            pair(p.prediction95),
-            pair(p.bootstrap95)
+            p.observed.map_or(String::new(), number),
+            d.show(p.fit),
+            pair(d, p.confidence95),
+            pair(d, p.prediction95),
+            pair(d, p.bootstrap95)
         );
     }
     for w in &r.warnings {
@@ -140,14 +168,18 @@ pub fn drift(name: &str, r: &DriftReport) -> String {
         let _ = write!(s, "{:<12} {:>4}", row.cutoff_text, row.m);
         match (&row.params, &row.error) {
             (Some(params), _) => {
-                for (_, p) in &params.0 {
+                for (name, p) in &params.0 {
+                    let d = Precision::of_interval(p.estimate, p.ci95);
+                    let time = TIME_PARAMS.contains(&name.as_str());
+                    let show = |x: f64| if time { d.show_time(x) } else { d.show(x) };
+                    let (est, ci) = (show(p.estimate), pair_by(show, p.ci95));
                     let ci = if p.fixed {
                         "fixed".to_string()
                     } else {
                         withheld |= p.ci95.is_none();
-                        pair(p.ci95)
+                        ci
                     };
-                    let _ = write!(s, "  {:<34}", format!("{} ({ci})", num(p.estimate)));
+                    let _ = write!(s, "  {:<34}", format!("{est} ({ci})"));
                 }
                 if row.converged == Some(false) && !row.warnings.contains(&"not_converged") {
                     let _ = write!(s, "  not converged");
@@ -203,8 +235,8 @@ pub fn backtest(name: &str, horizon: usize, rows: &[ModelBacktest]) -> String {
                 "  {:>3} {:>6} {:>14} {:>10}",
                 h.h,
                 h.count,
-                h.mae.map_or("-".into(), num),
-                h.mape.map_or("-".into(), |v| format!("{v:.2}"))
+                h.mae.map_or("-".into(), number),
+                h.mape.map_or("-".into(), number)
             );
         }
     }

@@ -1,40 +1,17 @@
-//! Readable tables for the terminal. Numbers are shown to 6 significant
-//! digits; `--json` gives full precision.
+//! Readable tables for the terminal. Numbers are shown by
+//! `plateau_study::numbers` (estimates to the digits their standard error
+//! supports); `--json` gives full precision.
 
 use plateau_core::compare::Entry;
 use plateau_core::data::TimeKind;
-use plateau_core::diagnostics::{fmt_p, Verdict};
+use plateau_core::diagnostics::Verdict;
 use plateau_core::report::{CompareReport, DiagnoseReport, CAUTION};
 use plateau_core::{Fit, Series};
+use plateau_study::numbers::{self, number, probability, Precision};
 use std::fmt::Write;
 
-/// `x` to 6 significant digits, in scientific notation when very large or small.
-pub fn num(x: f64) -> String {
-    if !x.is_finite() {
-        return if x.is_nan() {
-            "-".into()
-        } else {
-            format!("{x}")
-        };
-    }
-    if x == 0.0 {
-        return "0".into();
-    }
-    let a = x.abs();
-    if !(1e-4..1e9).contains(&a) {
-        return format!("{x:.5e}");
-    }
-    let decimals = (5 - a.log10().floor() as i32).max(0) as usize;
-    let s = format!("{x:.decimals$}");
-    if s.contains('.') {
-        s.trim_end_matches('0').trim_end_matches('.').to_string()
-    } else {
-        s
-    }
-}
-
 fn opt(x: Option<f64>) -> String {
-    x.map_or("-".into(), num)
+    x.map_or("-".into(), number)
 }
 
 /// Parameters that are times on the data's axis.
@@ -86,6 +63,17 @@ pub fn fit(name: &str, series: &Series, f: &Fit) -> String {
     );
     let mut open_notes = Vec::new();
     for p in &f.params {
+        // The estimate and its interval at the digits the standard error
+        // supports; times on the data's axis without separators.
+        let digits = Precision::of_estimate(p.estimate, p.std_error);
+        let time = TIME_PARAMS.contains(&p.name);
+        let num = |x: f64| {
+            if time {
+                digits.show_time(x)
+            } else {
+                digits.show(x)
+            }
+        };
         let interval = match (p.fixed, p.interval) {
             (true, _) => "fixed".to_string(),
             (false, Some(iv)) => match (iv.lo, iv.hi) {
@@ -109,7 +97,8 @@ pub fn fit(name: &str, series: &Series, f: &Fit) -> String {
         // A parameter the data do not determine gets no standard error in
         // the table either: it would read as an interval.
         let se = if p.identified {
-            opt(p.std_error)
+            p.std_error
+                .map_or("-".into(), |e| numbers::std_error(p.estimate, e))
         } else {
             "-".to_string()
         };
@@ -137,25 +126,28 @@ pub fn fit(name: &str, series: &Series, f: &Fit) -> String {
         let _ = writeln!(s, "  {note}: the data set no bound on the other side");
     }
     if let Some(pk) = plateau_core::analysis::bass_peak(f) {
-        let ci = |c: Option<(f64, f64)>| {
+        // Each interval at the digits of its estimate.
+        let ci = |x: f64, c: Option<(f64, f64)>, time: bool| {
+            let d = Precision::of_interval(x, c.map(|(a, b)| [a, b]));
+            let show = |v: f64| if time { d.show_time(v) } else { d.show(v) };
             c.map_or("not available".to_string(), |(a, b)| {
-                format!("[{}, {}]", num(a), num(b))
+                format!("[{}, {}]", show(a), show(b))
             })
         };
         let _ = writeln!(s);
         let _ = writeln!(
             s,
             "peak time  t* = tau + ln(q/p)/(p+q) = {}{}   95% interval {}",
-            num(pk.time),
+            Precision::of_interval(pk.time, pk.time_ci95.map(|(a, b)| [a, b])).show_time(pk.time),
             time_note(series.time_kind, "t0", pk.time),
-            ci(pk.time_ci95)
+            ci(pk.time, pk.time_ci95, true)
         );
         let _ = writeln!(
             s,
             "peak rate  m (p+q)²/(4q) = {} per time unit   95% interval {}   ({}% of m adopted by then)",
-            num(pk.rate),
-            ci(pk.rate_ci95),
-            num(100.0 * pk.share)
+            Precision::of_interval(pk.rate, pk.rate_ci95.map(|(a, b)| [a, b])).show(pk.rate),
+            ci(pk.rate, pk.rate_ci95, false),
+            number(100.0 * pk.share)
         );
     } else if f.model == plateau_core::Model::Bass {
         let _ = writeln!(s);
@@ -170,17 +162,17 @@ pub fn fit(name: &str, series: &Series, f: &Fit) -> String {
         "n {}   dof {}   RSS {}   sigma {}   R² {}",
         f.n,
         f.dof,
-        num(f.rss),
-        num(f.sigma),
-        num(f.r_squared)
+        number(f.rss),
+        number(f.sigma),
+        number(f.r_squared)
     );
     let _ = writeln!(
         s,
         "AIC {}   AICc {}   BIC {}   condition number {}",
-        num(f.aic),
-        num(f.aicc),
-        num(f.bic),
-        num(f.condition_number)
+        number(f.aic),
+        number(f.aicc),
+        number(f.bic),
+        number(f.condition_number)
     );
     if !f.increments && looks_cumulative(&series.values) {
         let _ = writeln!(s);
@@ -228,7 +220,7 @@ pub fn compare(name: &str, series: &Series, entries: &[Entry], report: &CompareR
                 let k = f
                     .model
                     .saturation_level(&f.values())
-                    .map_or("-".into(), num);
+                    .map_or("-".into(), number);
                 let flag = if f.warnings.is_empty() { "" } else { "  *" };
                 let delta_bic = report
                     .models
@@ -241,12 +233,12 @@ pub fn compare(name: &str, series: &Series, entries: &[Entry], report: &CompareR
                     rank,
                     f.model.name(),
                     f.free.len(),
-                    num(f.aicc),
-                    e.delta_aicc.map_or("-".into(), |d| format!("{d:.2}")),
-                    e.akaike_weight.map_or("-".into(), |w| format!("{w:.3}")),
-                    num(f.bic),
-                    delta_bic.map_or("-".into(), |d| format!("{d:.2}")),
-                    num(f.sigma),
+                    number(f.aicc),
+                    e.delta_aicc.map_or("-".into(), number),
+                    e.akaike_weight.map_or("-".into(), probability),
+                    number(f.bic),
+                    delta_bic.map_or("-".into(), number),
+                    number(f.sigma),
                     k,
                     flag
                 );
@@ -285,12 +277,12 @@ pub fn compare(name: &str, series: &Series, entries: &[Entry], report: &CompareR
         for lr in &report.lr_tests {
             let _ = writeln!(
                 s,
-                "  {} within {}: LR {:.3}, df {}, p {}",
+                "  {} within {}: LR {}, df {}, p {}",
                 lr.nested.name(),
                 lr.general.name(),
-                lr.statistic,
+                number(lr.statistic),
                 lr.df,
-                fmt_p(lr.p_value)
+                probability(lr.p_value)
             );
             let _ = writeln!(s, "    {}", lr.note);
         }
@@ -342,14 +334,14 @@ pub fn diagnose(name: &str, series: &Series, r: &DiagnoseReport, k_entered: bool
         Some(runs) => {
             let _ = writeln!(
                 s,
-                "  runs test        {} runs ({} at or above 0, {} below), {} expected, p {} exact; z {:.3}, p {}{}",
+                "  runs test        {} runs ({} at or above 0, {} below), {} expected, p {} exact; z {}, p {}{}",
                 runs.runs,
                 runs.n_positive,
                 runs.n_negative,
-                num(runs.expected),
-                fmt_p(runs.p_exact),
-                runs.z,
-                fmt_p(runs.p_value),
+                number(runs.expected),
+                probability(runs.p_exact),
+                number(runs.z),
+                probability(runs.p_value),
                 if runs.continuity_corrected {
                     " (normal approximation, continuity-corrected)"
                 } else {
@@ -367,40 +359,49 @@ pub fn diagnose(name: &str, series: &Series, r: &DiagnoseReport, k_entered: bool
     let _ = writeln!(s, "  Durbin-Watson    {}", opt(d.durbin_watson));
     let _ = writeln!(s, "  lag-1 autocorr.  {}", opt(d.lag1_autocorrelation));
     if let Some(q) = &d.qq {
-        let _ = writeln!(s, "  Q-Q correlation  {:.4}", q.correlation);
+        let _ = writeln!(s, "  Q-Q correlation  {}", number(q.correlation));
     }
     if let Some(j) = &d.jarque_bera {
         let _ = writeln!(
             s,
-            "  Jarque-Bera      {}, p {} (skewness {:.3}, kurtosis {:.3})",
-            num(j.statistic),
-            fmt_p(j.p_value),
-            j.skewness,
-            j.kurtosis
+            "  Jarque-Bera      {}, p {} (skewness {}, kurtosis {})",
+            number(j.statistic),
+            probability(j.p_value),
+            number(j.skewness),
+            number(j.kurtosis)
         );
     }
     if let Some(t) = &r.symmetry_test {
         let _ = writeln!(s);
         let _ = writeln!(s, "symmetry (logistic against Richards and Gompertz)");
         if let Some(nu) = t.nu {
+            let d = Precision::of_interval(nu, t.nu_ci95);
             let ci = t.nu_ci95.map_or(String::new(), |c| {
-                format!("  95% [{}, {}]", num(c[0]), num(c[1]))
+                format!("  95% [{}, {}]", d.show(c[0]), d.show(c[1]))
             });
-            let _ = writeln!(s, "  Richards nu      {}{ci}  (1 is the logistic)", num(nu));
+            let _ = writeln!(
+                s,
+                "  Richards nu      {}{ci}  (1 is the logistic)",
+                d.show(nu)
+            );
         }
         if let (Some(lr), Some(p)) = (t.lr_statistic, t.lr_p_value) {
             let _ = writeln!(
                 s,
-                "  likelihood ratio {:.3}, p {} (chi-squared, 1 df)",
-                lr,
-                fmt_p(p)
+                "  likelihood ratio {}, p {} (chi-squared, 1 df)",
+                number(lr),
+                probability(p)
             );
         }
         if let Some(d) = t.delta_aicc_richards {
-            let _ = writeln!(s, "  dAICc Richards   {d:.2}");
+            let _ = writeln!(s, "  dAICc Richards   {}", number(d));
         }
         if let Some(d) = t.delta_aicc_gompertz {
-            let _ = writeln!(s, "  dAICc Gompertz   {d:.2}  (not nested: AICc only)");
+            let _ = writeln!(
+                s,
+                "  dAICc Gompertz   {}  (not nested: AICc only)",
+                number(d)
+            );
         }
     }
     if let Some(fp) = &r.fisher_pry {
@@ -408,7 +409,7 @@ pub fn diagnose(name: &str, series: &Series, r: &DiagnoseReport, k_entered: bool
         let _ = writeln!(
             s,
             "Fisher-Pry, K = {} ({})",
-            num(fp.k),
+            number(fp.k),
             if k_entered { "entered" } else { "fitted" }
         );
         let _ = writeln!(
@@ -416,14 +417,15 @@ pub fn diagnose(name: &str, series: &Series, r: &DiagnoseReport, k_entered: bool
             "  {} points transformed, {} outside 0 < y < K; slope {}, crosses zero at {}",
             fp.points.len(),
             fp.dropped,
-            num(fp.slope),
+            number(fp.slope),
             opt(fp.t0)
         );
         if let (Some(t), Some(p)) = (fp.curvature_t, fp.curvature_p) {
             let _ = writeln!(
                 s,
-                "  curvature t {t:.3}, p {} (weighted quadratic term)",
-                fmt_p(p)
+                "  curvature t {}, p {} (weighted quadratic term)",
+                number(t),
+                probability(p)
             );
         }
     }
@@ -442,19 +444,4 @@ pub fn diagnose(name: &str, series: &Series, r: &DiagnoseReport, k_entered: bool
     let _ = writeln!(s);
     let _ = writeln!(s, "Caution: {CAUTION}");
     s
-}
-
-#[cfg(test)]
-mod tests {
-    use super::num;
-
-    #[test]
-    fn six_significant_digits() {
-        assert_eq!(num(1234.56789), "1234.57");
-        assert_eq!(num(0.000123456789), "0.000123457");
-        assert_eq!(num(1.0), "1");
-        assert_eq!(num(-2.5), "-2.5");
-        assert_eq!(num(3.2e12), "3.20000e12");
-        assert_eq!(num(f64::NAN), "-");
-    }
 }

@@ -640,15 +640,27 @@ fn normality_verdict(jb: Option<&JarqueBera>) -> Verdict {
     }
 }
 
-/// A p-value for reading after "p": `= 0.0123` (four decimals), or
-/// `< 0.0001` below that.
+/// A p-value for reading after "p": `= 0.012` (three decimals, more when
+/// rounding would lift a p under 0.05 or 0.01 to that threshold),
+/// `< 0.001`, `> 0.999`. The rule of `plateau_study::numbers::probability`,
+/// kept here for the sentences the core writes (a test there checks that
+/// both agree).
 pub fn fmt_p(p: f64) -> String {
     if !p.is_finite() {
-        "–".into()
-    } else if p < 1e-4 {
-        "< 0.0001".into()
-    } else {
-        format!("= {}", (p * 1e4).round() / 1e4)
+        return "–".into();
+    } else if p < 0.001 {
+        return "< 0.001".into();
+    } else if p > 0.999 {
+        return "> 0.999".into();
+    }
+    let mut decimals = 3;
+    loop {
+        let s = format!("{p:.decimals$}");
+        let shown: f64 = s.parse().unwrap_or(p);
+        if !(p < 0.05 && shown >= 0.05 || p < 0.01 && shown >= 0.01) || decimals >= 17 {
+            return format!("= {s}");
+        }
+        decimals += 1;
     }
 }
 

@@ -20,8 +20,12 @@ use plateau_core::milestones::{self, Assessment, Target};
 use plateau_core::report::{FitReport, CAUTION};
 use plateau_core::summary::{summary_csv, SeriesSummary};
 use plateau_core::{parse_series, Model, ParseOptions, Series, Warning};
+use plateau_study::numbers::{self, Precision};
 use serde::{Deserialize, Serialize};
 use std::fmt::Write;
+
+mod shown;
+pub use shown::ViewText;
 
 /// The demo series shown on a first visit (invented; see demo-data/README.md).
 pub const DEMO_TEXT: &str = include_str!("../../../demo-data/aldermoor_subscribers.csv");
@@ -363,6 +367,8 @@ pub struct View {
     pub multi: Option<MultiView>,
     /// The layout used: "single", "wide" or "long".
     pub layout: &'static str,
+    /// Every number above as the page shows it (`plateau_study::numbers`).
+    pub text: ViewText,
 }
 
 #[derive(Debug, Clone, Serialize, PartialEq)]
@@ -430,6 +436,8 @@ pub struct BootstrapView {
     /// Per parameter (model order): the percentile interval, `None` for
     /// fixed parameters.
     pub params: Vec<Option<[f64; 2]>>,
+    /// `params` as the page shows them, at each estimate's digits.
+    pub params_text: Vec<String>,
     pub milestones: Vec<MilestoneRow>,
 }
 
@@ -515,7 +523,7 @@ pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError>
             )))
         }
     };
-    match layout {
+    let mut analysis = match layout {
         Some(layout) => analyse_multi(text, settings, model, layout),
         None => {
             let opts = ParseOptions {
@@ -526,7 +534,9 @@ pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError>
             let series = parse_series(text, &opts)?;
             analyse_series(series, settings, model)
         }
-    }
+    }?;
+    analysis.view.text = shown::view_text(&analysis.view);
+    Ok(analysis)
 }
 
 /// The fit options the settings ask for, checked against the model.
@@ -818,7 +828,7 @@ fn analyse_series(
                     "These data do not determine the saturation level {0}. The estimate is not a \
                      forecast of the ceiling: the data only say {0} ≥ {1} (95%).",
                     p.name,
-                    short(lo)
+                    Precision::of_estimate(p.estimate, p.std_error).show(lo)
                 ),
                 None => format!(
                     "These data do not determine the saturation level {}: treat it as unknown.",
@@ -868,6 +878,7 @@ fn analyse_series(
         time_unit: kind.unit(),
         multi: None,
         layout: "single",
+        text: ViewText::default(),
     };
     let drift = drift_sampled(&series.times, &values, model, &fit_opts, DRIFT_ROWS);
     Ok(Analysis {
@@ -894,21 +905,6 @@ Proc. R. Soc. B 2015).";
 fn never_falls(values: &[f64]) -> bool {
     let falls = values.windows(2).filter(|w| w[1] < w[0]).count();
     values.len() > 2 && falls * 5 < values.len()
-}
-
-/// A number to 6 significant digits for a sentence.
-fn short(x: f64) -> String {
-    let a = x.abs();
-    if !x.is_finite() || a == 0.0 || !(1e-4..1e9).contains(&a) {
-        return format!("{x:.5e}");
-    }
-    let decimals = (5 - a.log10().floor() as i32).max(0) as usize;
-    let t = format!("{x:.decimals$}");
-    if t.contains('.') {
-        t.trim_end_matches('0').trim_end_matches('.').to_string()
-    } else {
-        t
-    }
 }
 
 /// Milestones the page shows: 10%, 50%, 90% of K, the chosen share and
@@ -941,12 +937,23 @@ fn milestone_rows(
 fn milestone_row(a: &Assessment, fmt_t: &dyn Fn(f64) -> String) -> MilestoneRow {
     let duration = a.target == Target::Duration1090;
     let show = a.verdict.shows_time();
-    // Durations are lengths of time (years on calendar axes), not dates.
+    // Durations are lengths of time (years on calendar axes), not dates;
+    // they and times on a numeric axis show the digits their interval
+    // supports (`plateau_study::numbers`), dates as dates.
+    let digits = Precision::of_interval(
+        a.estimate.unwrap_or(f64::NAN),
+        a.delta.map(|(lo, hi)| [lo, hi]),
+    );
     let text = |t: f64| {
         if duration {
-            trim4(t)
+            digits.show(t)
         } else {
-            fmt_t(t)
+            let s = fmt_t(t);
+            if s.parse::<f64>().is_ok() {
+                digits.show_time(t)
+            } else {
+                s
+            }
         }
     };
     let time_text = match (a.estimate, show) {
@@ -975,11 +982,6 @@ fn milestone_row(a: &Assessment, fmt_t: &dyn Fn(f64) -> String) -> MilestoneRow 
         verdict: a.verdict.as_str(),
         note: a.note.clone(),
     }
-}
-
-/// A duration to four decimals, without trailing zeros.
-fn trim4(x: f64) -> String {
-    format!("{}", (x * 1e4).round() / 1e4)
 }
 
 /// Starts a bootstrap of `a`'s fit with `a`'s settings.
@@ -1014,7 +1016,7 @@ pub fn bootstrap_view(a: &Analysis, b: &Bootstrap) -> BootstrapView {
     let (t_min, t_max) = range(&a.series.times);
     let finished = b.is_finished();
     let o = b.options();
-    BootstrapView {
+    let mut view = BootstrapView {
         done: b.done(),
         replicates: o.replicates,
         failed: b.failed(),
@@ -1038,7 +1040,10 @@ pub fn bootstrap_view(a: &Analysis, b: &Bootstrap) -> BootstrapView {
         } else {
             Vec::new()
         },
-    }
+        params_text: Vec::new(),
+    };
+    view.params_text = shown::bootstrap_params_text(&a.view, &view);
+    view
 }
 
 fn range(t: &[f64]) -> (f64, f64) {
@@ -1097,24 +1102,40 @@ impl Analysis {
         serde_json::to_string_pretty(&report).unwrap_or_else(|e| format!("{{\"error\":\"{e}\"}}"))
     }
 
-    /// One row per observation (time, observed, fitted, 95% band), then one
-    /// row per period of the forecast (time, forecast, band).
+    /// One row per observation (time, observed, fitted, 95% bands), then
+    /// one row per period of the forecast (time, forecast, bands). Numbers
+    /// are the shortest text that reads back to the same `f64`
+    /// (`plateau_study::numbers::csv`); the band columns say which band
+    /// they hold: `confidence95_*` for the fitted curve (delta method),
+    /// `prediction95_*` for a new observation (adds σ̂²).
     pub fn table_csv(&self) -> String {
         let kind = self.series.time_kind;
-        let mut s = String::from("time,axis,observed,fitted,forecast,lower95,upper95\n");
-        let band = |t: f64| analysis::band(&self.fit, t, 0.95);
-        let cell = |x: Option<f64>| x.map_or(String::new(), |v| format!("{v}"));
+        let mut s = String::from(TABLE_CSV_HEADER);
+        s.push('\n');
+        let num = numbers::csv;
+        let cell = |x: Option<(f64, f64)>, end: fn((f64, f64)) -> f64| {
+            x.map_or(String::new(), |b| num(end(b)))
+        };
+        let bands = |t: f64| {
+            let c = analysis::band(&self.fit, t, 0.95);
+            let p = plateau_core::forecast::prediction_band(&self.fit, t, 0.95);
+            [
+                cell(c, |b| b.0),
+                cell(c, |b| b.1),
+                cell(p, |b| b.0),
+                cell(p, |b| b.1),
+            ]
+            .join(",")
+        };
         for (i, &t) in self.series.times.iter().enumerate() {
-            let b = band(t);
             let _ = writeln!(
                 s,
-                "{},{},{},{},,{},{}",
+                "{},{},{},{},,{}",
                 csv_text(&kind.format(t)),
-                t,
-                self.values[i],
-                self.fit.fitted[i],
-                cell(b.map(|b| b.0)),
-                cell(b.map(|b| b.1)),
+                num(t),
+                num(self.values[i]),
+                num(self.fit.fitted[i]),
+                bands(t),
             );
         }
         let (_, t_max) = range(&self.series.times);
@@ -1122,21 +1143,23 @@ impl Analysis {
         let mut k = 1.0;
         while t_max + k * step <= self.horizon_end + step * 1e-9 {
             let t = t_max + k * step;
-            let b = band(t);
             let _ = writeln!(
                 s,
-                "{},{},,,{},{},{}",
+                "{},{},,,{},{}",
                 csv_text(&kind.format(t)),
-                t,
-                self.fit.predict(t),
-                cell(b.map(|b| b.0)),
-                cell(b.map(|b| b.1)),
+                num(t),
+                num(self.fit.predict(t)),
+                bands(t),
             );
             k += 1.0;
         }
         s
     }
 }
+
+/// The columns of [`Analysis::table_csv`].
+pub const TABLE_CSV_HEADER: &str = "time,axis,observed,fitted,forecast,\
+confidence95_lo,confidence95_hi,prediction95_lo,prediction95_hi";
 
 /// Quotes a CSV field when it needs it.
 fn csv_text(s: &str) -> String {

@@ -88,6 +88,26 @@ export function cliFit(args, input) {
 
 export const sig6 = (x) => Number(x).toPrecision(6);
 
+/// Whether `text`, a number as the page shows it ("12,346", "0.0312",
+/// "1.5e12"; plateau_study::numbers rounds estimates to the digits their
+/// standard error supports), is `value` rounded to the digits it shows:
+/// within half a unit of its last digit. Trailing zeros of a whole number
+/// may stand in for digits not shown ("1,235,000") and count as places.
+export function shows(text, value) {
+  const t = String(text).trim().replace(/,/g, "");
+  const m = /^(-?\d+(?:\.(\d+))?)(?:e([+-]?\d+))?$/.exec(t);
+  if (!m) return false;
+  const exp = m[3] ? Number(m[3]) : 0;
+  const place = (m[2] ? -m[2].length : m[1].length - m[1].replace(/0+$/, "").length) + exp;
+  const half = 0.5 * 10 ** place;
+  return Math.abs(Number(t) - value) <= half * (1 + 1e-9) + Math.abs(value) * 1e-15;
+}
+
+/// `assert.ok(shows(...))` with a message naming both.
+export function assertShows(assert, text, value, what) {
+  assert.ok(shows(text, value), `${what}: page shows ${JSON.stringify(text)}, CLI has ${value}`);
+}
+
 export function readDemo(name) {
   return readFileSync(path.join(ROOT, "demo-data", name), "utf8");
 }

@@ -150,7 +150,7 @@ fn symmetry_chart_shows_both_marker_sets_and_the_ratio() {
         let sym = symmetry(&case.fit, &case.t, &case.y).unwrap();
         let ratio = sym.rms_ratio.expect("ratio");
         assert!(
-            svg.contains(&format!("rms ratio = {ratio:.2}")),
+            svg.contains(&format!("rms ratio = {}", format_value(ratio))),
             "ratio text"
         );
         let cue = if case.fit.model == Model::Logistic {
@@ -615,7 +615,10 @@ fn fisher_pry_chart_with_an_entered_k() {
     let svg = render_fisher_pry_svg(&case.input(), Some(2.5e6), W, H)
         .unwrap()
         .replace("&apos;", "'");
-    assert!(svg.contains("Fisher–Pry view, K = 2.5M (entered)"), "{svg}");
+    assert!(
+        svg.contains("Fisher–Pry view, K = 2,500,000 (entered)"),
+        "{svg}"
+    );
     assert!(svg.contains("straight line"), "logistic data, true K");
     let svg = render_fisher_pry_svg(&case.input(), Some(3.5e6), W, H).unwrap();
     assert!(svg.contains("bend downward"), "K too high");

@@ -536,7 +536,7 @@ fn diagnose_table_svgs_and_bad_k() {
         "runs test",
         "Durbin-Watson",
         "verdicts",
-        "Fisher-Pry, K = 13000 (entered)",
+        "Fisher-Pry, K = 13,000 (entered)",
         "Caution:",
     ] {
         assert!(text.contains(needle), "missing {needle:?}:\n{text}");
@@ -1223,8 +1223,8 @@ fn batch_holds_a_fixed_parameter_in_every_series() {
 /// Aldermoor demo the early prefixes end before the inflection and K is
 /// not identified there (the JSON withholds its interval; the table used
 /// to print the asymptotic one, with a negative lower end). Where the JSON
-/// has an interval, the table prints the same numbers (to its 6
-/// significant digits).
+/// has an interval, the table prints the same numbers, rounded to the
+/// digits it shows (see `shows`).
 #[test]
 fn drift_table_and_json_show_the_same_intervals() {
     let file = demo("aldermoor_subscribers.csv");
@@ -1234,13 +1234,7 @@ fn drift_table_and_json_show_the_same_intervals() {
     let table = String::from_utf8_lossy(&out.stdout);
     let rows = report["rows"].as_array().unwrap();
     let lines: Vec<&str> = table.lines().skip(2).take(rows.len()).collect();
-    let close = |text: &str, want: f64| {
-        let got: f64 = text.trim().parse().unwrap_or_else(|_| panic!("{text:?}"));
-        assert!(
-            (got - want).abs() <= 1e-5 * want.abs(),
-            "table {got}, json {want}"
-        );
-    };
+    let close = |text: &str, want: f64| assert!(shows(text, want), "table {text}, json {want}");
     let mut withheld = 0;
     let mut shown = 0;
     for (row, line) in rows.iter().zip(&lines) {
@@ -1325,4 +1319,75 @@ fn utf16_files_are_read_and_epoch_seconds_are_dates() {
         .filter_map(|w| w["code"].as_str())
         .collect();
     assert!(codes.contains(&"epoch_times"), "{codes:?}");
+}
+
+/// Whether `text`, a number as the tables show it (`12,346`, `0.0312`,
+/// `1.5e12`), is `value` rounded to the digits it shows: within half a
+/// unit of its last digit. Trailing zeros of a whole number may stand in
+/// for digits not shown (`1,235,000`), so they count as rounding places.
+fn shows(text: &str, value: f64) -> bool {
+    let t = text.trim().replace(',', "");
+    let Ok(got) = t.parse::<f64>() else {
+        return false;
+    };
+    let (mantissa, exp) = t.split_once('e').unwrap_or((&t, "0"));
+    let exp: i32 = exp.parse().unwrap_or(0);
+    let place = match mantissa.split_once('.') {
+        Some((_, frac)) => -(frac.len() as i32),
+        None => mantissa.len() as i32 - mantissa.trim_end_matches('0').len() as i32,
+    } + exp;
+    let half = 0.5 * 10f64.powi(place);
+    (got - value).abs() <= half * (1.0 + 1e-9) + value.abs() * 1e-15
+}
+
+#[test]
+fn shows_reads_rounded_numbers() {
+    assert!(shows("12,346", 12345.678));
+    assert!(!shows("12,346", 12345.4));
+    assert!(shows("0.0312", 0.03118));
+    assert!(!shows("0.0312", 0.0313));
+    assert!(shows("1,235,000", 1234567.0));
+    assert!(shows("1.500e12", 1.4996e12));
+    assert!(!shows("1.500e12", 1.4994e12));
+    assert!(!shows("twelve", 12.0));
+}
+
+/// The fit table rounds each estimate at the place of its standard error's
+/// second significant digit (the GUM's two digits, JCGM 100:2008 §7.2.6,
+/// from memory) and shows the `--json` numbers at those digits.
+#[test]
+fn fit_table_shows_the_digits_the_standard_error_supports() {
+    let file = demo("aldermoor_subscribers.csv");
+    let report = json(&plateau(&["fit", &file, "--json"], None));
+    let out = plateau(&["fit", &file], None);
+    let table = String::from_utf8_lossy(&out.stdout);
+    for name in ["K", "r", "t0"] {
+        let p = &report["params"][name];
+        let line = table
+            .lines()
+            .find(|l| l.split_whitespace().next() == Some(name))
+            .unwrap();
+        let f: Vec<&str> = line.split_whitespace().collect();
+        let (est, se) = (f[1], f[2]);
+        assert!(shows(est, p["estimate"].as_f64().unwrap()), "{line}");
+        assert!(shows(se, p["std_error"].as_f64().unwrap()), "{line}");
+        let significant = se
+            .bytes()
+            .filter(u8::is_ascii_digit)
+            .skip_while(|b| *b == b'0')
+            .count();
+        assert_eq!(significant, 2, "{line}");
+        let decimals = |s: &str| s.split_once('.').map_or(0, |(_, d)| d.len());
+        assert_eq!(decimals(est), decimals(se), "{line}");
+        let ci = p["ci95"].as_array().unwrap();
+        // "[LO, HI]": the separator is ", " (a comma inside a number has
+        // no space after it).
+        let (lo, hi) = (
+            f[3].trim_start_matches('[').trim_end_matches(','),
+            f[4].trim_end_matches(']'),
+        );
+        assert!(shows(lo, ci[0].as_f64().unwrap()), "{line}");
+        assert!(shows(hi, ci[1].as_f64().unwrap()), "{line}");
+        assert_eq!(decimals(lo), decimals(est), "{line}");
+    }
 }

@@ -135,6 +135,102 @@ fn csv_has_one_row_per_time_and_forecast_rows_after() {
     assert!(axis.windows(2).all(|w| w[0] < w[1]), "distinct, increasing");
 }
 
+/// The CSV's numbers read back to the very `f64`s of the fit (Rust's own
+/// parser is the reference), its band columns say which band they hold,
+/// and the prediction band holds the confidence band (it adds σ̂², Seber
+/// & Wild 1989 §5.1).
+#[test]
+fn csv_numbers_are_exact_and_bands_are_named() {
+    let a = demo();
+    let csv = a.table_csv();
+    let mut lines = csv.lines();
+    let header: Vec<&str> = lines.next().unwrap().split(',').collect();
+    assert_eq!(
+        header,
+        [
+            "time",
+            "axis",
+            "observed",
+            "fitted",
+            "forecast",
+            "confidence95_lo",
+            "confidence95_hi",
+            "prediction95_lo",
+            "prediction95_hi"
+        ]
+    );
+    for (i, line) in lines.enumerate() {
+        let cells: Vec<&str> = line.split(',').collect();
+        assert_eq!(cells.len(), header.len(), "{line}");
+        let num = |j: usize| cells[j].parse::<f64>().unwrap();
+        let t = num(1);
+        if let Some(&y) = a.values.get(i) {
+            assert_eq!(t, a.series.times[i]);
+            assert_eq!(num(2), y);
+            assert_eq!(num(3), a.fit.fitted[i]);
+        } else {
+            assert_eq!(num(4), a.fit.predict(t));
+        }
+        let c = analysis::band(&a.fit, t, 0.95).unwrap();
+        assert_eq!((num(5), num(6)), c);
+        assert!(num(7) < num(5) && num(6) < num(8), "{line}");
+    }
+}
+
+/// The page's text comes from `plateau_study::numbers` with the CLI's
+/// rules: each estimate at its standard error's digits, its interval and
+/// bootstrap interval at the same digits, weights and p-values as such.
+#[test]
+fn view_text_follows_the_numbers_rules() {
+    let a = demo();
+    let t = &a.view.text;
+    assert_eq!(t.params.len(), a.view.params.len());
+    for (p, shown) in a.view.params.iter().zip(&t.params) {
+        let d = Precision::of_estimate(p.estimate, p.std_error);
+        let show = |x: f64| {
+            if p.name == "t0" {
+                d.show_time(x)
+            } else {
+                d.show(x)
+            }
+        };
+        assert_eq!(shown.estimate, show(p.estimate));
+        assert_eq!(
+            shown.std_error,
+            numbers::std_error(p.estimate, p.std_error.unwrap())
+        );
+        let [lo, hi] = p.ci95.unwrap();
+        assert_eq!(
+            shown.interval,
+            format!("{} … {}", show(lo.unwrap()), show(hi.unwrap()))
+        );
+    }
+    // K of the demo is in the thousands: separators.
+    assert!(t.params[0].estimate.contains(','), "{:?}", t.params[0]);
+    for (c, shown) in a.view.comparison.iter().zip(&t.comparison) {
+        if c.weight.is_some_and(|w| w < 0.001) {
+            assert_eq!(shown.weight, "<0.001");
+        }
+    }
+    assert_eq!(t.backtest.len(), a.view.backtest.len());
+    assert!(t.backtest[0].iter().all(|m| m.ends_with('%') || m == "–"));
+    let mut b = start_bootstrap(&a).unwrap();
+    b.run();
+    let bv = bootstrap_view(&a, &b);
+    for ((p, iv), text) in a.view.params.iter().zip(&bv.params).zip(&bv.params_text) {
+        let d = Precision::of_estimate(p.estimate, p.std_error);
+        let [lo, hi] = iv.unwrap();
+        let show = |x: f64| {
+            if p.name == "t0" {
+                d.show_time(x)
+            } else {
+                d.show(x)
+            }
+        };
+        assert_eq!(text, &format!("{} … {}", show(lo), show(hi)));
+    }
+}
+
 #[test]
 fn json_report_is_the_cli_schema() {
     let a = demo();

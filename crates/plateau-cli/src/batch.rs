@@ -33,9 +33,9 @@ use plateau_core::data::{
     SeriesFailure,
 };
 use plateau_core::fit::{fit, FitOptions};
-use plateau_core::report::{FitReport, CAUTION};
-use plateau_core::summary::{csv_row, SeriesSummary, CSV_HEADER};
 use plateau_core::Model;
+use plateau_study::report::{FitReport, CAUTION};
+use plateau_study::summary::{csv_row, SeriesSummary, CSV_HEADER};
 use rayon::prelude::*;
 use serde::Serialize;
 use std::fmt;
@@ -449,7 +449,7 @@ fn table_header() -> String {
 }
 
 /// `v [lo, hi]` in 4 significant digits.
-fn with_interval(e: Option<plateau_core::summary::Estimate>) -> String {
+fn with_interval(e: Option<plateau_study::summary::Estimate>) -> String {
     let Some(e) = e else {
         return "-".into();
     };

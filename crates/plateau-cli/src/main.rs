@@ -4,7 +4,7 @@
 //! Flags are parsed in two stages: [`cli::Cli`] holds the raw flags as clap
 //! read them, [`settings`] turns them into validated core options. Output is
 //! either a table for people ([`table`]) or the JSON report shared with the
-//! page (`plateau_core::report`).
+//! page (`plateau_study::report`).
 
 mod cli;
 mod outlook;
@@ -19,10 +19,10 @@ use plateau_core::bootstrap::Bootstrap;
 use plateau_core::compare::compare;
 use plateau_core::data::TimeKind;
 use plateau_core::diagnostics;
-use plateau_core::forecast_report::{BacktestReport, DriftReport, ForecastReport};
-use plateau_core::report::{CompareReport, DiagnoseReport, FitReport};
 use plateau_core::{drift, forecast, milestones};
 use plateau_core::{fit, parse_series, Model, Series};
+use plateau_study::forecast_report::{BacktestReport, DriftReport, ForecastReport};
+use plateau_study::report::{CompareReport, DiagnoseReport, FitReport};
 use std::io::Read;
 use std::process::ExitCode;
 
@@ -329,7 +329,7 @@ fn run(cli: Cli) -> Result<(), Failure> {
             };
             let name = if file == "-" { "<stdin>" } else { file };
             if opts.format != batch::Format::Table {
-                eprintln!("plateau: {}", plateau_core::report::CAUTION);
+                eprintln!("plateau: {}", plateau_study::report::CAUTION);
             }
             let stdout = std::io::stdout();
             let mut out = std::io::BufWriter::new(stdout.lock());

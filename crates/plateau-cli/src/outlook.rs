@@ -4,8 +4,8 @@
 use crate::table::num;
 use plateau_core::bootstrap::Bootstrap;
 use plateau_core::drift::ModelBacktest;
-use plateau_core::forecast_report::{DriftReport, ForecastReport};
-use plateau_core::report::CAUTION;
+use plateau_study::forecast_report::{DriftReport, ForecastReport};
+use plateau_study::report::CAUTION;
 use std::fmt::Write;
 
 fn pair(x: Option<[f64; 2]>) -> String {

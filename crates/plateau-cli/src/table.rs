@@ -4,8 +4,8 @@
 use plateau_core::compare::Entry;
 use plateau_core::data::TimeKind;
 use plateau_core::diagnostics::{fmt_p, Verdict};
-use plateau_core::report::{CompareReport, DiagnoseReport, CAUTION};
 use plateau_core::{Fit, Series};
+use plateau_study::report::{CompareReport, DiagnoseReport, CAUTION};
 use std::fmt::Write;
 
 /// `x` to 6 significant digits, in scientific notation when very large or small.

@@ -2,3 +2,7 @@
 //! (`plateau-web`) turn their flags or settings into one validated request,
 //! and read every answer, report, sentence and formatted number from here.
 //! The core computes; this crate decides how results are put to people.
+
+pub mod forecast_report;
+pub mod report;
+pub mod summary;

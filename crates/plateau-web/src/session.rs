@@ -17,9 +17,9 @@ use plateau_core::diagnostics::{self, Verdict};
 use plateau_core::drift::{drift_sampled, DriftRow};
 use plateau_core::fit::{fit_xy, ErrorModel, Fit, FitOptions, IntervalMethod};
 use plateau_core::milestones::{self, Assessment, Target};
-use plateau_core::report::{FitReport, CAUTION};
-use plateau_core::summary::{summary_csv, SeriesSummary};
 use plateau_core::{parse_series, Model, ParseOptions, Series, Warning};
+use plateau_study::report::{FitReport, CAUTION};
+use plateau_study::summary::{summary_csv, SeriesSummary};
 use serde::{Deserialize, Serialize};
 use std::fmt::Write;
 
@@ -1087,7 +1087,7 @@ impl Analysis {
             .fisher_pry_k
             .or_else(|| self.fit.param("K").map(|p| p.estimate))
             .and_then(|k| diagnostics::fisher_pry_of(&self.fit, t, y, k));
-        let report = plateau_core::report::DiagnoseReport::new(
+        let report = plateau_study::report::DiagnoseReport::new(
             &self.fit,
             &self.series.warnings,
             diagnostics::residual_diagnostics(&self.fit, t, y),

@@ -5,13 +5,13 @@
 //!
 //! Main types: [`ForecastReport`], [`DriftReport`], [`BacktestReport`].
 
-use crate::bootstrap::Bootstrap;
-use crate::drift::{DriftRow, ModelBacktest};
-use crate::fit::Fit;
-use crate::forecast::ForecastPoint;
-use crate::milestones::Assessment;
 use crate::report::CAUTION;
-use crate::warning::Warning;
+use plateau_core::bootstrap::Bootstrap;
+use plateau_core::drift::{DriftRow, ModelBacktest};
+use plateau_core::fit::Fit;
+use plateau_core::forecast::ForecastPoint;
+use plateau_core::milestones::Assessment;
+use plateau_core::warning::Warning;
 use serde::ser::{SerializeMap, Serializer};
 use serde::Serialize;
 
@@ -276,7 +276,7 @@ pub struct DriftReport {
 
 impl DriftReport {
     pub fn new(
-        model: crate::Model,
+        model: plateau_core::Model,
         rows: &[DriftRow],
         text: TimeText,
         warnings: &[Warning],

@@ -8,10 +8,10 @@
 //! `batch --csv`, the page's export), so both front ends share one shape.
 //! Field and column names are an output contract: add, never rename.
 
-use crate::analysis;
-use crate::data::{Series, TimeKind};
-use crate::fit::Fit;
-use crate::warning::Warning;
+use plateau_core::analysis;
+use plateau_core::data::{Series, TimeKind};
+use plateau_core::fit::Fit;
+use plateau_core::warning::Warning;
 use serde::Serialize;
 use std::fmt::Write;
 
@@ -176,7 +176,7 @@ fn csv_text(s: &str) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::{fit, parse_series, Model, ParseOptions};
+    use plateau_core::{fit, parse_series, Model, ParseOptions};
 
     #[test]
     fn csv_has_one_row_per_series_and_quotes_names() {

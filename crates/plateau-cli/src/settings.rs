@@ -1,5 +1,7 @@
-//! Validated settings: the raw flags of [`crate::cli`] turned into core
-//! options, with a message naming the flag when one is wrong.
+//! Validated settings: the raw flags of [`crate::cli`] turned into how the
+//! input is read and one [`Request`] of the study layer, with a message
+//! naming the flag when one is wrong. The limits are the study layer's
+//! (`plateau_study::request`), the same as on the page.
 
 use crate::cli::{
     BacktestArgs, BatchArgs, CompareArgs, DiagnoseArgs, DriftArgs, ErrorArgs, FitArgs,
@@ -7,46 +9,59 @@ use crate::cli::{
 };
 use anyhow::{anyhow, bail, Result};
 use plateau_cli::batch;
-use plateau_core::bootstrap::{BootstrapOptions, Resampling, DEFAULT_SEED};
+use plateau_core::bootstrap::BootstrapOptions;
 use plateau_core::data::ColumnRef;
 use plateau_core::{ErrorModel, FitOptions, IntervalMethod, Model, ParseOptions};
+use plateau_study::request::{
+    self, BacktestRequest, Horizon, Request, DEFAULT_SEED, MAX_BACKTEST_HORIZON, MAX_REPLICATES,
+    MAX_SEED,
+};
 
-pub struct FitSettings {
+/// How to read the input, and what to ask of it.
+pub struct Settings {
     pub parse: ParseOptions,
-    pub model: Model,
-    pub fit: FitOptions,
+    pub request: Request,
 }
 
-pub struct CompareSettings {
-    pub parse: ParseOptions,
-    pub models: Vec<Model>,
-    pub fit: FitOptions,
+/// What the "values decline" warning adds on this face.
+const PER_PERIOD_HINT: &str = " (--per-period)";
+
+/// A request for `model` read with `input`'s per-period choice.
+fn request_for(model: Model, input: &InputArgs, fit: FitOptions) -> Request {
+    Request {
+        fit,
+        per_period: input.per_period,
+        per_period_hint: PER_PERIOD_HINT.into(),
+        ..Request::new(model)
+    }
 }
 
-pub fn fit(args: &FitArgs) -> Result<FitSettings> {
+/// The fit options every subcommand with `--errors` shares.
+fn error_options(args: &ErrorArgs, fixed: Assignments, start: Assignments) -> Result<FitOptions> {
+    Ok(FitOptions {
+        fixed,
+        start,
+        error_model: error_model(args)?,
+        increments: args.increments,
+        ..FitOptions::default()
+    })
+}
+
+pub fn fit(args: &FitArgs) -> Result<Settings> {
     let model = model(&args.model)?;
     let (fixed, start) = held(&args.fix, &args.start, Scope::One(model))?;
-    Ok(FitSettings {
+    let fit = FitOptions {
+        intervals: intervals(&args.intervals)?,
+        ..error_options(&args.errors, fixed, start)?
+    };
+    Ok(Settings {
         parse: parse_options(&args.input)?,
-        model,
-        fit: FitOptions {
-            fixed,
-            start,
-            error_model: error_model(&args.errors)?,
-            increments: args.errors.increments,
-            intervals: intervals(&args.intervals)?,
-            ..FitOptions::default()
-        },
+        request: request_for(model, &args.input, fit),
     })
 }
 
 fn error_model(args: &ErrorArgs) -> Result<ErrorModel> {
-    ErrorModel::from_name(&args.errors).ok_or_else(|| {
-        anyhow!(
-            "--errors: expected additive, relative, log or count, found {:?}",
-            args.errors
-        )
-    })
+    request::error_model(&args.errors).map_err(|e| anyhow!("--errors: {e}"))
 }
 
 fn intervals(s: &str) -> Result<IntervalMethod> {
@@ -57,70 +72,45 @@ fn intervals(s: &str) -> Result<IntervalMethod> {
     }
 }
 
-pub fn compare(args: &CompareArgs) -> Result<CompareSettings> {
+pub fn compare(args: &CompareArgs) -> Result<Settings> {
     let models = model_list(args.models.as_deref())?;
     let (fixed, _) = held(&args.fix, &[], Scope::Several(&models, "compared"))?;
-    Ok(CompareSettings {
+    let fit = error_options(&args.errors, fixed, Vec::new())?;
+    let mut request = request_for(models[0], &args.input, fit);
+    request.models = models;
+    Ok(Settings {
         parse: parse_options(&args.input)?,
-        models,
-        fit: FitOptions {
-            fixed,
-            error_model: error_model(&args.errors)?,
-            increments: args.errors.increments,
-            ..FitOptions::default()
-        },
+        request,
     })
 }
 
-pub struct DiagnoseSettings {
-    pub parse: ParseOptions,
-    pub model: Model,
-    pub fit: FitOptions,
-    pub fisher_pry_k: Option<f64>,
-}
-
-pub fn diagnose(args: &DiagnoseArgs) -> Result<DiagnoseSettings> {
+pub fn diagnose(args: &DiagnoseArgs) -> Result<Settings> {
     if let Some(k) = args.fisher_pry_k {
-        if !(k.is_finite() && k > 0.0) {
+        if !request::positive(k) {
             bail!("--fisher-pry-k: expected a positive number, found {k}");
         }
     }
     let model = model(&args.model)?;
     let (fixed, start) = held(&args.fix, &args.start, Scope::One(model))?;
-    Ok(DiagnoseSettings {
+    let fit = FitOptions {
+        // The checks read residuals and likelihoods, not intervals.
+        intervals: IntervalMethod::Asymptotic,
+        ..error_options(&args.errors, fixed, start)?
+    };
+    let mut request = request_for(model, &args.input, fit);
+    request.fisher_pry_k = args.fisher_pry_k;
+    Ok(Settings {
         parse: parse_options(&args.input)?,
-        model,
-        fit: FitOptions {
-            fixed,
-            start,
-            error_model: error_model(&args.errors)?,
-            increments: args.errors.increments,
-            // The checks read residuals and likelihoods, not intervals.
-            intervals: IntervalMethod::Asymptotic,
-            ..FitOptions::default()
-        },
-        fisher_pry_k: args.fisher_pry_k,
+        request,
     })
 }
 
-pub struct ForecastSettings {
-    pub parse: ParseOptions,
-    pub model: Model,
-    pub fit: FitOptions,
-    pub bootstrap: Option<BootstrapOptions>,
-    /// Extra milestone shares, 0–1.
-    pub shares: Vec<f64>,
-    pub levels: Vec<f64>,
-    pub step: Option<f64>,
-}
-
-pub fn forecast(args: &ForecastArgs) -> Result<ForecastSettings> {
-    let resampling = Resampling::from_name(&args.resampling).ok_or_else(|| {
-        anyhow!(
-            "--resampling: expected residual or parametric, found {:?}",
-            args.resampling
-        )
-    })?;
+pub fn forecast(args: &ForecastArgs) -> Result<Settings> {
+    let resampling =
+        request::resampling(&args.resampling).map_err(|e| anyhow!("--resampling: {e}"))?;
+    if let Some(s) = args.seed.filter(|&s| s > MAX_SEED) {
+        bail!("--seed {s}: expected a whole number from 0 to {MAX_SEED}");
+    }
     let bootstrap = match args.bootstrap {
         None => {
             if args.seed.is_some() {
@@ -129,7 +119,9 @@ pub fn forecast(args: &ForecastArgs) -> Result<ForecastSettings> {
             None
         }
         Some(0) => bail!("--bootstrap: expected at least 1 replicate"),
-        Some(b) if b > 1_000_000 => bail!("--bootstrap: at most 1000000 replicates"),
+        Some(b) if b > MAX_REPLICATES => {
+            bail!("--bootstrap: at most {MAX_REPLICATES} replicates")
+        }
         Some(b) => Some(BootstrapOptions {
             resampling,
             replicates: b,
@@ -140,7 +132,7 @@ pub fn forecast(args: &ForecastArgs) -> Result<ForecastSettings> {
         .share
         .iter()
         .map(|&s| {
-            if s > 0.0 && s < 100.0 {
+            if request::share_ok(s) {
                 Ok(s / 100.0)
             } else {
                 Err(anyhow!(
@@ -153,37 +145,32 @@ pub fn forecast(args: &ForecastArgs) -> Result<ForecastSettings> {
         bail!("--level {l}: expected a finite number");
     }
     if let Some(s) = args.step {
-        if !(s.is_finite() && s > 0.0) {
+        if !request::positive(s) {
             bail!("--step {s}: expected a positive number");
         }
     }
     let model = model(&args.model)?;
     let (fixed, start) = held(&args.fix, &args.start, Scope::One(model))?;
-    Ok(ForecastSettings {
+    let fit = error_options(&args.errors, fixed, start)?;
+    let mut request = request_for(model, &args.input, fit);
+    request.horizon = Some(Horizon::Until(args.until.clone()));
+    request.step = args.step;
+    request.shares = shares;
+    request.levels = args.level.clone();
+    request.bootstrap = bootstrap;
+    Ok(Settings {
         parse: parse_options(&args.input)?,
-        model,
-        fit: FitOptions {
-            fixed,
-            start,
-            ..FitOptions::default()
-        },
-        bootstrap,
-        shares,
-        levels: args.level.clone(),
-        step: args.step,
+        request,
     })
 }
 
-pub fn drift(args: &DriftArgs) -> Result<FitSettings> {
+pub fn drift(args: &DriftArgs) -> Result<Settings> {
     let model = model(&args.model)?;
     let (fixed, _) = held(&args.fix, &[], Scope::One(model))?;
-    Ok(FitSettings {
+    let fit = error_options(&args.errors, fixed, Vec::new())?;
+    Ok(Settings {
         parse: parse_options(&args.input)?,
-        model,
-        fit: FitOptions {
-            fixed,
-            ..FitOptions::default()
-        },
+        request: request_for(model, &args.input, fit),
     })
 }
 
@@ -230,24 +217,26 @@ fn header(s: Option<&str>) -> Result<Option<bool>> {
     })
 }
 
-pub fn backtest(args: &BacktestArgs) -> Result<CompareSettings> {
-    if args.horizon == 0 || args.horizon > 1000 {
-        bail!("--horizon: expected a number of steps from 1 to 1000");
+pub fn backtest(args: &BacktestArgs) -> Result<Settings> {
+    if args.horizon == 0 || args.horizon > MAX_BACKTEST_HORIZON {
+        bail!("--horizon: expected a number of steps from 1 to {MAX_BACKTEST_HORIZON}");
     }
     if args.min_train == Some(0) {
         bail!("--min-train: expected a positive number of points");
     }
     let models = model_list(args.models.as_deref())?;
     let (fixed, _) = held(&args.fix, &[], Scope::Several(&models, "tested"))?;
-    Ok(CompareSettings {
+    let fit = error_options(&args.errors, fixed, Vec::new())?;
+    let mut request = request_for(models[0], &args.input, fit);
+    request.models = models;
+    request.backtest = BacktestRequest {
+        horizon: args.horizon,
+        min_train: args.min_train,
+        max_origins: None,
+    };
+    Ok(Settings {
         parse: parse_options(&args.input)?,
-        models,
-        fit: FitOptions {
-            fixed,
-            // The backtest scores point forecasts: no intervals needed.
-            intervals: IntervalMethod::Asymptotic,
-            ..FitOptions::default()
-        },
+        request,
     })
 }
 
@@ -268,13 +257,7 @@ fn model_list(list: Option<&str>) -> Result<Vec<Model>> {
 }
 
 fn model(name: &str) -> Result<Model> {
-    Model::from_name(name).ok_or_else(|| {
-        let names: Vec<&str> = Model::ALL.iter().map(|m| m.name()).collect();
-        anyhow!(
-            "unknown model {name:?}; expected one of {}",
-            names.join(", ")
-        )
-    })
+    request::model(name).map_err(|e| anyhow!(e))
 }
 
 fn parse_options(input: &InputArgs) -> Result<ParseOptions> {

@@ -12,7 +12,6 @@ use plateau_core::fit::Fit;
 use plateau_core::forecast::ForecastPoint;
 use plateau_core::milestones::Assessment;
 use plateau_core::warning::Warning;
-use serde::ser::{SerializeMap, Serializer};
 use serde::Serialize;
 
 /// Formats an axis value as text in the data's own time format.
@@ -28,19 +27,7 @@ pub struct ParamIntervals {
     pub fixed: bool,
 }
 
-/// Name → value map that keeps the model's parameter order.
-#[derive(Debug, Clone, PartialEq)]
-pub struct Ordered<T>(pub Vec<(String, T)>);
-
-impl<T: Serialize> Serialize for Ordered<T> {
-    fn serialize<S: Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
-        let mut m = s.serialize_map(Some(self.0.len()))?;
-        for (k, v) in &self.0 {
-            m.serialize_entry(k, v)?;
-        }
-        m.end()
-    }
-}
+pub use crate::report::Ordered;
 
 /// What was bootstrapped and how it went.
 #[derive(Debug, Clone, PartialEq, Serialize)]

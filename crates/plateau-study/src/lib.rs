@@ -5,4 +5,6 @@
 
 pub mod forecast_report;
 pub mod report;
+pub mod request;
+pub mod study;
 pub mod summary;

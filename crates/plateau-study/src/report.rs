@@ -48,12 +48,16 @@ pub struct ParamReport {
     pub identified: bool,
 }
 
-/// Parameters in the model's own order (a JSON object keeps the order the
-/// keys are written in, so `K, r, t0` reads as in the formula).
+/// Name → value map that keeps the order it was built in (a JSON object
+/// keeps the order the keys are written in, so `K, r, t0` reads as in the
+/// formula). The one ordered-map serialiser of every report.
 #[derive(Debug, Clone, PartialEq)]
-pub struct Params(pub Vec<(String, ParamReport)>);
+pub struct Ordered<T>(pub Vec<(String, T)>);
 
-impl Serialize for Params {
+/// Parameters in the model's own order.
+pub type Params = Ordered<ParamReport>;
+
+impl<T: Serialize> Serialize for Ordered<T> {
     fn serialize<S: Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
         let mut m = s.serialize_map(Some(self.0.len()))?;
         for (k, v) in &self.0 {
@@ -147,7 +151,7 @@ impl FitReport {
             iterations: fit.iterations,
             termination: fit.termination.as_str(),
             condition_number: fit.condition_number,
-            params: Params(params),
+            params: Ordered(params),
             fitted: fit.fitted.clone(),
             warnings: extra_warnings
                 .iter()

@@ -166,11 +166,7 @@ pub fn summary_csv(rows: &[SeriesSummary]) -> String {
 
 /// Quotes a CSV field when it needs it (RFC 4180).
 fn csv_text(s: &str) -> String {
-    if s.contains([',', '"', '\n', '\r']) {
-        format!("\"{}\"", s.replace('"', "\"\""))
-    } else {
-        s.to_string()
-    }
+    crate::study::csv_field(s)
 }
 
 #[cfg(test)]

@@ -1328,3 +1328,73 @@ fn utf16_files_are_read_and_epoch_seconds_are_dates() {
         .collect();
     assert!(codes.contains(&"epoch_times"), "{codes:?}");
 }
+
+/// `forecast`, `drift` and `backtest` take `--errors` like `fit` (the page
+/// applies its error model to milestones and drift too): the forecast's
+/// estimates and the last drift row (all the data) are the relative-error
+/// fit's, which differ from the additive fit's.
+#[test]
+fn forecast_drift_and_backtest_follow_the_error_model() {
+    let file = demo("aldermoor_subscribers.csv");
+    let k_of = |v: &Value| v["params"]["K"]["estimate"].as_f64().unwrap();
+    let fit_rel = json(&plateau(
+        &["fit", &file, "--errors", "relative", "--json"],
+        None,
+    ));
+    let fit_add = json(&plateau(&["fit", &file, "--json"], None));
+    assert_eq!(fit_rel["error_model"], "relative");
+    assert_ne!(k_of(&fit_rel), k_of(&fit_add));
+    let fc = json(&plateau(
+        &[
+            "forecast", &file, "--until", "40", "--errors", "relative", "--json",
+        ],
+        None,
+    ));
+    // Same fit, same options: the same numbers to the last bit.
+    assert_eq!(k_of(&fc), k_of(&fit_rel));
+    let dr = json(&plateau(
+        &["drift", &file, "--errors", "relative", "--json"],
+        None,
+    ));
+    let last = dr["rows"].as_array().unwrap().last().unwrap();
+    assert_eq!(k_of(last), k_of(&fit_rel));
+    let out = plateau(&["drift", &file, "--errors", "sideways"], None);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("--errors: expected additive"));
+    let bt = json(&plateau(
+        &[
+            "backtest", &file, "--models", "logistic", "--errors", "log", "--json",
+        ],
+        None,
+    ));
+    assert!(bt["models"][0]["horizons"][0]["mae"].as_f64().unwrap() > 0.0);
+}
+
+/// One limit per setting on both faces (plateau_study::request): the page
+/// refuses more than 100000 replicates and seeds above 2^53 − 1, and so
+/// does the CLI.
+#[test]
+fn bootstrap_limits_are_the_pages() {
+    let file = demo("aldermoor_subscribers.csv");
+    let out = plateau(
+        &["forecast", &file, "--until", "40", "--bootstrap", "100001"],
+        None,
+    );
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("at most 100000 replicates"));
+    let out = plateau(
+        &[
+            "forecast",
+            &file,
+            "--until",
+            "40",
+            "--bootstrap",
+            "10",
+            "--seed",
+            "9007199254740992",
+        ],
+        None,
+    );
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("from 0 to 9007199254740991"));
+}

@@ -2,7 +2,8 @@
 //! is compared, number for number, with a checked-in copy in
 //! `crates/plateau-cli/tests/snapshots/`. The solver is deterministic (the
 //! AVX2 and portable kernels give the same bits), so the comparison is
-//! exact. A refactor that moves code must leave these files unchanged; a
+//! exact (serde_json's `float_roundtrip` parser, enabled for these tests,
+//! reads each number to the same bits it was printed from). A refactor that moves code must leave these files unchanged; a
 //! change that adds a field rewrites them on purpose with
 //! `UPDATE_SNAPSHOTS=1 cargo test -p plateau-cli --test cli snapshot`, and
 //! the diff shows what was added.
@@ -70,15 +71,23 @@ fn check(name: &str, args: &[&str]) {
     };
     let path = snapshot_path(name);
     if std::env::var_os("UPDATE_SNAPSHOTS").is_some() {
-        let pretty = serde_json::to_string_pretty(&got).unwrap() + "\n";
-        std::fs::write(&path, pretty).expect("write snapshot");
+        // The output as printed, not re-serialised: the file holds the
+        // exact text of each number.
+        std::fs::write(&path, &text).expect("write snapshot");
         return;
     }
-    let want: Value =
-        serde_json::from_str(&std::fs::read_to_string(&path).unwrap_or_else(|e| {
-            panic!("{}: {e}; write it with UPDATE_SNAPSHOTS=1", path.display())
-        }))
-        .expect("snapshot is JSON");
+    let want_text = std::fs::read_to_string(&path).unwrap_or_else(|e| {
+        panic!("{}: {e}; write it with UPDATE_SNAPSHOTS=1", path.display())
+    });
+    let want: Value = match serde_json::from_str(&want_text) {
+        Ok(v) => v,
+        Err(_) => Value::Array(
+            want_text
+                .lines()
+                .map(|l| serde_json::from_str(l).expect("snapshot lines are JSON"))
+                .collect(),
+        ),
+    };
     let mut diffs = Vec::new();
     differences("$", &want, &got, &mut diffs);
     assert!(

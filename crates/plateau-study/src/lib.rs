@@ -4,6 +4,7 @@
 //! The core computes; this crate decides how results are put to people.
 
 pub mod forecast_report;
+pub mod held;
 pub mod report;
 pub mod request;
 pub mod study;

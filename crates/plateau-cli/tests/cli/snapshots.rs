@@ -76,9 +76,8 @@ fn check(name: &str, args: &[&str]) {
         std::fs::write(&path, &text).expect("write snapshot");
         return;
     }
-    let want_text = std::fs::read_to_string(&path).unwrap_or_else(|e| {
-        panic!("{}: {e}; write it with UPDATE_SNAPSHOTS=1", path.display())
-    });
+    let want_text = std::fs::read_to_string(&path)
+        .unwrap_or_else(|e| panic!("{}: {e}; write it with UPDATE_SNAPSHOTS=1", path.display()));
     let want: Value = match serde_json::from_str(&want_text) {
         Ok(v) => v,
         Err(_) => Value::Array(

@@ -102,12 +102,7 @@ fn run(cli: Cli) -> Result<(), Failure> {
             if args.json {
                 print_json(&report)?;
             } else {
-                emit(&table::compare(
-                    &name,
-                    &study.fitted_series(),
-                    entries,
-                    &report,
-                ))?;
+                emit(&table::compare(&name, study.series(), entries, &report))?;
             }
             Ok(())
         }
@@ -189,7 +184,7 @@ fn run(cli: Cli) -> Result<(), Failure> {
                     &plateau_chart::DriftInput {
                         format_time: &text,
                         time_caption: &series.time_name,
-                        value_caption: &study.fitted_series().value_name,
+                        value_caption: &study.fitted_value_name(),
                         model: study.request().model,
                     },
                     900,

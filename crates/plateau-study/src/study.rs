@@ -139,10 +139,18 @@ impl Study {
     pub fn fitted_series(&self) -> Series {
         let mut s = self.series.clone();
         s.values = self.values.clone();
-        if self.request.per_period {
-            s.value_name = format!("{} (cumulative)", s.value_name);
-        }
+        s.value_name = self.fitted_value_name();
         s
+    }
+
+    /// The name of the values as fitted: "(cumulative)" added when per-period
+    /// counts were summed.
+    pub fn fitted_value_name(&self) -> String {
+        if self.request.per_period {
+            format!("{} (cumulative)", self.series.value_name)
+        } else {
+            self.series.value_name.clone()
+        }
     }
 
     pub fn request(&self) -> &Request {

@@ -21,7 +21,7 @@ use plateau_study::report::CAUTION;
 use plateau_study::request::{self, BacktestRequest, Horizon, Request};
 pub use plateau_study::study::typical_step;
 use plateau_study::study::{
-    csv_field, derived_time_text, is_time_param, looks_cumulative, Study, StudyError,
+    csv_field, derived_time_text, is_time_param, looks_cumulative, span, Study, StudyError,
 };
 use plateau_study::summary::{summary_csv, SeriesSummary};
 use serde::{Deserialize, Serialize};
@@ -183,7 +183,7 @@ fn whole(label: &str, x: f64, lo: u64, hi: u64) -> Result<u64, UpdateError> {
 /// it and the allowed range (never a deserialiser's message).
 pub fn check_settings(s: &Settings) -> Result<(), UpdateError> {
     let positive = |label: &str, v: Option<f64>| match v {
-        Some(x) if !(x.is_finite() && x > 0.0) => Err(out_of_range(label, "a positive number", x)),
+        Some(x) if !request::positive(x) => Err(out_of_range(label, "a positive number", x)),
         _ => Ok(()),
     };
     positive("Known K", s.fixed_k)?;
@@ -700,7 +700,7 @@ fn analyse_series(
     let series = study.series().clone();
     let values = study.values().to_vec();
     let entries = study.comparison();
-    let (_, t_max) = range(&series.times);
+    let (_, t_max) = span(&series.times);
     let horizon_end = study.forecast_end().map_err(update_error)?.unwrap_or(t_max);
     let kind = series.time_kind;
     // Derived times (t0, milestones and their intervals) fall between the
@@ -990,13 +990,6 @@ pub fn bootstrap_view(a: &Analysis, b: &Bootstrap) -> BootstrapView {
     }
 }
 
-fn range(t: &[f64]) -> (f64, f64) {
-    t.iter()
-        .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), &v| {
-            (lo.min(v), hi.max(v))
-        })
-}
-
 impl Analysis {
     /// `plateau fit --json`'s report for this fit.
     pub fn report_json(&self) -> String {
@@ -1036,7 +1029,7 @@ impl Analysis {
                 cell(b.map(|b| b.1)),
             );
         }
-        let (_, t_max) = range(&self.series.times);
+        let (_, t_max) = span(&self.series.times);
         let step = typical_step(&self.series.times);
         let mut k = 1.0;
         while t_max + k * step <= self.horizon_end + step * 1e-9 {

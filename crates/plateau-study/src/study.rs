@@ -498,3 +498,95 @@ pub fn csv_field(s: &str) -> String {
         s.to_string()
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use plateau_core::{parse_series, Model, ParseOptions};
+
+    /// Exact logistic K = 100, r = 0.5, t0 = 10 at t = 0..29 (analytic).
+    fn exact() -> Series {
+        let text: String = (0..30)
+            .map(|i| {
+                let t = f64::from(i);
+                format!("{t},{}\n", 100.0 / (1.0 + (-0.5 * (t - 10.0)).exp()))
+            })
+            .collect();
+        parse_series(&text, &ParseOptions::default()).unwrap()
+    }
+
+    #[test]
+    fn the_fit_is_made_once_and_is_the_cores() {
+        let s = exact();
+        let study = Study::new(s.clone(), Request::new(Model::Logistic)).unwrap();
+        let direct = fit_xy(&s.times, &s.values, Model::Logistic, &FitOptions::default()).unwrap();
+        let a = study.fitted().unwrap();
+        assert_eq!(a.values(), direct.values());
+        // The same cell answers again: the same object, not a refit.
+        assert!(std::ptr::eq(a, study.fitted().unwrap()));
+        let k = a.param("K").unwrap().estimate;
+        assert!((k - 100.0).abs() < 1e-6, "{k}");
+        // The Fisher–Pry K falls back to the fitted K unless one is entered.
+        assert_eq!(study.fisher_pry_k(), Some(k));
+    }
+
+    #[test]
+    fn per_period_counts_are_summed_and_declines_warned_once() {
+        let text = "t,y\n1,5\n2,3\n3,4\n4,1\n5,2\n";
+        let s = parse_series(text, &ParseOptions::default()).unwrap();
+        let mut request = Request::new(Model::Logistic);
+        request.per_period = true;
+        let study = Study::new(s.clone(), request).unwrap();
+        // Running totals of 5, 3, 4, 1, 2.
+        assert_eq!(study.values(), &[5.0, 8.0, 12.0, 13.0, 15.0]);
+        assert_eq!(study.fitted_value_name(), "y (cumulative)");
+        let mut request = Request::new(Model::Logistic);
+        request.per_period_hint = " (hint)".into();
+        let study = Study::new(s, request).unwrap();
+        let declines: Vec<_> = study
+            .series()
+            .warnings
+            .iter()
+            .filter(|w| w.code == WarningCode::ValuesDecline)
+            .collect();
+        assert_eq!(declines.len(), 1);
+        assert!(declines[0].message.ends_with(" (hint)"));
+        // A study of that series again does not warn twice.
+        let again = Study::new(study.series().clone(), Request::new(Model::Logistic)).unwrap();
+        let n = again
+            .series()
+            .warnings
+            .iter()
+            .filter(|w| w.code == WarningCode::ValuesDecline)
+            .count();
+        assert_eq!(n, 1);
+    }
+
+    #[test]
+    fn the_forecast_ends_after_the_data() {
+        let mut request = Request::new(Model::Logistic);
+        request.horizon = Some(Horizon::Periods(4.0));
+        let study = Study::new(exact(), request.clone()).unwrap();
+        // Last time 29, spacing 1: four periods end at 33.
+        assert_eq!(study.forecast_end().unwrap(), Some(33.0));
+        request.horizon = Some(Horizon::Until("20".into()));
+        let study = Study::new(exact(), request).unwrap();
+        let e = study.outlook().unwrap_err().to_string();
+        assert!(
+            e.contains("--until 20: expected a time after the last observation (29)"),
+            "{e}"
+        );
+    }
+
+    #[test]
+    fn time_parameters_come_from_the_models_roles() {
+        assert!(is_time_param(Model::Logistic, "t0"));
+        assert!(is_time_param(Model::Bass, "tau"));
+        assert!(is_time_param(Model::Bilogistic, "t02"));
+        assert!(!is_time_param(Model::Logistic, "K"));
+        assert!(!is_time_param(Model::Exponential, "t0"));
+        assert_eq!(csv_field("a,b"), "\"a,b\"");
+        assert_eq!(csv_field("say \"hi\""), "\"say \"\"hi\"\"\"");
+        assert_eq!(typical_step(&[3.0, 1.0, 2.0, 5.0]), 1.0);
+    }
+}

@@ -1399,3 +1399,49 @@ fn bootstrap_limits_are_the_pages() {
     assert_eq!(out.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&out.stderr).contains("from 0 to 9007199254740991"));
 }
+
+/// `batch` studies each series as `fit` does: a series whose values fall
+/// gets the same `values_decline` warning (with the --per-period hint).
+#[test]
+fn batch_warns_of_declining_values_as_fit_does() {
+    // Rises to 95, then stays at 60 (63% of the peak) for four rows.
+    let rows: Vec<(u32, f64)> = [
+        5.0, 10.0, 20.0, 40.0, 60.0, 80.0, 90.0, 95.0, 60.0, 60.0, 60.0, 60.0,
+    ]
+    .into_iter()
+    .zip(1..)
+    .map(|(y, t)| (t, y))
+    .collect();
+    let single: String = std::iter::once("t,y\n".to_string())
+        .chain(rows.iter().map(|(t, y)| format!("{t},{y}\n")))
+        .collect();
+    let long: String = std::iter::once("series,t,y\n".to_string())
+        .chain(rows.iter().map(|(t, y)| format!("a,{t},{y}\n")))
+        .collect();
+    let codes = |v: &Value| -> Vec<String> {
+        v["warnings"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|w| w["code"].as_str().unwrap().to_string())
+            .collect()
+    };
+    let out = plateau(&["fit", "-", "--json"], Some(&single));
+    let fit_codes = codes(&serde_json::from_slice(&out.stdout).unwrap());
+    assert!(
+        fit_codes.iter().any(|c| c == "values_decline"),
+        "{fit_codes:?}"
+    );
+    let out = plateau(&["batch", "-", "--json"], Some(&long));
+    let line: Value = serde_json::from_slice(&out.stdout).unwrap();
+    let batch_codes = codes(&line);
+    assert!(
+        batch_codes.iter().any(|c| c == "values_decline"),
+        "{batch_codes:?}"
+    );
+    assert!(line["warnings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .any(|w| w["message"].as_str().unwrap().ends_with("(--per-period)")));
+}

@@ -17,7 +17,7 @@ use plateau_core::fit::{fit_xy, Fit, FitError, FitOptions, IntervalMethod};
 use plateau_core::forecast::{self, ForecastPoint};
 use plateau_core::milestones::{self, Assessment};
 use plateau_core::model::Role;
-use plateau_core::WarningCode;
+use plateau_core::{Model, WarningCode};
 use std::cell::OnceCell;
 
 /// Why a study could not answer: bad input (exit 2 on the CLI) or a fit
@@ -214,6 +214,32 @@ impl Study {
     pub fn symmetry_test(&self) -> Option<&SymmetryTest> {
         self.symmetry
             .get_or_init(|| {
+                // The comparison's fits are the same fits when it uses
+                // asymptotic intervals and nothing but a known level is
+                // held (the page's case): read them instead of refitting.
+                let r = &self.request;
+                let same_fits = r.comparison_intervals == IntervalMethod::Asymptotic
+                    && r.fit.start.is_empty()
+                    && r.fit.fixed.len() <= 1
+                    && r.fit.fixed.iter().all(|(n, _)| n == "K")
+                    && [Model::Logistic, Model::Richards, Model::Gompertz]
+                        .iter()
+                        .all(|m| r.models.contains(m));
+                if same_fits {
+                    let fitted = |m: Model| {
+                        self.comparison()
+                            .iter()
+                            .find(|e| e.model == m)
+                            .and_then(|e| e.result.as_ref().ok())
+                    };
+                    return fitted(Model::Logistic).map(|l| {
+                        diagnostics::symmetry_test_of(
+                            l,
+                            fitted(Model::Richards),
+                            fitted(Model::Gompertz),
+                        )
+                    });
+                }
                 let opts = FitOptions {
                     intervals: IntervalMethod::Asymptotic,
                     ..self.request.fit.clone()
@@ -476,7 +502,7 @@ pub fn derived_time_text(kind: TimeKind) -> impl Fn(f64) -> String {
 /// Whether the parameter `name` of `model` is a time on the axis (t0, tau,
 /// t01, t02), to be shown as a date on calendar axes; read from the
 /// model's roles, not from the name.
-pub fn is_time_param(model: plateau_core::Model, name: &str) -> bool {
+pub fn is_time_param(model: Model, name: &str) -> bool {
     model
         .param_index(name)
         .is_some_and(|j| model.roles().get(j) == Some(&Role::Time))
@@ -502,7 +528,7 @@ pub fn csv_field(s: &str) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use plateau_core::{parse_series, Model, ParseOptions};
+    use plateau_core::{parse_series, ParseOptions};
 
     /// Exact logistic K = 100, r = 0.5, t0 = 10 at t = 0..29 (analytic).
     fn exact() -> Series {

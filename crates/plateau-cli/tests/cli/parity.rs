@@ -164,3 +164,37 @@ fn the_bootstrap_is_the_same_on_both_faces() {
         assert_eq!(boot, c["bootstrap95"].is_array(), "{}", p.label);
     }
 }
+
+/// With a known K the page reads the symmetry test off its comparison's
+/// fits and `plateau diagnose --fix K=…` fits the three models itself: the
+/// same fits, the same test.
+#[test]
+fn a_known_k_gives_the_same_checks_on_both_faces() {
+    let text = std::fs::read_to_string(demo(FILE)).unwrap();
+    let known = Settings {
+        model: "logistic".into(),
+        fixed_k: Some(13000.0),
+        ..settings()
+    };
+    let a = analyse(&text, &known).unwrap();
+    let page_diag: Value = serde_json::from_str(&a.diagnose_json()).unwrap();
+    let file = demo(FILE);
+    let cli_diag = json(&plateau(
+        &[
+            "diagnose",
+            &file,
+            "--errors",
+            "relative",
+            "--fix",
+            "K=13000",
+            "--fisher-pry-k",
+            "13000",
+            "--json",
+        ],
+        None,
+    ));
+    assert!(page_diag["symmetry_test"].is_object());
+    for key in ["residuals", "symmetry_test", "fisher_pry", "verdicts"] {
+        assert_eq!(page_diag[key], cli_diag[key], "{key}");
+    }
+}

@@ -945,8 +945,12 @@ fn trim4(x: f64) -> String {
 /// Starts a bootstrap of `a`'s fit with `a`'s settings (the study's
 /// bootstrap, stepped by the page in slices).
 pub fn start_bootstrap(a: &Analysis) -> Result<Bootstrap, UpdateError> {
-    request::resampling(&a.settings.resampling)
-        .map_err(|e| setting_error(format!("bootstrap: {e} resampling")))?;
+    request::resampling(&a.settings.resampling).map_err(|_| {
+        setting_error(format!(
+            "bootstrap: expected residual or parametric resampling, found {:?}",
+            a.settings.resampling
+        ))
+    })?;
     bootstrap_numbers(&a.settings)?;
     a.study
         .start_bootstrap()

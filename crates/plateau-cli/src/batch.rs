@@ -29,14 +29,15 @@
 //! why, and how many series the printed results cover.
 
 use plateau_core::data::{
-    per_period_totals, sniff_delimiter, split_line, LongGrouper, NamedSeries, PendingSeries,
-    SeriesFailure,
+    sniff_delimiter, split_line, LongGrouper, NamedSeries, PendingSeries, SeriesFailure,
 };
-use plateau_core::fit::{fit, FitOptions};
-use plateau_core::report::{FitReport, CAUTION};
-use plateau_core::summary::{csv_row, SeriesSummary, CSV_HEADER};
+use plateau_core::fit::FitOptions;
 use plateau_core::Model;
 use plateau_study::numbers::Precision;
+use plateau_study::report::{FitReport, CAUTION};
+use plateau_study::request::Request;
+use plateau_study::study::{Study, StudyError};
+use plateau_study::summary::{csv_row, SeriesSummary, CSV_HEADER};
 use rayon::prelude::*;
 use serde::Serialize;
 use std::fmt;
@@ -134,37 +135,50 @@ pub fn fit_one(item: Result<NamedSeries, SeriesFailure>, opts: &Options) -> Outc
             ),
             fit: None,
         },
-        Ok(mut ns) => {
-            if opts.per_period {
-                match per_period_totals(&ns.series) {
-                    Ok(totals) => ns.series.values = totals,
-                    Err(error) => {
-                        let first_line = ns.series.lines.first().copied().unwrap_or(0);
-                        let name = ns.name;
-                        return fit_one(
-                            Err(SeriesFailure {
-                                name,
-                                first_line,
-                                error,
-                            }),
-                            opts,
-                        );
-                    }
+        Ok(ns) => {
+            // The same study as `plateau fit` (per-period sums, the
+            // "values decline" warning), one per series.
+            let request = Request {
+                fit: opts.fit.clone(),
+                per_period: opts.per_period,
+                per_period_hint: " (--per-period)".into(),
+                models: Vec::new(),
+                ..Request::new(opts.model)
+            };
+            let first_line = ns.series.lines.first().copied();
+            let study = match Study::new(ns.series, request) {
+                Ok(study) => study,
+                Err(e) => {
+                    let line = match &e {
+                        StudyError::Input { line, .. } => *line,
+                        StudyError::Fit(_) => None,
+                    };
+                    return Outcome {
+                        summary: SeriesSummary::from_error(
+                            &ns.name,
+                            model,
+                            Some(first_line.unwrap_or(0)),
+                            line,
+                            &e.to_string(),
+                            &[],
+                        ),
+                        fit: None,
+                    };
                 }
-            }
-            match fit(&ns.series, opts.model, &opts.fit) {
+            };
+            match study.fitted() {
                 Ok(f) => Outcome {
-                    summary: SeriesSummary::from_fit(&ns.name, &ns.series, &f),
-                    fit: Some(FitReport::new(&f, &ns.series.warnings)),
+                    summary: SeriesSummary::from_fit(&ns.name, study.series(), f),
+                    fit: Some(FitReport::new(f, &study.series().warnings)),
                 },
                 Err(e) => Outcome {
                     summary: SeriesSummary::from_error(
                         &ns.name,
                         model,
-                        ns.series.lines.first().copied(),
+                        first_line,
                         None,
-                        &format!("cannot fit the {model} model: {e}"),
-                        &ns.series.warnings,
+                        &e.to_string(),
+                        &study.series().warnings,
                     ),
                     fit: None,
                 },
@@ -451,7 +465,7 @@ fn table_header() -> String {
 
 /// `v [lo, hi]`, the interval at the estimate's digits (see
 /// `plateau_study::numbers`); `time` for t0, a time on the data's axis.
-fn with_interval(e: Option<plateau_core::summary::Estimate>, time: bool) -> String {
+fn with_interval(e: Option<plateau_study::summary::Estimate>, time: bool) -> String {
     let Some(e) = e else {
         return "-".into();
     };

@@ -168,6 +168,8 @@ pub struct ForecastArgs {
     /// Start a parameter from this value instead of the self-start (repeatable).
     #[arg(long, value_name = "NAME=VALUE")]
     pub start: Vec<String>,
+    #[command(flatten)]
+    pub errors: ErrorArgs,
     /// Also give bootstrap intervals, from B replicates (default 1000).
     #[arg(long, value_name = "B", num_args = 0..=1, default_missing_value = "1000")]
     pub bootstrap: Option<usize>,
@@ -201,6 +203,8 @@ pub struct DriftArgs {
     /// Hold a parameter at a known value (repeatable).
     #[arg(long, value_name = "NAME=VALUE")]
     pub fix: Vec<String>,
+    #[command(flatten)]
+    pub errors: ErrorArgs,
     /// Also write the drift chart (K and its interval against the cutoff) as SVG to FILE.
     #[arg(long, value_name = "FILE")]
     pub svg: Option<String>,
@@ -226,6 +230,8 @@ pub struct BacktestArgs {
     /// K (or m) is the known saturation level, held as K or as the Bass model's m.
     #[arg(long, value_name = "NAME=VALUE")]
     pub fix: Vec<String>,
+    #[command(flatten)]
+    pub errors: ErrorArgs,
     /// Print the JSON report instead of a table.
     #[arg(long)]
     pub json: bool,

@@ -4,7 +4,7 @@
 //! Flags are parsed in two stages: [`cli::Cli`] holds the raw flags as clap
 //! read them, [`settings`] turns them into validated core options. Output is
 //! either a table for people ([`table`]) or the JSON report shared with the
-//! page (`plateau_core::report`).
+//! page (`plateau_study::report`).
 
 mod cli;
 mod outlook;
@@ -15,14 +15,8 @@ use anyhow::{Context, Result};
 use clap::Parser;
 use cli::{Cli, Command};
 use plateau_cli::batch;
-use plateau_core::bootstrap::Bootstrap;
-use plateau_core::compare::compare;
-use plateau_core::data::TimeKind;
-use plateau_core::diagnostics;
-use plateau_core::forecast_report::{BacktestReport, DriftReport, ForecastReport};
-use plateau_core::report::{CompareReport, DiagnoseReport, FitReport};
-use plateau_core::{drift, forecast, milestones};
-use plateau_core::{fit, parse_series, Model, Series};
+use plateau_core::{parse_series, Model};
+use plateau_study::study::{span, Study, StudyError};
 use std::io::Read;
 use std::process::ExitCode;
 
@@ -53,25 +47,17 @@ fn run(cli: Cli) -> Result<(), Failure> {
     match cli.command {
         Command::Fit(args) => {
             let settings = settings::fit(&args).map_err(Failure::Input)?;
-            let (name, series) = read_series(&args.input, &settings.parse)?;
-            let result = fit(&series, settings.model, &settings.fit)
-                .with_context(|| {
-                    format!("{}: cannot fit the {} model", name, settings.model.name())
-                })
-                .map_err(Failure::Fit)?;
+            let (name, study) = study(&args.input, settings)?;
+            let result = study.fitted().map_err(|e| fail(&name, e))?;
+            let series = study.fitted_series();
             if let Some(path) = &args.svg {
                 // The chart's forecast runs a quarter of the data's span past the last point.
-                let (first, last) = series
-                    .times
-                    .iter()
-                    .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), t| {
-                        (a.min(*t), b.max(*t))
-                    });
+                let (first, last) = span(&series.times);
                 let kind = series.time_kind;
                 let input = plateau_chart::ChartInput {
                     times: &series.times,
                     values: &series.values,
-                    fit: &result,
+                    fit: result,
                     horizon: Some(last + 0.25 * (last - first)),
                     format_time: &|t| kind.format(t),
                     time_caption: &series.time_name,
@@ -86,21 +72,16 @@ fn run(cli: Cli) -> Result<(), Failure> {
                     .map_err(Failure::Input)?;
             }
             if args.json {
-                print_json(&FitReport::new(&result, &series.warnings))?;
+                print_json(&study.fit_report().map_err(|e| fail(&name, e))?)?;
             } else {
-                emit(&table::fit(&name, &series, &result))?;
+                emit(&table::fit(&name, &series, result))?;
             }
             Ok(())
         }
         Command::Compare(args) => {
             let settings = settings::compare(&args).map_err(Failure::Input)?;
-            let (name, series) = read_series(&args.input, &settings.parse)?;
-            let entries = compare(
-                &series.times,
-                &series.values,
-                &settings.models,
-                &settings.fit,
-            );
+            let (name, study) = study(&args.input, settings)?;
+            let entries = study.comparison();
             if entries.iter().all(|e| e.result.is_err()) {
                 let reasons: Vec<String> = entries
                     .iter()
@@ -117,36 +98,25 @@ fn run(cli: Cli) -> Result<(), Failure> {
                     reasons.join("\n  ")
                 )));
             }
-            let report =
-                CompareReport::with_data(&entries, &series.warnings, &series.times, &series.values);
+            let report = study.compare_report();
             if args.json {
                 print_json(&report)?;
             } else {
-                emit(&table::compare(&name, &series, &entries, &report))?;
+                emit(&table::compare(&name, study.series(), entries, &report))?;
             }
             Ok(())
         }
         Command::Diagnose(args) => {
             let settings = settings::diagnose(&args).map_err(Failure::Input)?;
-            let (name, series) = read_series(&args.input, &settings.parse)?;
-            let (t, y) = (&series.times, &series.values);
-            let result = fit(&series, settings.model, &settings.fit)
-                .with_context(|| {
-                    format!("{}: cannot fit the {} model", name, settings.model.name())
-                })
-                .map_err(Failure::Fit)?;
-            let residuals = diagnostics::residual_diagnostics(&result, t, y);
-            let symmetry = diagnostics::symmetry_test(t, y, &settings.fit).ok();
-            let k = settings
-                .fisher_pry_k
-                .or_else(|| result.param("K").map(|p| p.estimate));
-            let fisher_pry = k.and_then(|k| diagnostics::fisher_pry_of(&result, t, y, k));
+            let (name, study) = study(&args.input, settings)?;
+            let result = study.fitted().map_err(|e| fail(&name, e))?;
+            let series = study.fitted_series();
             let kind = series.time_kind;
             let format_time = |v: f64| kind.format(v);
             let input = plateau_chart::ChartInput {
-                times: t,
-                values: y,
-                fit: &result,
+                times: &series.times,
+                values: &series.values,
+                fit: result,
                 horizon: None,
                 format_time: &format_time,
                 time_caption: &series.time_name,
@@ -166,14 +136,14 @@ fn run(cli: Cli) -> Result<(), Failure> {
                     plateau_chart::render_svg(plateau_chart::ChartKind::Qq, &input, 800, 560),
                 )?;
             }
+            let entered_k = study.request().fisher_pry_k;
             if let Some(path) = &args.fisher_pry_svg {
                 write(
                     path,
-                    plateau_chart::render_fisher_pry_svg(&input, settings.fisher_pry_k, 900, 560),
+                    plateau_chart::render_fisher_pry_svg(&input, entered_k, 900, 560),
                 )?;
             }
-            let report =
-                DiagnoseReport::new(&result, &series.warnings, residuals, symmetry, fisher_pry);
+            let report = study.diagnose_report().map_err(|e| fail(&name, e))?;
             if args.json {
                 print_json(&report)?;
             } else {
@@ -181,96 +151,41 @@ fn run(cli: Cli) -> Result<(), Failure> {
                     &name,
                     &series,
                     &report,
-                    settings.fisher_pry_k.is_some(),
+                    entered_k.is_some(),
                 ))?;
             }
             Ok(())
         }
         Command::Forecast(args) => {
             let settings = settings::forecast(&args).map_err(Failure::Input)?;
-            let (name, series) = read_series(&args.input, &settings.parse)?;
-            let kind = series.time_kind;
-            let until = kind
-                .parse_time(&args.until)
-                .map_err(|e| Failure::Input(anyhow::anyhow!("--until: {e}")))?;
-            let result = fit(&series, settings.model, &settings.fit)
-                .with_context(|| {
-                    format!("{}: cannot fit the {} model", name, settings.model.name())
-                })
-                .map_err(Failure::Fit)?;
-            let (first, last) = span(&series.times);
-            if until <= last {
-                return Err(Failure::Input(anyhow::anyhow!(
-                    "--until {}: expected a time after the last observation ({})",
-                    args.until,
-                    kind.format(last)
-                )));
-            }
-            let boot = match &settings.bootstrap {
-                None => None,
-                Some(opts) => {
-                    let mut b = Bootstrap::new(&result, &series.times, &series.values, opts)
-                        .map_err(|e| Failure::Fit(anyhow::anyhow!("{name}: no bootstrap: {e}")))?;
-                    b.run();
-                    Some(b)
-                }
-            };
-            let step = settings
-                .step
-                .unwrap_or_else(|| forecast::typical_step(&series.times));
-            let future = forecast::grid(last, until, step, MAX_FORECAST_ROWS);
-            let points = forecast::forecast(
-                &result,
-                &series.times,
-                &series.values,
-                &future,
-                boot.as_ref(),
-            );
-            let targets =
-                milestones::standard_targets(settings.model, &settings.shares, &settings.levels);
-            let assessed: Vec<_> = targets
-                .iter()
-                .map(|&t| milestones::assess(&result, t, first, last, boot.as_ref()))
-                .collect();
-            let text = derived_time_text(kind);
-            let report = ForecastReport::new(
-                &result,
-                until,
-                kind.unit(),
-                &points,
-                &assessed,
-                boot.as_ref(),
-                &text,
-                &series.warnings,
-            );
+            let (name, study) = study(&args.input, settings)?;
+            // A --until the axis cannot read is refused before any fit.
+            study.forecast_end().map_err(|e| fail(&name, e))?;
+            study.fitted().map_err(|e| fail(&name, e))?;
+            let report = study.forecast_report().map_err(|e| fail(&name, e))?;
             if args.json {
                 print_json(&report)?;
             } else {
-                emit(&outlook::forecast(&name, &report, boot.as_ref()))?;
+                let boot = study.outlook().ok().and_then(|o| o.bootstrap.as_ref());
+                emit(&outlook::forecast(&name, &report, boot))?;
             }
             Ok(())
         }
         Command::Drift(args) => {
             let settings = settings::drift(&args).map_err(Failure::Input)?;
-            let (name, series) = read_series(&args.input, &settings.parse)?;
-            let rows = drift::drift(&series.times, &series.values, settings.model, &settings.fit);
-            if rows.iter().all(|r| r.result.is_err()) {
-                return Err(Failure::Fit(anyhow::anyhow!(
-                    "{name}: the {} model could not be fitted to any prefix of the data",
-                    settings.model.name()
-                )));
-            }
-            let kind = series.time_kind;
-            let text = move |t: f64| kind.format(t);
-            let report = DriftReport::new(settings.model, &rows, &text, &series.warnings);
+            let (name, study) = study(&args.input, settings)?;
+            let report = study.drift_report().map_err(|e| fail(&name, e))?;
             if let Some(path) = &args.svg {
+                let series = study.series();
+                let kind = series.time_kind;
+                let text = move |t: f64| kind.format(t);
                 let svg = plateau_chart::render_drift_svg(
-                    &rows,
+                    study.drift(),
                     &plateau_chart::DriftInput {
                         format_time: &text,
                         time_caption: &series.time_name,
-                        value_caption: &series.value_name,
-                        model: settings.model,
+                        value_caption: &study.fitted_value_name(),
+                        model: study.request().model,
                     },
                     900,
                     520,
@@ -291,28 +206,12 @@ fn run(cli: Cli) -> Result<(), Failure> {
         }
         Command::Backtest(args) => {
             let settings = settings::backtest(&args).map_err(Failure::Input)?;
-            let (name, series) = read_series(&args.input, &settings.parse)?;
-            let bt = drift::BacktestOptions {
-                horizon: args.horizon,
-                min_train: args.min_train,
-            };
-            if series.times.len() < 4 {
-                return Err(Failure::Input(anyhow::anyhow!(
-                    "{name}: a backtest needs more points than {}",
-                    series.times.len()
-                )));
-            }
-            let rows = drift::backtest(
-                &series.times,
-                &series.values,
-                &settings.models,
-                &settings.fit,
-                &bt,
-            );
+            let (name, study) = study(&args.input, settings)?;
+            let report = study.backtest_report().map_err(|e| fail(&name, e))?;
             if args.json {
-                print_json(&BacktestReport::new(args.horizon, &rows, &series.warnings))?;
+                print_json(&report)?;
             } else {
-                emit(&outlook::backtest(&name, args.horizon, &rows))?;
+                emit(&outlook::backtest(&name, args.horizon, study.backtest()))?;
             }
             Ok(())
         }
@@ -329,7 +228,7 @@ fn run(cli: Cli) -> Result<(), Failure> {
             };
             let name = if file == "-" { "<stdin>" } else { file };
             if opts.format != batch::Format::Table {
-                eprintln!("plateau: {}", plateau_core::report::CAUTION);
+                eprintln!("plateau: {}", plateau_study::report::CAUTION);
             }
             let stdout = std::io::stdout();
             let mut out = std::io::BufWriter::new(stdout.lock());
@@ -378,12 +277,9 @@ fn run(cli: Cli) -> Result<(), Failure> {
     }
 }
 
-/// Reads the input file (`-` for standard input) and parses it, summing
-/// per-period counts when asked; the name is used in messages.
-fn read_series(
-    input: &cli::InputArgs,
-    opts: &plateau_core::ParseOptions,
-) -> Result<(String, Series), Failure> {
+/// Reads the input file (`-` for standard input), parses it and opens
+/// the study of it under the request; the name is used in messages.
+fn study(input: &cli::InputArgs, settings: settings::Settings) -> Result<(String, Study), Failure> {
     let file = input.file.as_str();
     let (name, bytes) = if file == "-" {
         let mut bytes = Vec::new();
@@ -401,17 +297,22 @@ fn read_series(
     // UTF-8, or UTF-16 decoded; anything else is named (core's decode_text).
     let text = plateau_core::data::decode_text(bytes)
         .map_err(|e| Failure::Input(anyhow::anyhow!("{name}: {e}")))?;
-    let mut series =
-        parse_series(&text, opts).map_err(|e| Failure::Input(anyhow::anyhow!("{name}: {e}")))?;
-    if input.per_period {
-        series.values = plateau_core::data::per_period_totals(&series)
-            .map_err(|e| Failure::Input(anyhow::anyhow!("{name}: {e}")))?;
-        series.value_name = format!("{} (cumulative)", series.value_name);
-    } else if let Some(mut w) = plateau_core::data::decline_warning(&series) {
-        w.message.push_str(" (--per-period)");
-        series.warnings.push(w);
+    let series = parse_series(&text, &settings.parse)
+        .map_err(|e| Failure::Input(anyhow::anyhow!("{name}: {e}")))?;
+    let study = Study::new(series, settings.request).map_err(|e| fail(&name, e))?;
+    Ok((name, study))
+}
+
+/// A study's error as the exit status says it: bad input (a flag's own
+/// message stands alone, others name the file) or a fit that failed.
+fn fail(name: &str, e: StudyError) -> Failure {
+    match e {
+        StudyError::Input { message, .. } if message.starts_with("--") => {
+            Failure::Input(anyhow::anyhow!("{message}"))
+        }
+        StudyError::Input { message, .. } => Failure::Input(anyhow::anyhow!("{name}: {message}")),
+        StudyError::Fit(message) => Failure::Fit(anyhow::anyhow!("{name}: {message}")),
     }
-    Ok((name, series))
 }
 
 /// Writes `value` as pretty JSON to standard output, serialised straight
@@ -443,25 +344,5 @@ fn emit(text: &str) -> Result<(), Failure> {
             anyhow::anyhow!("cannot write the results: {e}"),
         )),
         _ => Ok(()),
-    }
-}
-
-/// Forecast rows past the data at most (the grid step widens beyond).
-const MAX_FORECAST_ROWS: usize = 500;
-
-/// First and last time.
-fn span(t: &[f64]) -> (f64, f64) {
-    t.iter()
-        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), v| {
-            (a.min(*v), b.max(*v))
-        })
-}
-
-/// Derived times (forecast rows, milestones) as text: month and quarter
-/// axes are shown to the day, since derived times fall between periods.
-fn derived_time_text(kind: TimeKind) -> impl Fn(f64) -> String {
-    move |t| match kind {
-        TimeKind::Month | TimeKind::Quarter => TimeKind::Date.format(t),
-        _ => kind.format(t),
     }
 }

@@ -3,9 +3,9 @@
 
 use plateau_core::bootstrap::Bootstrap;
 use plateau_core::drift::ModelBacktest;
-use plateau_core::forecast_report::{DriftReport, ForecastReport};
-use plateau_core::report::CAUTION;
+use plateau_study::forecast_report::{DriftReport, ForecastReport};
 use plateau_study::numbers::{number, Precision};
+use plateau_study::report::CAUTION;
 use std::fmt::Write;
 
 /// `lo … hi` at the digits `d` (an estimate's), or `-`.

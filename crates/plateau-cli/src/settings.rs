@@ -1,5 +1,7 @@
-//! Validated settings: the raw flags of [`crate::cli`] turned into core
-//! options, with a message naming the flag when one is wrong.
+//! Validated settings: the raw flags of [`crate::cli`] turned into how the
+//! input is read and one [`Request`] of the study layer, with a message
+//! naming the flag when one is wrong. The limits are the study layer's
+//! (`plateau_study::request`), the same as on the page.
 
 use crate::cli::{
     BacktestArgs, BatchArgs, CompareArgs, DiagnoseArgs, DriftArgs, ErrorArgs, FitArgs,
@@ -7,46 +9,60 @@ use crate::cli::{
 };
 use anyhow::{anyhow, bail, Result};
 use plateau_cli::batch;
-use plateau_core::bootstrap::{BootstrapOptions, Resampling, DEFAULT_SEED};
+use plateau_core::bootstrap::BootstrapOptions;
 use plateau_core::data::ColumnRef;
 use plateau_core::{ErrorModel, FitOptions, IntervalMethod, Model, ParseOptions};
+use plateau_study::held::{self, Assignments, Scope};
+use plateau_study::request::{
+    self, BacktestRequest, Horizon, Request, DEFAULT_SEED, MAX_BACKTEST_HORIZON, MAX_REPLICATES,
+    MAX_SEED,
+};
 
-pub struct FitSettings {
+/// How to read the input, and what to ask of it.
+pub struct Settings {
     pub parse: ParseOptions,
-    pub model: Model,
-    pub fit: FitOptions,
+    pub request: Request,
 }
 
-pub struct CompareSettings {
-    pub parse: ParseOptions,
-    pub models: Vec<Model>,
-    pub fit: FitOptions,
+/// What the "values decline" warning adds on this face.
+const PER_PERIOD_HINT: &str = " (--per-period)";
+
+/// A request for `model` read with `input`'s per-period choice.
+fn request_for(model: Model, input: &InputArgs, fit: FitOptions) -> Request {
+    Request {
+        fit,
+        per_period: input.per_period,
+        per_period_hint: PER_PERIOD_HINT.into(),
+        ..Request::new(model)
+    }
 }
 
-pub fn fit(args: &FitArgs) -> Result<FitSettings> {
+/// The fit options every subcommand with `--errors` shares.
+fn error_options(args: &ErrorArgs, fixed: Assignments, start: Assignments) -> Result<FitOptions> {
+    Ok(FitOptions {
+        fixed,
+        start,
+        error_model: error_model(args)?,
+        increments: args.increments,
+        ..FitOptions::default()
+    })
+}
+
+pub fn fit(args: &FitArgs) -> Result<Settings> {
     let model = model(&args.model)?;
-    let (fixed, start) = held(&args.fix, &args.start, Scope::One(model))?;
-    Ok(FitSettings {
+    let (fixed, start) = fixed_and_started(&args.fix, &args.start, Scope::One(model))?;
+    let fit = FitOptions {
+        intervals: intervals(&args.intervals)?,
+        ..error_options(&args.errors, fixed, start)?
+    };
+    Ok(Settings {
         parse: parse_options(&args.input)?,
-        model,
-        fit: FitOptions {
-            fixed,
-            start,
-            error_model: error_model(&args.errors)?,
-            increments: args.errors.increments,
-            intervals: intervals(&args.intervals)?,
-            ..FitOptions::default()
-        },
+        request: request_for(model, &args.input, fit),
     })
 }
 
 fn error_model(args: &ErrorArgs) -> Result<ErrorModel> {
-    ErrorModel::from_name(&args.errors).ok_or_else(|| {
-        anyhow!(
-            "--errors: expected additive, relative, log or count, found {:?}",
-            args.errors
-        )
-    })
+    request::error_model(&args.errors).map_err(|e| anyhow!("--errors: {e}"))
 }
 
 fn intervals(s: &str) -> Result<IntervalMethod> {
@@ -57,70 +73,45 @@ fn intervals(s: &str) -> Result<IntervalMethod> {
     }
 }
 
-pub fn compare(args: &CompareArgs) -> Result<CompareSettings> {
+pub fn compare(args: &CompareArgs) -> Result<Settings> {
     let models = model_list(args.models.as_deref())?;
-    let (fixed, _) = held(&args.fix, &[], Scope::Several(&models, "compared"))?;
-    Ok(CompareSettings {
+    let (fixed, _) = fixed_and_started(&args.fix, &[], Scope::Several(&models, "compared"))?;
+    let fit = error_options(&args.errors, fixed, Vec::new())?;
+    let mut request = request_for(models[0], &args.input, fit);
+    request.models = models;
+    Ok(Settings {
         parse: parse_options(&args.input)?,
-        models,
-        fit: FitOptions {
-            fixed,
-            error_model: error_model(&args.errors)?,
-            increments: args.errors.increments,
-            ..FitOptions::default()
-        },
+        request,
     })
 }
 
-pub struct DiagnoseSettings {
-    pub parse: ParseOptions,
-    pub model: Model,
-    pub fit: FitOptions,
-    pub fisher_pry_k: Option<f64>,
-}
-
-pub fn diagnose(args: &DiagnoseArgs) -> Result<DiagnoseSettings> {
+pub fn diagnose(args: &DiagnoseArgs) -> Result<Settings> {
     if let Some(k) = args.fisher_pry_k {
-        if !(k.is_finite() && k > 0.0) {
+        if !request::positive(k) {
             bail!("--fisher-pry-k: expected a positive number, found {k}");
         }
     }
     let model = model(&args.model)?;
-    let (fixed, start) = held(&args.fix, &args.start, Scope::One(model))?;
-    Ok(DiagnoseSettings {
+    let (fixed, start) = fixed_and_started(&args.fix, &args.start, Scope::One(model))?;
+    let fit = FitOptions {
+        // The checks read residuals and likelihoods, not intervals.
+        intervals: IntervalMethod::Asymptotic,
+        ..error_options(&args.errors, fixed, start)?
+    };
+    let mut request = request_for(model, &args.input, fit);
+    request.fisher_pry_k = args.fisher_pry_k;
+    Ok(Settings {
         parse: parse_options(&args.input)?,
-        model,
-        fit: FitOptions {
-            fixed,
-            start,
-            error_model: error_model(&args.errors)?,
-            increments: args.errors.increments,
-            // The checks read residuals and likelihoods, not intervals.
-            intervals: IntervalMethod::Asymptotic,
-            ..FitOptions::default()
-        },
-        fisher_pry_k: args.fisher_pry_k,
+        request,
     })
 }
 
-pub struct ForecastSettings {
-    pub parse: ParseOptions,
-    pub model: Model,
-    pub fit: FitOptions,
-    pub bootstrap: Option<BootstrapOptions>,
-    /// Extra milestone shares, 0–1.
-    pub shares: Vec<f64>,
-    pub levels: Vec<f64>,
-    pub step: Option<f64>,
-}
-
-pub fn forecast(args: &ForecastArgs) -> Result<ForecastSettings> {
-    let resampling = Resampling::from_name(&args.resampling).ok_or_else(|| {
-        anyhow!(
-            "--resampling: expected residual or parametric, found {:?}",
-            args.resampling
-        )
-    })?;
+pub fn forecast(args: &ForecastArgs) -> Result<Settings> {
+    let resampling =
+        request::resampling(&args.resampling).map_err(|e| anyhow!("--resampling: {e}"))?;
+    if let Some(s) = args.seed.filter(|&s| s > MAX_SEED) {
+        bail!("--seed {s}: expected a whole number from 0 to {MAX_SEED}");
+    }
     let bootstrap = match args.bootstrap {
         None => {
             if args.seed.is_some() {
@@ -129,7 +120,9 @@ pub fn forecast(args: &ForecastArgs) -> Result<ForecastSettings> {
             None
         }
         Some(0) => bail!("--bootstrap: expected at least 1 replicate"),
-        Some(b) if b > 1_000_000 => bail!("--bootstrap: at most 1000000 replicates"),
+        Some(b) if b > MAX_REPLICATES => {
+            bail!("--bootstrap: at most {MAX_REPLICATES} replicates")
+        }
         Some(b) => Some(BootstrapOptions {
             resampling,
             replicates: b,
@@ -140,7 +133,7 @@ pub fn forecast(args: &ForecastArgs) -> Result<ForecastSettings> {
         .share
         .iter()
         .map(|&s| {
-            if s > 0.0 && s < 100.0 {
+            if request::share_ok(s) {
                 Ok(s / 100.0)
             } else {
                 Err(anyhow!(
@@ -153,43 +146,38 @@ pub fn forecast(args: &ForecastArgs) -> Result<ForecastSettings> {
         bail!("--level {l}: expected a finite number");
     }
     if let Some(s) = args.step {
-        if !(s.is_finite() && s > 0.0) {
+        if !request::positive(s) {
             bail!("--step {s}: expected a positive number");
         }
     }
     let model = model(&args.model)?;
-    let (fixed, start) = held(&args.fix, &args.start, Scope::One(model))?;
-    Ok(ForecastSettings {
+    let (fixed, start) = fixed_and_started(&args.fix, &args.start, Scope::One(model))?;
+    let fit = error_options(&args.errors, fixed, start)?;
+    let mut request = request_for(model, &args.input, fit);
+    request.horizon = Some(Horizon::Until(args.until.clone()));
+    request.step = args.step;
+    request.shares = shares;
+    request.levels = args.level.clone();
+    request.bootstrap = bootstrap;
+    Ok(Settings {
         parse: parse_options(&args.input)?,
-        model,
-        fit: FitOptions {
-            fixed,
-            start,
-            ..FitOptions::default()
-        },
-        bootstrap,
-        shares,
-        levels: args.level.clone(),
-        step: args.step,
+        request,
     })
 }
 
-pub fn drift(args: &DriftArgs) -> Result<FitSettings> {
+pub fn drift(args: &DriftArgs) -> Result<Settings> {
     let model = model(&args.model)?;
-    let (fixed, _) = held(&args.fix, &[], Scope::One(model))?;
-    Ok(FitSettings {
+    let (fixed, _) = fixed_and_started(&args.fix, &[], Scope::One(model))?;
+    let fit = error_options(&args.errors, fixed, Vec::new())?;
+    Ok(Settings {
         parse: parse_options(&args.input)?,
-        model,
-        fit: FitOptions {
-            fixed,
-            ..FitOptions::default()
-        },
+        request: request_for(model, &args.input, fit),
     })
 }
 
 pub fn batch(args: &BatchArgs) -> Result<batch::Options> {
     let model = model(&args.model)?;
-    let (fixed, start) = held(&args.fix, &args.start, Scope::One(model))?;
+    let (fixed, start) = fixed_and_started(&args.fix, &args.start, Scope::One(model))?;
     Ok(batch::Options {
         model,
         fit: FitOptions {
@@ -230,25 +218,36 @@ fn header(s: Option<&str>) -> Result<Option<bool>> {
     })
 }
 
-pub fn backtest(args: &BacktestArgs) -> Result<CompareSettings> {
-    if args.horizon == 0 || args.horizon > 1000 {
-        bail!("--horizon: expected a number of steps from 1 to 1000");
+pub fn backtest(args: &BacktestArgs) -> Result<Settings> {
+    if args.horizon == 0 || args.horizon > MAX_BACKTEST_HORIZON {
+        bail!("--horizon: expected a number of steps from 1 to {MAX_BACKTEST_HORIZON}");
     }
     if args.min_train == Some(0) {
         bail!("--min-train: expected a positive number of points");
     }
     let models = model_list(args.models.as_deref())?;
-    let (fixed, _) = held(&args.fix, &[], Scope::Several(&models, "tested"))?;
-    Ok(CompareSettings {
+    let (fixed, _) = fixed_and_started(&args.fix, &[], Scope::Several(&models, "tested"))?;
+    let fit = error_options(&args.errors, fixed, Vec::new())?;
+    let mut request = request_for(models[0], &args.input, fit);
+    request.models = models;
+    request.backtest = BacktestRequest {
+        horizon: args.horizon,
+        min_train: args.min_train,
+        max_origins: None,
+    };
+    Ok(Settings {
         parse: parse_options(&args.input)?,
-        models,
-        fit: FitOptions {
-            fixed,
-            // The backtest scores point forecasts: no intervals needed.
-            intervals: IntervalMethod::Asymptotic,
-            ..FitOptions::default()
-        },
+        request,
     })
+}
+
+/// `--fix` and `--start`, checked (see [`held::held`]).
+fn fixed_and_started(
+    fix: &[String],
+    start: &[String],
+    scope: Scope<'_>,
+) -> Result<(Assignments, Assignments)> {
+    held::held(fix, start, scope).map_err(|e| anyhow!(e))
 }
 
 /// `--models a,b,…`; every model when absent.
@@ -268,13 +267,7 @@ fn model_list(list: Option<&str>) -> Result<Vec<Model>> {
 }
 
 fn model(name: &str) -> Result<Model> {
-    Model::from_name(name).ok_or_else(|| {
-        let names: Vec<&str> = Model::ALL.iter().map(|m| m.name()).collect();
-        anyhow!(
-            "unknown model {name:?}; expected one of {}",
-            names.join(", ")
-        )
-    })
+    request::model(name).map_err(|e| anyhow!(e))
 }
 
 fn parse_options(input: &InputArgs) -> Result<ParseOptions> {
@@ -305,300 +298,9 @@ fn column(flag: &str, s: &str) -> Result<ColumnRef> {
     }
 }
 
-/// `NAME=VALUE` pairs.
-fn assignments(flag: &str, items: &[String]) -> Result<Vec<(String, f64)>> {
-    items
-        .iter()
-        .map(|item| {
-            let (name, value) = item
-                .split_once('=')
-                .ok_or_else(|| anyhow!("{flag} {item:?}: expected NAME=VALUE, e.g. K=2500000"))?;
-            let v: f64 = value
-                .trim()
-                .parse()
-                .map_err(|_| anyhow!("{flag} {item:?}: expected a number after '='"))?;
-            if !v.is_finite() {
-                bail!("{flag} {item:?}: expected a finite number");
-            }
-            Ok((name.trim().to_string(), v))
-        })
-        .collect()
-}
-
-/// `NAME=VALUE` pairs, in the order given.
-type Assignments = Vec<(String, f64)>;
-
-/// The model or models `--fix` and `--start` apply to.
-#[derive(Clone, Copy)]
-enum Scope<'a> {
-    /// One model is fitted: the names are its parameters.
-    One(Model),
-    /// Several models are fitted under the same settings (`compare`,
-    /// `backtest`; the participle says how, for messages): a name applies
-    /// to every model that has it, and a fixed `K` or `m` is the known
-    /// saturation level, held by each model as its own level parameter
-    /// (see `plateau_core::compare::options_for`).
-    Several(&'a [Model], &'static str),
-}
-
-/// Whether a fixed name stands for the known saturation level when several
-/// models are fitted.
-fn is_level(name: &str) -> bool {
-    matches!(name, "K" | "m")
-}
-
-/// `--fix` and `--start`, parsed and checked against the models they apply
-/// to: every name must be a parameter of the model (of at least one of the
-/// models), each parameter is given at most once per flag, and a parameter
-/// is either held or started, not both. A value outside the parameter's
-/// range (K ≤ 0) is refused here too, naming the flag.
-fn held(fix: &[String], start: &[String], scope: Scope<'_>) -> Result<(Assignments, Assignments)> {
-    let fixed = assignments("--fix", fix)?;
-    let started = assignments("--start", start)?;
-    for (flag, list) in [("--fix", &fixed), ("--start", &started)] {
-        for (i, (name, v)) in list.iter().enumerate() {
-            check_name(flag, name, *v, scope)?;
-            if let Some((_, w)) = list[..i].iter().find(|(n, _)| n == name) {
-                bail!(
-                    "{flag} {name}={w} and {flag} {name}={v}: {name} is given twice; give each \
-                     parameter once"
-                );
-            }
-        }
-    }
-    for (name, v) in &started {
-        let same = |n: &String| {
-            n == name || matches!(scope, Scope::Several(..)) && is_level(n) && is_level(name)
-        };
-        if let Some((f, w)) = fixed.iter().find(|(n, _)| same(n)) {
-            let what = if f == name {
-                format!("{name} is held at {w}")
-            } else {
-                format!(
-                    "{f} = {w} holds the known saturation level, which is {name} in the Bass model"
-                )
-            };
-            bail!(
-                "--fix {f}={w} and --start {name}={v} contradict each other: {what}, so it is \
-                 not estimated and has no starting value; give one of the two"
-            );
-        }
-    }
-    if let Scope::Several(..) = scope {
-        if let Some(((first, v), (other, w))) = plateau_core::compare::level_conflict(&fixed) {
-            bail!(
-                "--fix {first}={v} and --fix {other}={w}: K and m both stand for the known \
-                 saturation level when several models are fitted; give it once"
-            );
-        }
-    }
-    Ok((fixed, started))
-}
-
-/// Refuses a name that no model in `scope` has (suggesting the parameter
-/// that differs only in case: `k` for `K`), and a value outside the
-/// parameter's range.
-fn check_name(flag: &str, name: &str, v: f64, scope: Scope<'_>) -> Result<()> {
-    let models: &[Model] = match &scope {
-        Scope::One(m) => std::slice::from_ref(m),
-        Scope::Several(ms, _) => ms,
-    };
-    let level = flag == "--fix" && matches!(scope, Scope::Several(..)) && is_level(name);
-    // The models that hold this name, with the parameter each holds it as.
-    let holders: Vec<(Model, &str)> = models
-        .iter()
-        .filter_map(|&m| {
-            if level {
-                m.level_param().map(|p| (m, p))
-            } else {
-                m.param_index(name).map(|_| (m, name))
-            }
-        })
-        .collect();
-    if holders.is_empty() {
-        let hint = models
-            .iter()
-            .flat_map(|m| m.param_names())
-            .find(|p| p.eq_ignore_ascii_case(name))
-            .map_or(String::new(), |p| {
-                format!(" (did you mean {p}? names are case-sensitive)")
-            });
-        match scope {
-            Scope::One(m) => bail!(
-                "{flag} {name}={v}: the {} model has no parameter {name:?}{hint}; its parameters \
-                 are {}",
-                m.name(),
-                m.param_names().join(", ")
-            ),
-            Scope::Several(ms, how) => {
-                let by_model: Vec<String> = ms
-                    .iter()
-                    .map(|m| format!("{} {}", m.name(), m.param_names().join(", ")))
-                    .collect();
-                let levels = if flag == "--fix" && ms.iter().any(|m| m.level_param().is_some()) {
-                    " A fixed K or m is the known saturation level, held by every model that \
-                     has one (as K, or the Bass model's m)."
-                } else {
-                    ""
-                };
-                bail!(
-                    "{flag} {name}={v}: none of the models {how} has a parameter {name:?}{hint}. \
-                     Parameters by model: {}.{levels}",
-                    by_model.join("; ")
-                );
-            }
-        }
-    }
-    for (m, p) in holders {
-        let j = m.param_index(p).unwrap_or(0);
-        let domain = m.domains()[j];
-        if !domain.contains(v) {
-            let range = match domain.lower_edge() {
-                Some(0.0) => "positive".to_string(),
-                Some(e) => format!("greater than {e}"),
-                None => "a finite number".to_string(),
-            };
-            bail!(
-                "{flag} {name}={v}: {p} of the {} model must be {range}",
-                m.name()
-            );
-        }
-    }
-    Ok(())
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    fn strings(items: &[&str]) -> Vec<String> {
-        items.iter().map(|s| s.to_string()).collect()
-    }
-
-    const ALL: Scope<'static> = Scope::Several(&Model::ALL, "compared");
-
-    #[test]
-    fn one_known_level_in_a_comparison() {
-        let level = |items: &[&str]| held(&strings(items), &[], ALL);
-        assert!(level(&["K=100", "m=100", "r=0.5"]).is_ok());
-        assert!(level(&["K=100", "K=200"]).is_err());
-        let e = level(&["m=100", "K=200"]).unwrap_err().to_string();
-        assert!(e.contains("m=100") && e.contains("K=200"), "{e}");
-    }
-
-    #[test]
-    fn unknown_names_are_refused_with_the_valid_ones() {
-        let one = |fix: &[&str], start: &[&str], m: Model| {
-            held(&strings(fix), &strings(start), Scope::One(m))
-                .unwrap_err()
-                .to_string()
-        };
-        let e = one(&["k=150"], &[], Model::Logistic);
-        assert!(
-            e.starts_with("--fix k=150: the logistic model has no parameter \"k\""),
-            "{e}"
-        );
-        assert!(
-            e.contains("did you mean K?") && e.contains("K, r, t0"),
-            "{e}"
-        );
-        let e = one(&[], &["NU=0.5"], Model::Richards);
-        assert!(
-            e.starts_with("--start NU=0.5") && e.contains("did you mean nu?"),
-            "{e}"
-        );
-        // A name of another model: no case hint, the model's own names.
-        let e = one(&["nu=2"], &[], Model::Gompertz);
-        assert!(
-            !e.contains("did you mean") && e.ends_with("K, r, t0"),
-            "{e}"
-        );
-
-        let e = held(&strings(&["k=150"]), &[], ALL)
-            .unwrap_err()
-            .to_string();
-        assert!(
-            e.contains("none of the models compared has a parameter \"k\""),
-            "{e}"
-        );
-        assert!(e.contains("did you mean K?"), "{e}");
-        assert!(
-            e.contains("logistic K, r, t0;") && e.contains("bass m, p, q, tau;"),
-            "{e}"
-        );
-        assert!(e.contains("known saturation level"), "{e}");
-        // Only the models in the list count.
-        let few = Scope::Several(&[Model::Logistic, Model::Gompertz], "tested");
-        let e = held(&strings(&["nu=2"]), &[], few).unwrap_err().to_string();
-        assert!(e.contains("none of the models tested"), "{e}");
-        assert!(held(&strings(&["nu=2"]), &[], ALL).is_ok());
-        // A level where no model has one.
-        let exp = Scope::Several(&[Model::Exponential], "compared");
-        assert!(held(&strings(&["K=2"]), &[], exp).is_err());
-        // K stands for the level, so the Bass model alone accepts it.
-        let bass = Scope::Several(&[Model::Bass], "compared");
-        assert!(held(&strings(&["K=2"]), &[], bass).is_ok());
-    }
-
-    #[test]
-    fn repeats_and_contradictions_are_refused() {
-        let one = Scope::One(Model::Logistic);
-        let e = held(&strings(&["K=100", "K=200"]), &[], one)
-            .unwrap_err()
-            .to_string();
-        assert!(
-            e.contains("K=100") && e.contains("K=200") && e.contains("twice"),
-            "{e}"
-        );
-        assert!(held(&strings(&["K=100", "K=100"]), &[], one).is_err());
-        assert!(held(&[], &strings(&["r=1", "r=2"]), one).is_err());
-        let e = held(&strings(&["K=100"]), &strings(&["K=200"]), one)
-            .unwrap_err()
-            .to_string();
-        assert!(
-            e.contains("--fix K=100 and --start K=200 contradict"),
-            "{e}"
-        );
-        assert!(held(&strings(&["K=100"]), &strings(&["r=0.5"]), one).is_ok());
-        let e = held(&strings(&["K=100"]), &strings(&["m=50"]), ALL)
-            .unwrap_err()
-            .to_string();
-        assert!(e.contains("Bass model"), "{e}");
-    }
-
-    #[test]
-    fn values_outside_a_parameters_range_are_refused() {
-        let one = Scope::One(Model::Logistic);
-        let e = held(&strings(&["K=-5"]), &[], one).unwrap_err().to_string();
-        assert!(
-            e.contains("K of the logistic model must be positive"),
-            "{e}"
-        );
-        assert!(held(&strings(&["t0=-5"]), &[], one).is_ok());
-        let e = held(&strings(&["K=0"]), &[], ALL).unwrap_err().to_string();
-        assert!(e.contains("must be positive"), "{e}");
-        // Richards' nu lives in (-1, inf): -1 is refused as input, -0.5 is not.
-        let rich = Scope::One(Model::Richards);
-        let e = held(&strings(&["nu=-1"]), &[], rich)
-            .unwrap_err()
-            .to_string();
-        assert!(
-            e.contains("nu of the richards model must be greater than -1"),
-            "{e}"
-        );
-        assert!(held(&strings(&["nu=-0.5"]), &[], rich).is_ok());
-    }
-
-    #[test]
-    fn assignments_parse_and_reject() {
-        assert_eq!(
-            assignments("--fix", &["K=2.5e6".into()]).unwrap(),
-            vec![("K".to_string(), 2.5e6)]
-        );
-        assert!(assignments("--fix", &["K".into()]).is_err());
-        assert!(assignments("--fix", &["K=abc".into()]).is_err());
-        assert!(assignments("--fix", &["K=inf".into()]).is_err());
-    }
 
     #[test]
     fn columns_are_one_based() {

@@ -5,21 +5,19 @@
 use plateau_core::compare::Entry;
 use plateau_core::data::TimeKind;
 use plateau_core::diagnostics::Verdict;
-use plateau_core::report::{CompareReport, DiagnoseReport, CAUTION};
 use plateau_core::{Fit, Series};
 use plateau_study::numbers::{self, number, probability, Precision};
+use plateau_study::report::{CompareReport, DiagnoseReport, CAUTION};
+use plateau_study::study::{is_time_param, looks_cumulative};
 use std::fmt::Write;
 
 fn opt(x: Option<f64>) -> String {
     x.map_or("-".into(), number)
 }
 
-/// Parameters that are times on the data's axis.
-const TIME_PARAMS: [&str; 4] = ["t0", "tau", "t01", "t02"];
-
 /// t0 (tau, t01, t02) as a date (or month, quarter) too, when the input had dates.
-fn time_note(kind: TimeKind, name: &str, t: f64) -> String {
-    if kind == TimeKind::Number || !TIME_PARAMS.contains(&name) || !t.is_finite() {
+fn time_note(kind: TimeKind, is_time: bool, t: f64) -> String {
+    if kind == TimeKind::Number || !is_time || !t.is_finite() {
         String::new()
     } else {
         format!("  ({})", kind.format(t))
@@ -66,7 +64,7 @@ pub fn fit(name: &str, series: &Series, f: &Fit) -> String {
         // The estimate and its interval at the digits the standard error
         // supports; times on the data's axis without separators.
         let digits = Precision::of_estimate(p.estimate, p.std_error);
-        let time = TIME_PARAMS.contains(&p.name);
+        let time = is_time_param(f.model, p.name);
         let num = |x: f64| {
             if time {
                 digits.show_time(x)
@@ -110,7 +108,7 @@ pub fn fit(name: &str, series: &Series, f: &Fit) -> String {
             se,
             interval,
             method,
-            time_note(series.time_kind, p.name, p.estimate)
+            time_note(series.time_kind, is_time_param(f.model, p.name), p.estimate)
         );
     }
     for p in f.params.iter().filter(|p| !p.identified) {
@@ -139,7 +137,7 @@ pub fn fit(name: &str, series: &Series, f: &Fit) -> String {
             s,
             "peak time  t* = tau + ln(q/p)/(p+q) = {}{}   95% interval {}",
             Precision::of_interval(pk.time, pk.time_ci95.map(|(a, b)| [a, b])).show_time(pk.time),
-            time_note(series.time_kind, "t0", pk.time),
+            time_note(series.time_kind, true, pk.time),
             ci(pk.time, pk.time_ci95, true)
         );
         let _ = writeln!(
@@ -194,13 +192,6 @@ pub fn fit(name: &str, series: &Series, f: &Fit) -> String {
     let _ = writeln!(s);
     let _ = writeln!(s, "Caution: {CAUTION}");
     s
-}
-
-/// Values that mostly rise (at most a fifth of the steps fall, as noise
-/// makes running totals do near their plateau): possibly running totals.
-fn looks_cumulative(values: &[f64]) -> bool {
-    let falls = values.windows(2).filter(|w| w[1] < w[0]).count();
-    values.len() > 2 && falls * 5 < values.len()
 }
 
 pub fn compare(name: &str, series: &Series, entries: &[Entry], report: &CompareReport) -> String {

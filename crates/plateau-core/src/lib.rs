@@ -27,16 +27,13 @@ pub mod diagnostics;
 pub mod drift;
 pub mod fit;
 pub mod forecast;
-pub mod forecast_report;
 mod linalg;
 mod mathfn;
 pub mod milestones;
 pub mod model;
-pub mod report;
 pub mod solver;
 pub mod start;
 pub mod stats;
-pub mod summary;
 pub mod warning;
 
 pub use data::{parse_series, ParseOptions, Series};

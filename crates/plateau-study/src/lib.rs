@@ -3,4 +3,10 @@
 //! and read every answer, report, sentence and formatted number from here.
 //! The core computes; this crate decides how results are put to people.
 
+pub mod forecast_report;
+pub mod held;
 pub mod numbers;
+pub mod report;
+pub mod request;
+pub mod study;
+pub mod summary;

@@ -284,11 +284,7 @@ pub fn with_overlay<T>(
 pub fn with_input<T>(a: &Analysis, f: impl FnOnce(&ChartInput) -> T) -> T {
     let kind = a.series.time_kind;
     let format_time = move |t: f64| kind.format(t);
-    let value_caption = if a.settings.per_period {
-        format!("{} (cumulative)", a.series.value_name)
-    } else {
-        a.series.value_name.clone()
-    };
+    let value_caption = a.study.fitted_value_name();
     let input = ChartInput {
         times: &a.series.times,
         values: &a.values,

@@ -7,22 +7,27 @@
 //! to the error.
 
 use plateau_core::analysis;
-use plateau_core::bootstrap::{Bootstrap, BootstrapOptions, Resampling, DEFAULT_SEED};
-use plateau_core::compare::{compare, nested_tests, recommend};
+use plateau_core::bootstrap::{Bootstrap, BootstrapOptions, DEFAULT_SEED};
+use plateau_core::compare::{nested_tests, recommend};
 use plateau_core::data::{
-    check_increments, column_count, decline_warning, parse_multi, per_period_totals, ColumnRef,
-    DataError, Layout, MultiOptions, TimeKind,
+    column_count, parse_multi, ColumnRef, DataError, Layout, MultiOptions, TimeKind,
 };
 use plateau_core::diagnostics::{self, Verdict};
-use plateau_core::drift::{drift_sampled, DriftRow};
-use plateau_core::fit::{fit_xy, ErrorModel, Fit, FitOptions, IntervalMethod};
+use plateau_core::drift::DriftRow;
+use plateau_core::fit::{Fit, FitOptions, IntervalMethod};
 use plateau_core::milestones::{self, Assessment, Target};
-use plateau_core::report::{FitReport, CAUTION};
-use plateau_core::summary::{summary_csv, SeriesSummary};
 use plateau_core::{parse_series, Model, ParseOptions, Series, Warning};
 use plateau_study::numbers::{self, Precision};
+use plateau_study::report::CAUTION;
+use plateau_study::request::{self, BacktestRequest, Horizon, Request};
+pub use plateau_study::study::typical_step;
+use plateau_study::study::{
+    csv_field, derived_time_text, is_time_param, looks_cumulative, span, Study, StudyError,
+};
+use plateau_study::summary::{summary_csv, SeriesSummary};
 use serde::{Deserialize, Serialize};
 use std::fmt::Write;
+use std::rc::Rc;
 
 mod shown;
 pub use shown::ViewText;
@@ -138,13 +143,13 @@ fn setting_error(message: impl Into<String>) -> UpdateError {
     }
 }
 
-/// The most bootstrap replicates the page runs.
-pub const MAX_REPLICATES: u32 = 100_000;
+/// The most bootstrap replicates (the study layer's limit, the CLI's too).
+pub const MAX_REPLICATES: u32 = request::MAX_REPLICATES as u32;
 /// The largest seed: the largest whole number a JavaScript number holds
 /// exactly (2^53 − 1), so the seed shown is the seed used.
-pub const MAX_SEED: u64 = (1 << 53) - 1;
+pub const MAX_SEED: u64 = request::MAX_SEED;
 /// The longest forecast, in periods.
-pub const MAX_HORIZON: f64 = 1000.0;
+pub const MAX_HORIZON: f64 = request::MAX_HORIZON_PERIODS;
 
 /// A number as the sentence about it shows it (as JavaScript writes it:
 /// exponent form from 10^21 on).
@@ -182,7 +187,7 @@ fn whole(label: &str, x: f64, lo: u64, hi: u64) -> Result<u64, UpdateError> {
 /// it and the allowed range (never a deserialiser's message).
 pub fn check_settings(s: &Settings) -> Result<(), UpdateError> {
     let positive = |label: &str, v: Option<f64>| match v {
-        Some(x) if !(x.is_finite() && x > 0.0) => Err(out_of_range(label, "a positive number", x)),
+        Some(x) if !request::positive(x) => Err(out_of_range(label, "a positive number", x)),
         _ => Ok(()),
     };
     positive("Known K", s.fixed_k)?;
@@ -237,6 +242,8 @@ pub struct Analysis {
     pub drift: Vec<DriftRow>,
     /// Every series, when the text held several.
     pub multi: Option<Multi>,
+    /// The study behind every number above (and the bootstrap).
+    pub study: Rc<Study>,
 }
 
 /// Several series: each one's data as fitted, its fit (if any) and its summary row.
@@ -283,25 +290,6 @@ pub struct BacktestRow {
     pub mae: Vec<Option<f64>>,
     /// Why the model was not fitted at all (a known K for the bi-logistic).
     pub error: Option<String>,
-}
-
-fn page_backtest(t: &[f64], y: &[f64], opts: &FitOptions) -> Vec<BacktestRow> {
-    let n = t.len();
-    let bt = plateau_core::drift::BacktestOptions {
-        horizon: BACKTEST_HORIZON,
-        min_train: Some(n.div_ceil(2).max(n.saturating_sub(BACKTEST_ORIGINS))),
-    };
-    plateau_core::drift::backtest(t, y, &Model::ALL, opts, &bt)
-        .into_iter()
-        .map(|m| BacktestRow {
-            model: m.model.name(),
-            origins: m.origins,
-            failed: m.failed,
-            mape: m.by_horizon.iter().map(|h| h.mape).collect(),
-            mae: m.by_horizon.iter().map(|h| h.mae).collect(),
-            error: m.error,
-        })
-        .collect()
 }
 
 /// Prefixes the page refits for its drift chart, at most.
@@ -541,33 +529,24 @@ pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError>
 
 /// The fit options the settings ask for, checked against the model.
 fn fit_options(settings: &Settings, model: Model) -> Result<FitOptions, UpdateError> {
-    let error_model = ErrorModel::from_name(&settings.error_model).ok_or_else(|| {
-        setting_error(format!(
-            "error model: expected additive, relative, log or count, found {:?}",
-            settings.error_model
-        ))
-    })?;
+    let error_model = request::error_model(&settings.error_model)
+        .map_err(|e| setting_error(format!("error model: {e}")))?;
     let mut fit_opts = FitOptions {
         error_model,
         increments: settings.increments,
         ..FitOptions::default()
     };
     if let Some(k) = settings.fixed_k {
-        if !(k.is_finite() && k > 0.0) {
+        if !request::positive(k) {
             return Err(setting_error("fixed K: expected a positive number"));
         }
         // The known saturation level: K, or the Bass model's market
         // potential m. The bi-logistic's is K1 + K2, which no one
         // parameter holds.
-        let Some(name) = model.level_param() else {
-            return Err(setting_error(format!(
-                "the {} model has no single saturation level to fix (its level is {}); \
-                 clear the fixed K or choose another model",
-                model.name(),
-                model.saturation_name()
-            )));
-        };
-        fit_opts.fixed.push((name.into(), k));
+        let held = request::known_level(model, k).map_err(|e| {
+            setting_error(format!("{e}; clear the fixed K or choose another model"))
+        })?;
+        fit_opts.fixed.push(held);
     }
     Ok(fit_opts)
 }
@@ -596,7 +575,6 @@ fn analyse_multi(
         }
         u
     })?;
-    let fit_opts = fit_options(settings, model)?;
     let mut multi = Multi {
         layout: set.layout,
         names: Vec::new(),
@@ -605,26 +583,21 @@ fn analyse_multi(
         fits: Vec::new(),
         summary: Vec::new(),
     };
+    let request = request_of(settings, model)?;
     for ns in set.series {
-        let mut series = ns.series;
-        let totals = settings.per_period.then(|| per_period_totals(&series));
-        let values = if let Some(totals) = totals {
-            totals.map_err(|e| {
-                let mut u = UpdateError::from(e);
-                u.message = format!("series \"{}\": {}", ns.name, u.message);
-                u
-            })?
-        } else {
-            if let Some(mut w) = decline_warning(&series) {
-                w.message = format!(
-                    "series \"{}\": {} (\"counts per period\" under Series)",
-                    ns.name, w.message
-                );
-                series.warnings.push(w);
-            }
-            series.values.clone()
-        };
-        let fitted = fit_xy(&series.times, &values, model, &fit_opts);
+        let before = ns.series.warnings.len();
+        let study = Study::new(ns.series, request.clone()).map_err(|e| {
+            let mut u = update_error(e);
+            u.message = format!("series \"{}\": {}", ns.name, u.message);
+            u
+        })?;
+        let mut series = study.series().clone();
+        // Warnings the study added name the series they are about.
+        for w in &mut series.warnings[before..] {
+            w.message = format!("series \"{}\": {}", ns.name, w.message);
+        }
+        let values = study.values().to_vec();
+        let fitted = study.fit().cloned().map_err(Clone::clone);
         let summary = match &fitted {
             Ok(f) => {
                 let mut as_fitted = series.clone();
@@ -676,53 +649,73 @@ fn analyse_multi(
     Ok(analysis)
 }
 
-/// The full analysis of one series.
+/// The request the page's settings make (checked by [`check_settings`]
+/// first): the chosen model with every view the page shows.
+fn request_of(settings: &Settings, model: Model) -> Result<Request, UpdateError> {
+    let fit = fit_options(settings, model)?;
+    let mut request = Request::new(model);
+    request.fit = fit;
+    // The comparison shows criteria and K only: no profiles needed there.
+    request.comparison_intervals = IntervalMethod::Asymptotic;
+    request.per_period = settings.per_period;
+    request.per_period_hint = PER_PERIOD_HINT.into();
+    request.horizon = Some(Horizon::Periods(settings.horizon));
+    let share = settings.share / 100.0;
+    request.shares = (share > 0.0 && share < 1.0)
+        .then_some(share)
+        .into_iter()
+        .collect();
+    request.levels = settings
+        .level
+        .filter(|l| l.is_finite())
+        .into_iter()
+        .collect();
+    request.fisher_pry_k = settings.fisher_pry_k;
+    request.backtest = BacktestRequest {
+        horizon: BACKTEST_HORIZON,
+        min_train: None,
+        max_origins: Some(BACKTEST_ORIGINS),
+    };
+    request.drift_rows = Some(DRIFT_ROWS);
+    if let Ok(resampling) = request::resampling(&settings.resampling) {
+        let (replicates, seed) = bootstrap_numbers(settings)?;
+        request.bootstrap = Some(BootstrapOptions {
+            resampling,
+            replicates,
+            seed,
+        });
+    }
+    Ok(request)
+}
+
+/// What the "values decline" warning adds on the page.
+const PER_PERIOD_HINT: &str = " (\"counts per period\" under Series)";
+
+fn update_error(e: StudyError) -> UpdateError {
+    match e {
+        StudyError::Input { line, message } => UpdateError { line, message },
+        StudyError::Fit(message) => setting_error(message),
+    }
+}
+
+/// The full analysis of one series: settings, request, study, view.
 fn analyse_series(
-    mut series: Series,
+    series: Series,
     settings: &Settings,
     model: Model,
 ) -> Result<Analysis, UpdateError> {
-    if settings.increments {
-        check_increments(&series)?;
-    }
-    let values = if settings.per_period {
-        per_period_totals(&series)?
-    } else {
-        let warned = series
-            .warnings
-            .iter()
-            .any(|w| w.code == plateau_core::WarningCode::ValuesDecline);
-        if let Some(mut w) = decline_warning(&series).filter(|_| !warned) {
-            w.message.push_str(" (\"counts per period\" under Series)");
-            series.warnings.push(w);
-        }
-        series.values.clone()
-    };
-    let fit_opts = fit_options(settings, model)?;
-    if !(settings.horizon.is_finite() && settings.horizon >= 0.0 && settings.horizon <= 1000.0) {
-        return Err(setting_error(
-            "forecast horizon: expected a number of periods from 0 to 1000",
-        ));
-    }
-    let fit = fit_xy(&series.times, &values, model, &fit_opts).map_err(|e| UpdateError {
-        line: None,
-        message: format!("cannot fit the {} model: {e}", model.name()),
-    })?;
-    // The comparison shows criteria and K only: no profiles needed there.
-    let compare_opts = FitOptions {
-        intervals: IntervalMethod::Asymptotic,
-        ..fit_opts.clone()
-    };
-    let entries = compare(&series.times, &values, &Model::ALL, &compare_opts);
-    let (_, t_max) = range(&series.times);
-    let horizon_end = t_max + settings.horizon * typical_step(&series.times);
+    let request = request_of(settings, model)?;
+    let study = Study::new(series, request).map_err(update_error)?;
+    let fit = study.fitted().map_err(update_error)?.clone();
+    let series = study.series().clone();
+    let values = study.values().to_vec();
+    let entries = study.comparison();
+    let (_, t_max) = span(&series.times);
+    let horizon_end = study.forecast_end().map_err(update_error)?.unwrap_or(t_max);
     let kind = series.time_kind;
     // Derived times (t0, milestones and their intervals) fall between the
     // input's months or quarters; a day shows where in the period they are.
-    let fmt_t = |t: f64| match kind {
-        TimeKind::Month | TimeKind::Quarter => TimeKind::Date.format(t),
-        _ => kind.format(t),
-    };
+    let fmt_t = derived_time_text(kind);
 
     let params = fit
         .params
@@ -736,19 +729,33 @@ fn analyse_series(
             ci95_asymptotic: p.ci95.filter(|_| p.identified).map(|(a, b)| [a, b]),
             identified: p.identified,
             fixed: p.fixed,
-            as_time: (["t0", "tau", "t01", "t02"].contains(&p.name) && kind != TimeKind::Number)
+            as_time: (is_time_param(fit.model, p.name) && kind != TimeKind::Number)
                 .then(|| fmt_t(p.estimate)),
         })
         .collect();
 
-    let (t_min, _) = range(&series.times);
-    let milestones = milestone_rows(&fit, settings, t_min, t_max, None, &fmt_t);
+    let milestones = study
+        .milestones(None)
+        .iter()
+        .map(|a| milestone_row(a, &fmt_t))
+        .collect();
 
     let symmetry = analysis::symmetry(&fit, &series.times, &values).map(|s| SymmetryRow {
         rms_ratio: s.rms_ratio,
         meaning: s.meaning,
     });
-    let backtest = page_backtest(&series.times, &values, &fit_opts);
+    let backtest = study
+        .backtest()
+        .iter()
+        .map(|m| BacktestRow {
+            model: m.model.name(),
+            origins: m.origins,
+            failed: m.failed,
+            mape: m.by_horizon.iter().map(|h| h.mape).collect(),
+            mae: m.by_horizon.iter().map(|h| h.mae).collect(),
+            error: m.error.clone(),
+        })
+        .collect();
     let comparison = entries
         .iter()
         .map(|e| CompareRow {
@@ -766,7 +773,10 @@ fn analyse_series(
         })
         .collect();
 
-    let diag = diagnostics::residual_diagnostics(&fit, &series.times, &values);
+    let diag = study
+        .residual_diagnostics()
+        .cloned()
+        .unwrap_or_else(|| diagnostics::residual_diagnostics(&fit, &series.times, &values));
     let diagnostics_row = DiagnosticsRow {
         n: diag.n,
         runs: diag.runs.as_ref().map(|r| r.runs),
@@ -778,32 +788,15 @@ fn analyse_series(
         jarque_bera_p: diag.jarque_bera.map(|j| j.p_value),
         verdicts: diag.verdicts,
     };
-    let fitted_of = |m: Model| {
-        entries
-            .iter()
-            .find(|e| e.model == m)
-            .and_then(|e| e.result.as_ref().ok())
-    };
-    let symmetry_test = fitted_of(Model::Logistic).map(|l| {
-        diagnostics::symmetry_test_of(l, fitted_of(Model::Richards), fitted_of(Model::Gompertz))
+    let symmetry_test = study.symmetry_test().cloned();
+    let fisher_pry = study.fisher_pry().map(|f| FisherPryRow {
+        k: f.k,
+        entered: settings.fisher_pry_k.is_some(),
+        curvature_p: f.curvature_p,
+        verdict: f.verdict.clone(),
     });
-    if let Some(k) = settings.fisher_pry_k {
-        if !(k.is_finite() && k > 0.0) {
-            return Err(setting_error("Fisher–Pry K: expected a positive number"));
-        }
-    }
-    let fisher_pry = settings
-        .fisher_pry_k
-        .or_else(|| fit.param("K").map(|p| p.estimate))
-        .and_then(|k| diagnostics::fisher_pry_of(&fit, &series.times, &values, k))
-        .map(|f| FisherPryRow {
-            k: f.k,
-            entered: settings.fisher_pry_k.is_some(),
-            curvature_p: f.curvature_p,
-            verdict: f.verdict,
-        });
-    let lr_tests = nested_tests(&entries);
-    let recommendation = recommend(&entries, &series.times, &values);
+    let lr_tests = nested_tests(entries);
+    let recommendation = recommend(entries, &series.times, &values);
 
     let view = View {
         model: model.name(),
@@ -836,7 +829,7 @@ fn analyse_series(
                 ),
             }
         }),
-        increments_hint: (!fit.increments && (settings.per_period || never_falls(&values)))
+        increments_hint: (!fit.increments && (settings.per_period || looks_cumulative(&values)))
             .then_some(INCREMENTS_HINT),
         stats: Stats {
             n: fit.n,
@@ -880,7 +873,7 @@ fn analyse_series(
         layout: "single",
         text: ViewText::default(),
     };
-    let drift = drift_sampled(&series.times, &values, model, &fit_opts, DRIFT_ROWS);
+    let drift = study.drift().to_vec();
     Ok(Analysis {
         settings: settings.clone(),
         series,
@@ -890,6 +883,7 @@ fn analyse_series(
         horizon_end,
         multi: None,
         drift,
+        study: Rc::new(study),
     })
 }
 
@@ -899,40 +893,6 @@ pub const INCREMENTS_HINT: &str =
 value, so the residuals are autocorrelated and the intervals above are likely too narrow. \
 \"Fit per-period increments\" fits the changes from period to period instead (King et al., \
 Proc. R. Soc. B 2015).";
-
-/// Values that mostly rise (at most a fifth of the steps fall, as noise
-/// makes running totals do near their plateau): possibly running totals.
-fn never_falls(values: &[f64]) -> bool {
-    let falls = values.windows(2).filter(|w| w[1] < w[0]).count();
-    values.len() > 2 && falls * 5 < values.len()
-}
-
-/// Milestones the page shows: 10%, 50%, 90% of K, the chosen share and
-/// level, and the 10→90 duration, each with its verdict.
-fn milestone_rows(
-    fit: &Fit,
-    settings: &Settings,
-    t_first: f64,
-    t_last: f64,
-    boot: Option<&Bootstrap>,
-    fmt_t: &dyn Fn(f64) -> String,
-) -> Vec<MilestoneRow> {
-    let share = settings.share / 100.0;
-    let shares: Vec<f64> = (share > 0.0 && share < 1.0)
-        .then_some(share)
-        .into_iter()
-        .collect();
-    let levels: Vec<f64> = settings
-        .level
-        .filter(|l| l.is_finite())
-        .into_iter()
-        .collect();
-    milestones::standard_targets(fit.model, &shares, &levels)
-        .into_iter()
-        .map(|t| milestones::assess(fit, t, t_first, t_last, boot))
-        .map(|a| milestone_row(&a, fmt_t))
-        .collect()
-}
 
 fn milestone_row(a: &Assessment, fmt_t: &dyn Fn(f64) -> String) -> MilestoneRow {
     let duration = a.target == Target::Duration1090;
@@ -984,36 +944,25 @@ fn milestone_row(a: &Assessment, fmt_t: &dyn Fn(f64) -> String) -> MilestoneRow 
     }
 }
 
-/// Starts a bootstrap of `a`'s fit with `a`'s settings.
+/// Starts a bootstrap of `a`'s fit with `a`'s settings (the study's
+/// bootstrap, stepped by the page in slices).
 pub fn start_bootstrap(a: &Analysis) -> Result<Bootstrap, UpdateError> {
-    let resampling = Resampling::from_name(&a.settings.resampling).ok_or_else(|| {
+    request::resampling(&a.settings.resampling).map_err(|_| {
         setting_error(format!(
             "bootstrap: expected residual or parametric resampling, found {:?}",
             a.settings.resampling
         ))
     })?;
-    let (replicates, seed) = bootstrap_numbers(&a.settings)?;
-    Bootstrap::new(
-        &a.fit,
-        &a.series.times,
-        &a.values,
-        &BootstrapOptions {
-            resampling,
-            replicates,
-            seed,
-        },
-    )
-    .map_err(|e| setting_error(format!("bootstrap: {e}")))
+    bootstrap_numbers(&a.settings)?;
+    a.study
+        .start_bootstrap()
+        .map_err(|e| setting_error(format!("bootstrap: {e}")))?
+        .ok_or_else(|| setting_error("bootstrap: not asked"))
 }
 
 /// The bootstrap's progress and, once it has replicates, its intervals.
 pub fn bootstrap_view(a: &Analysis, b: &Bootstrap) -> BootstrapView {
-    let kind = a.series.time_kind;
-    let fmt_t = |t: f64| match kind {
-        TimeKind::Month | TimeKind::Quarter => TimeKind::Date.format(t),
-        _ => kind.format(t),
-    };
-    let (t_min, t_max) = range(&a.series.times);
+    let fmt_t = derived_time_text(a.series.time_kind);
     let finished = b.is_finished();
     let o = b.options();
     let mut view = BootstrapView {
@@ -1036,7 +985,11 @@ pub fn bootstrap_view(a: &Analysis, b: &Bootstrap) -> BootstrapView {
             })
             .collect(),
         milestones: if finished {
-            milestone_rows(&a.fit, &a.settings, t_min, t_max, Some(b), &fmt_t)
+            a.study
+                .milestones(Some(b))
+                .iter()
+                .map(|m| milestone_row(m, &fmt_t))
+                .collect()
         } else {
             Vec::new()
         },
@@ -1046,34 +999,10 @@ pub fn bootstrap_view(a: &Analysis, b: &Bootstrap) -> BootstrapView {
     view
 }
 
-fn range(t: &[f64]) -> (f64, f64) {
-    t.iter()
-        .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), &v| {
-            (lo.min(v), hi.max(v))
-        })
-}
-
-/// The median spacing of the sorted distinct times: one "period".
-pub fn typical_step(t: &[f64]) -> f64 {
-    let mut s = t.to_vec();
-    s.sort_by(f64::total_cmp);
-    let mut d: Vec<f64> = s
-        .windows(2)
-        .map(|w| w[1] - w[0])
-        .filter(|d| *d > 0.0)
-        .collect();
-    if d.is_empty() {
-        return 1.0;
-    }
-    d.sort_by(f64::total_cmp);
-    d[d.len() / 2]
-}
-
 impl Analysis {
     /// `plateau fit --json`'s report for this fit.
     pub fn report_json(&self) -> String {
-        let report = FitReport::new(&self.fit, &self.series.warnings);
-        serde_json::to_string_pretty(&report).unwrap_or_else(|e| format!("{{\"error\":\"{e}\"}}"))
+        json(self.study.fit_report())
     }
 
     /// The summary of every series as CSV (the shape of `plateau batch
@@ -1086,20 +1015,7 @@ impl Analysis {
     /// diagnostics, the symmetry test and the Fisher–Pry check (entered K,
     /// else the fitted K).
     pub fn diagnose_json(&self) -> String {
-        let (t, y) = (&self.series.times, &self.values);
-        let fisher_pry = self
-            .settings
-            .fisher_pry_k
-            .or_else(|| self.fit.param("K").map(|p| p.estimate))
-            .and_then(|k| diagnostics::fisher_pry_of(&self.fit, t, y, k));
-        let report = plateau_core::report::DiagnoseReport::new(
-            &self.fit,
-            &self.series.warnings,
-            diagnostics::residual_diagnostics(&self.fit, t, y),
-            self.view.symmetry_test.clone(),
-            fisher_pry,
-        );
-        serde_json::to_string_pretty(&report).unwrap_or_else(|e| format!("{{\"error\":\"{e}\"}}"))
+        json(self.study.diagnose_report())
     }
 
     /// One row per observation (time, observed, fitted, 95% bands), then
@@ -1131,14 +1047,14 @@ impl Analysis {
             let _ = writeln!(
                 s,
                 "{},{},{},{},,{}",
-                csv_text(&kind.format(t)),
+                csv_field(&kind.format(t)),
                 num(t),
                 num(self.values[i]),
                 num(self.fit.fitted[i]),
                 bands(t),
             );
         }
-        let (_, t_max) = range(&self.series.times);
+        let (_, t_max) = span(&self.series.times);
         let step = typical_step(&self.series.times);
         let mut k = 1.0;
         while t_max + k * step <= self.horizon_end + step * 1e-9 {
@@ -1146,7 +1062,7 @@ impl Analysis {
             let _ = writeln!(
                 s,
                 "{},{},,,{},{}",
-                csv_text(&kind.format(t)),
+                csv_field(&kind.format(t)),
                 num(t),
                 num(self.fit.predict(t)),
                 bands(t),
@@ -1161,13 +1077,12 @@ impl Analysis {
 pub const TABLE_CSV_HEADER: &str = "time,axis,observed,fitted,forecast,\
 confidence95_lo,confidence95_hi,prediction95_lo,prediction95_hi";
 
-/// Quotes a CSV field when it needs it.
-fn csv_text(s: &str) -> String {
-    if s.contains([',', '"', '\n']) {
-        format!("\"{}\"", s.replace('"', "\"\""))
-    } else {
-        s.to_string()
-    }
+/// A report as pretty JSON, or an object naming why there is none.
+fn json<T: Serialize>(report: Result<T, StudyError>) -> String {
+    report
+        .map_err(|e| e.to_string())
+        .and_then(|r| serde_json::to_string_pretty(&r).map_err(|e| e.to_string()))
+        .unwrap_or_else(|e| serde_json::json!({ "error": e }).to_string())
 }
 
 #[cfg(test)]

@@ -8,6 +8,9 @@ use std::io::Write;
 use std::path::PathBuf;
 use std::process::{Child, Command, Output, Stdio};
 
+mod parity;
+mod snapshots;
+
 fn root() -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("../..")
 }
@@ -1390,4 +1393,159 @@ fn fit_table_shows_the_digits_the_standard_error_supports() {
         assert!(shows(hi, ci[1].as_f64().unwrap()), "{line}");
         assert_eq!(decimals(lo), decimals(est), "{line}");
     }
+}
+
+/// `forecast`, `drift` and `backtest` take `--errors` like `fit` (the page
+/// applies its error model to milestones and drift too): the forecast's
+/// estimates and the last drift row (all the data) are the relative-error
+/// fit's, which differ from the additive fit's.
+#[test]
+fn forecast_drift_and_backtest_follow_the_error_model() {
+    let file = demo("aldermoor_subscribers.csv");
+    let k_of = |v: &Value| v["params"]["K"]["estimate"].as_f64().unwrap();
+    let fit_rel = json(&plateau(
+        &["fit", &file, "--errors", "relative", "--json"],
+        None,
+    ));
+    let fit_add = json(&plateau(&["fit", &file, "--json"], None));
+    assert_eq!(fit_rel["error_model"], "relative");
+    assert_ne!(k_of(&fit_rel), k_of(&fit_add));
+    let fc = json(&plateau(
+        &[
+            "forecast", &file, "--until", "40", "--errors", "relative", "--json",
+        ],
+        None,
+    ));
+    // Same fit, same options: the same numbers to the last bit.
+    assert_eq!(k_of(&fc), k_of(&fit_rel));
+    let dr = json(&plateau(
+        &["drift", &file, "--errors", "relative", "--json"],
+        None,
+    ));
+    let last = dr["rows"].as_array().unwrap().last().unwrap();
+    assert_eq!(k_of(last), k_of(&fit_rel));
+    let out = plateau(&["drift", &file, "--errors", "sideways"], None);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("--errors: expected additive"));
+    let bt = json(&plateau(
+        &[
+            "backtest", &file, "--models", "logistic", "--errors", "log", "--json",
+        ],
+        None,
+    ));
+    assert!(bt["models"][0]["horizons"][0]["mae"].as_f64().unwrap() > 0.0);
+}
+
+/// One limit per setting on both faces (plateau_study::request): the page
+/// refuses more than 100000 replicates and seeds above 2^53 − 1, and so
+/// does the CLI.
+#[test]
+fn bootstrap_limits_are_the_pages() {
+    let file = demo("aldermoor_subscribers.csv");
+    let out = plateau(
+        &["forecast", &file, "--until", "40", "--bootstrap", "100001"],
+        None,
+    );
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("at most 100000 replicates"));
+    let out = plateau(
+        &[
+            "forecast",
+            &file,
+            "--until",
+            "40",
+            "--bootstrap",
+            "10",
+            "--seed",
+            "9007199254740992",
+        ],
+        None,
+    );
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("from 0 to 9007199254740991"));
+}
+
+/// `batch` studies each series as `fit` does: a series whose values fall
+/// gets the same `values_decline` warning (with the --per-period hint).
+#[test]
+fn batch_warns_of_declining_values_as_fit_does() {
+    // Rises to 95, then stays at 60 (63% of the peak) for four rows.
+    let rows: Vec<(u32, f64)> = [
+        5.0, 10.0, 20.0, 40.0, 60.0, 80.0, 90.0, 95.0, 60.0, 60.0, 60.0, 60.0,
+    ]
+    .into_iter()
+    .zip(1..)
+    .map(|(y, t)| (t, y))
+    .collect();
+    let single: String = std::iter::once("t,y\n".to_string())
+        .chain(rows.iter().map(|(t, y)| format!("{t},{y}\n")))
+        .collect();
+    let long: String = std::iter::once("series,t,y\n".to_string())
+        .chain(rows.iter().map(|(t, y)| format!("a,{t},{y}\n")))
+        .collect();
+    let codes = |v: &Value| -> Vec<String> {
+        v["warnings"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|w| w["code"].as_str().unwrap().to_string())
+            .collect()
+    };
+    let out = plateau(&["fit", "-", "--json"], Some(&single));
+    let fit_codes = codes(&serde_json::from_slice(&out.stdout).unwrap());
+    assert!(
+        fit_codes.iter().any(|c| c == "values_decline"),
+        "{fit_codes:?}"
+    );
+    let out = plateau(&["batch", "-", "--json"], Some(&long));
+    let line: Value = serde_json::from_slice(&out.stdout).unwrap();
+    let batch_codes = codes(&line);
+    assert!(
+        batch_codes.iter().any(|c| c == "values_decline"),
+        "{batch_codes:?}"
+    );
+    assert!(line["warnings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .any(|w| w["message"].as_str().unwrap().ends_with("(--per-period)")));
+}
+
+/// A K the data do not determine gets no interval in the several-series
+/// summary either (CSV and JSON): on an early-growth series the asymptotic
+/// interval is about ±1.8e8 around K, and was printed as if it were one.
+#[test]
+fn batch_summary_withholds_an_undetermined_ks_interval() {
+    let mut text = String::from("series,t,y\n");
+    for (t, y) in [
+        (0, 42),
+        (2, 51),
+        (4, 59),
+        (6, 64),
+        (8, 76),
+        (10, 93),
+        (12, 106),
+        (14, 125),
+        (16, 149),
+        (18, 171),
+        (20, 199),
+        (21, 205),
+    ] {
+        text.push_str(&format!("early,{t},{y}\n"));
+    }
+    let out = plateau(&["batch", "-", "--csv"], Some(&text));
+    assert!(out.status.success());
+    let csv = String::from_utf8_lossy(&out.stdout);
+    let mut lines = csv.lines();
+    let header: Vec<&str> = lines.next().unwrap().split(',').collect();
+    let row: Vec<&str> = lines.next().unwrap().split(',').collect();
+    let col = |name: &str| row[header.iter().position(|h| *h == name).unwrap()];
+    assert!(
+        col("warnings").contains("saturation_not_identified"),
+        "{csv}"
+    );
+    assert!(!col("K").is_empty(), "{csv}");
+    assert_eq!((col("K_lo95"), col("K_hi95")), ("", ""), "{csv}");
+    let lines = json_lines(&plateau(&["batch", "-", "--json"], Some(&text)));
+    assert!(lines[0]["K"]["ci95"].is_null(), "{}", lines[0]);
 }

@@ -4,7 +4,6 @@
 //! 95% intervals, and the wide and long renderings must read the same.
 
 use plateau_core::data::{parse_multi, Layout, MultiOptions, SeriesSet};
-use plateau_core::summary::SeriesSummary;
 use plateau_core::{fit, Model};
 use std::path::PathBuf;
 
@@ -34,9 +33,8 @@ fn regional_demo_recovers_each_regions_truth_within_its_interval() {
         assert_eq!(ns.series.times.len(), 60);
         let f = fit(&ns.series, Model::Logistic, &Default::default()).expect("fit");
         assert!(f.converged, "{name}");
-        let s = SeriesSummary::from_fit(&ns.name, &ns.series, &f);
-        for (param, est, truth) in [("K", s.k, k), ("r", s.r, r), ("t0", s.t0, t0)] {
-            let [lo, hi] = est.and_then(|e| e.ci95).expect("interval");
+        for (param, truth) in [("K", k), ("r", r), ("t0", t0)] {
+            let (lo, hi) = f.param(param).and_then(|p| p.ci95).expect("interval");
             assert!(
                 lo <= truth && truth <= hi,
                 "{name}: true {param} = {truth} outside [{lo}, {hi}]"
@@ -44,8 +42,7 @@ fn regional_demo_recovers_each_regions_truth_within_its_interval() {
         }
         // The logistic's 10→90 duration is ln(81)/r (analytic); its
         // interval must hold the truth's value too.
-        let [lo, hi] = s
-            .duration_10_90
+        let (lo, hi) = plateau_core::analysis::duration_10_90(&f)
             .and_then(|d| d.ci95)
             .expect("duration interval");
         let truth = 81f64.ln() / r;

@@ -201,7 +201,7 @@ proptest! {
 /// back to the summary's very `f64`s, like [`csv`].
 #[test]
 fn the_summary_csv_numbers_read_back_exactly() {
-    use plateau_core::summary::{csv_row, SeriesSummary};
+    use crate::summary::{csv_row, SeriesSummary};
     use plateau_core::{fit, parse_series, Model, ParseOptions};
     // A noisy-free logistic K = 1000/3, r = 0.37, t0 = 10.1: digits that
     // a fixed number of decimals would cut.

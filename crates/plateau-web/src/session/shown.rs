@@ -4,8 +4,8 @@
 //! the charts, the tests and `data-value` attributes.
 
 use super::{BootstrapView, View};
-use plateau_core::summary::Estimate;
 use plateau_study::numbers::{self, number, probability, Precision};
+use plateau_study::summary::Estimate;
 use serde::Serialize;
 
 /// Parameters that are times on the data's axis: no thousands separators.

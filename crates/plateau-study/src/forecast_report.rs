@@ -5,14 +5,13 @@
 //!
 //! Main types: [`ForecastReport`], [`DriftReport`], [`BacktestReport`].
 
-use crate::bootstrap::Bootstrap;
-use crate::drift::{DriftRow, ModelBacktest};
-use crate::fit::Fit;
-use crate::forecast::ForecastPoint;
-use crate::milestones::Assessment;
 use crate::report::CAUTION;
-use crate::warning::Warning;
-use serde::ser::{SerializeMap, Serializer};
+use plateau_core::bootstrap::Bootstrap;
+use plateau_core::drift::{DriftRow, ModelBacktest};
+use plateau_core::fit::Fit;
+use plateau_core::forecast::ForecastPoint;
+use plateau_core::milestones::Assessment;
+use plateau_core::warning::Warning;
 use serde::Serialize;
 
 /// Formats an axis value as text in the data's own time format.
@@ -28,19 +27,7 @@ pub struct ParamIntervals {
     pub fixed: bool,
 }
 
-/// Name → value map that keeps the model's parameter order.
-#[derive(Debug, Clone, PartialEq)]
-pub struct Ordered<T>(pub Vec<(String, T)>);
-
-impl<T: Serialize> Serialize for Ordered<T> {
-    fn serialize<S: Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
-        let mut m = s.serialize_map(Some(self.0.len()))?;
-        for (k, v) in &self.0 {
-            m.serialize_entry(k, v)?;
-        }
-        m.end()
-    }
-}
+pub use crate::report::Ordered;
 
 /// What was bootstrapped and how it went.
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -276,7 +263,7 @@ pub struct DriftReport {
 
 impl DriftReport {
     pub fn new(
-        model: crate::Model,
+        model: plateau_core::Model,
         rows: &[DriftRow],
         text: TimeText,
         warnings: &[Warning],

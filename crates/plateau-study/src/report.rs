@@ -7,12 +7,12 @@
 //! (serde_json's behaviour), so a reader never meets `NaN` in JSON.
 //!
 //! Main types: [`FitReport`] (from a [`Fit`]) and [`CompareReport`] (from
-//! [`compare::Entry`](crate::compare::Entry) rows).
+//! [`compare::Entry`](plateau_core::compare::Entry) rows).
 
-use crate::compare::{nested_tests, recommend, Entry, LrTest, Recommendation};
-use crate::diagnostics::{FisherPry, ResidualDiagnostics, SymmetryTest, Verdict};
-use crate::fit::Fit;
-use crate::warning::Warning;
+use plateau_core::compare::{nested_tests, recommend, Entry, LrTest, Recommendation};
+use plateau_core::diagnostics::{FisherPry, ResidualDiagnostics, SymmetryTest, Verdict};
+use plateau_core::fit::Fit;
+use plateau_core::warning::Warning;
 use serde::ser::{SerializeMap, Serializer};
 use serde::Serialize;
 
@@ -48,12 +48,16 @@ pub struct ParamReport {
     pub identified: bool,
 }
 
-/// Parameters in the model's own order (a JSON object keeps the order the
-/// keys are written in, so `K, r, t0` reads as in the formula).
+/// Name → value map that keeps the order it was built in (a JSON object
+/// keeps the order the keys are written in, so `K, r, t0` reads as in the
+/// formula). The one ordered-map serialiser of every report.
 #[derive(Debug, Clone, PartialEq)]
-pub struct Params(pub Vec<(String, ParamReport)>);
+pub struct Ordered<T>(pub Vec<(String, T)>);
 
-impl Serialize for Params {
+/// Parameters in the model's own order.
+pub type Params = Ordered<ParamReport>;
+
+impl<T: Serialize> Serialize for Ordered<T> {
     fn serialize<S: Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
         let mut m = s.serialize_map(Some(self.0.len()))?;
         for (k, v) in &self.0 {
@@ -147,14 +151,14 @@ impl FitReport {
             iterations: fit.iterations,
             termination: fit.termination.as_str(),
             condition_number: fit.condition_number,
-            params: Params(params),
+            params: Ordered(params),
             fitted: fit.fitted.clone(),
             warnings: extra_warnings
                 .iter()
                 .chain(&fit.warnings)
                 .cloned()
                 .collect(),
-            peak: crate::analysis::bass_peak(fit).map(|p| PeakReport {
+            peak: plateau_core::analysis::bass_peak(fit).map(|p| PeakReport {
                 time: p.time,
                 time_ci95: p.time_ci95.map(|(a, b)| [a, b]),
                 rate: p.rate,
@@ -298,5 +302,39 @@ impl DiagnoseReport {
             verdicts,
             caution: CAUTION,
         }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use plateau_core::fit::{fit_xy, FitOptions};
+    use plateau_core::{Model, WarningCode};
+
+    /// A series that ends far below its inflection (logistic K = 1000,
+    /// r = 0.3, t0 = 20, observed at t = 0..11, with a fixed ±1 pattern of
+    /// noise) leaves K open above: the report gives no upper bound and no
+    /// asymptotic interval, and says `identified: false`.
+    #[test]
+    fn an_open_k_is_reported_without_an_upper_bound() {
+        let ts: Vec<f64> = (0..12).map(f64::from).collect();
+        let y: Vec<f64> = ts
+            .iter()
+            .enumerate()
+            .map(|(i, t)| {
+                let noise = [0.8, -1.1, 0.3, 1.0, -0.6, -0.2][i % 6];
+                1000.0 / (1.0 + (-0.3 * (t - 20.0)).exp()) + noise
+            })
+            .collect();
+        let f = fit_xy(&ts, &y, Model::Logistic, &FitOptions::default()).unwrap();
+        assert!(f.has_warning(WarningCode::SaturationNotIdentified));
+        let v = serde_json::to_value(FitReport::new(&f, &[])).unwrap();
+        assert!(
+            v["params"]["K"]["ci95"][1].is_null(),
+            "{}",
+            v["params"]["K"]
+        );
+        assert!(v["params"]["K"]["ci95_asymptotic"].is_null());
+        assert_eq!(v["params"]["K"]["identified"], false);
     }
 }

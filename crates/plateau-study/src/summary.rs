@@ -8,10 +8,10 @@
 //! `batch --csv`, the page's export), so both front ends share one shape.
 //! Field and column names are an output contract: add, never rename.
 
-use crate::analysis;
-use crate::data::{Series, TimeKind};
-use crate::fit::Fit;
-use crate::warning::Warning;
+use plateau_core::analysis;
+use plateau_core::data::{Series, TimeKind};
+use plateau_core::fit::Fit;
+use plateau_core::warning::Warning;
 use serde::Serialize;
 use std::fmt::Write;
 
@@ -49,10 +49,13 @@ pub struct SeriesSummary {
     pub error_line: Option<usize>,
 }
 
+/// A parameter's estimate and its asymptotic interval; no interval for a
+/// parameter the data do not determine (a narrow-looking K interval would
+/// be read as support the data do not give).
 fn estimate(fit: &Fit, name: &str) -> Option<Estimate> {
     fit.param(name).map(|p| Estimate {
         estimate: p.estimate,
-        ci95: p.ci95.map(|(a, b)| [a, b]),
+        ci95: p.ci95.filter(|_| p.identified).map(|(a, b)| [a, b]),
     })
 }
 
@@ -129,7 +132,7 @@ duration_10_90,duration_lo95,duration_hi95,converged,warnings,error";
 /// by spaces.
 pub fn csv_row(s: &SeriesSummary) -> String {
     let mut out = String::new();
-    let num = |x: Option<f64>| x.map_or(String::new(), |v| format!("{v}"));
+    let num = |x: Option<f64>| x.map_or(String::new(), crate::numbers::csv);
     let mut cells = vec![
         csv_text(&s.series),
         s.model.to_string(),
@@ -166,17 +169,13 @@ pub fn summary_csv(rows: &[SeriesSummary]) -> String {
 
 /// Quotes a CSV field when it needs it (RFC 4180).
 fn csv_text(s: &str) -> String {
-    if s.contains([',', '"', '\n', '\r']) {
-        format!("\"{}\"", s.replace('"', "\"\""))
-    } else {
-        s.to_string()
-    }
+    crate::study::csv_field(s)
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::{fit, parse_series, Model, ParseOptions};
+    use plateau_core::{fit, parse_series, Model, ParseOptions};
 
     #[test]
     fn csv_has_one_row_per_series_and_quotes_names() {

@@ -23,7 +23,7 @@
 //! that parameter's interval.
 
 use crate::fit::Fit;
-use crate::model::Model;
+use crate::model::{bass_peak_time, Model};
 use crate::stats::t_quantile;
 
 /// Two-sided pointwise confidence interval of the fitted mean curve at `t`.
@@ -206,18 +206,6 @@ fn bilogistic_fraction_time(q: &[f64], p: f64) -> Option<f64> {
         }
     }
     Some(0.5 * (lo + hi))
-}
-
-/// Bass peak time `t* = tau + ln(q/p)/(p+q)` for parameters `[m, p, q,
-/// tau]` when `q > p`; `tau` otherwise (the adoption rate then falls from
-/// launch on).
-pub fn bass_peak_time(v: &[f64]) -> f64 {
-    let (p, q, tau) = (v[1], v[2], v[3]);
-    if q > p {
-        tau + (q / p).ln() / (p + q)
-    } else {
-        tau
-    }
 }
 
 /// The Bass adoption peak with 95% delta-method intervals.

@@ -6,7 +6,7 @@
 
 use super::{profile, CiMethod, Fit};
 use crate::linalg;
-use crate::model::{Domain, Model, Role};
+use crate::model::{bass_peak_time, Domain, Model, Role};
 use crate::stats;
 use crate::warning::{Warning, WarningCode};
 
@@ -17,7 +17,7 @@ fn inflection(fit: &Fit) -> Option<(&'static str, f64)> {
     let v = fit.values();
     match fit.model {
         Model::Exponential => None,
-        Model::Bass => Some(("t*", crate::analysis::bass_peak_time(&v))),
+        Model::Bass => Some(("t*", bass_peak_time(&v))),
         Model::Bilogistic => Some(("t02", v[2].max(v[5]))),
         _ => Some(("t0", v[2])),
     }

@@ -21,7 +21,7 @@ use plateau_core::data::TimeKind;
 use plateau_core::diagnostics;
 use plateau_core::forecast_report::{BacktestReport, DriftReport, ForecastReport};
 use plateau_core::report::{CompareReport, DiagnoseReport, FitReport};
-use plateau_core::{drift, forecast, milestones};
+use plateau_core::{backtest, forecast, history, milestones};
 use plateau_core::{fit, parse_series, Model, Series};
 use std::io::Read;
 use std::process::ExitCode;
@@ -253,7 +253,7 @@ fn run(cli: Cli) -> Result<(), Failure> {
         Command::Drift(args) => {
             let settings = settings::drift(&args).map_err(Failure::Input)?;
             let (name, series) = read_series(&args.input, &settings.parse)?;
-            let rows = drift::drift(&series.times, &series.values, settings.model, &settings.fit);
+            let rows = history::drift(&series.times, &series.values, settings.model, &settings.fit);
             if rows.iter().all(|r| r.result.is_err()) {
                 return Err(Failure::Fit(anyhow::anyhow!(
                     "{name}: the {} model could not be fitted to any prefix of the data",
@@ -292,7 +292,7 @@ fn run(cli: Cli) -> Result<(), Failure> {
         Command::Backtest(args) => {
             let settings = settings::backtest(&args).map_err(Failure::Input)?;
             let (name, series) = read_series(&args.input, &settings.parse)?;
-            let bt = drift::BacktestOptions {
+            let bt = backtest::BacktestOptions {
                 horizon: args.horizon,
                 min_train: args.min_train,
             };
@@ -302,7 +302,7 @@ fn run(cli: Cli) -> Result<(), Failure> {
                     series.times.len()
                 )));
             }
-            let rows = drift::backtest(
+            let rows = backtest::backtest(
                 &series.times,
                 &series.values,
                 &settings.models,

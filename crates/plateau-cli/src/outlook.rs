@@ -2,8 +2,8 @@
 //! their tables for people (`--json` prints the core's report shapes).
 
 use crate::table::num;
+use plateau_core::backtest::ModelBacktest;
 use plateau_core::bootstrap::Bootstrap;
-use plateau_core::drift::ModelBacktest;
 use plateau_core::forecast_report::{DriftReport, ForecastReport};
 use plateau_core::report::CAUTION;
 use std::fmt::Write;

@@ -5,10 +5,11 @@
 //!
 //! Main types: [`ForecastReport`], [`DriftReport`], [`BacktestReport`].
 
+use crate::backtest::ModelBacktest;
 use crate::bootstrap::Bootstrap;
-use crate::drift::{DriftRow, ModelBacktest};
 use crate::fit::Fit;
 use crate::forecast::ForecastPoint;
+use crate::history::DriftRow;
 use crate::milestones::Assessment;
 use crate::report::CAUTION;
 use crate::warning::Warning;

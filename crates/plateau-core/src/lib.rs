@@ -20,14 +20,15 @@
 //! [`diagnostics`] reads the residuals and tests the curve's symmetry.
 
 pub mod analysis;
+pub mod backtest;
 pub mod bootstrap;
 pub mod compare;
 pub mod data;
 pub mod diagnostics;
-pub mod drift;
 pub mod fit;
 pub mod forecast;
 pub mod forecast_report;
+pub mod history;
 mod linalg;
 mod mathfn;
 pub mod milestones;

@@ -14,8 +14,8 @@ use plateau_core::data::{
     DataError, Layout, MultiOptions, TimeKind,
 };
 use plateau_core::diagnostics::{self, Verdict};
-use plateau_core::drift::{drift_sampled, DriftRow};
 use plateau_core::fit::{fit_xy, ErrorModel, Fit, FitOptions, IntervalMethod};
+use plateau_core::history::{drift_sampled, DriftRow};
 use plateau_core::milestones::{self, Assessment, Target};
 use plateau_core::report::{FitReport, CAUTION};
 use plateau_core::summary::{summary_csv, SeriesSummary};
@@ -283,11 +283,11 @@ pub struct BacktestRow {
 
 fn page_backtest(t: &[f64], y: &[f64], opts: &FitOptions) -> Vec<BacktestRow> {
     let n = t.len();
-    let bt = plateau_core::drift::BacktestOptions {
+    let bt = plateau_core::backtest::BacktestOptions {
         horizon: BACKTEST_HORIZON,
         min_train: Some(n.div_ceil(2).max(n.saturating_sub(BACKTEST_ORIGINS))),
     };
-    plateau_core::drift::backtest(t, y, &Model::ALL, opts, &bt)
+    plateau_core::backtest::backtest(t, y, &Model::ALL, opts, &bt)
         .into_iter()
         .map(|m| BacktestRow {
             model: m.model.name(),

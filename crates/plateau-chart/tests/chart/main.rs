@@ -554,7 +554,7 @@ fn degenerate_inputs_to_the_new_views_never_panic() {
 #[test]
 fn drift_chart_shows_one_marker_and_bar_per_prefix() {
     use plateau_chart::{render_drift_svg, DriftInput};
-    use plateau_core::drift::drift;
+    use plateau_core::history::drift;
     let case = logistic();
     let rows = drift(&case.t, &case.y, Model::Logistic, &FitOptions::default());
     let input = DriftInput {

@@ -22,7 +22,7 @@ pub use trust::{K_RANGE_LIMIT, K_REL_SE_LIMIT};
 use problem::target_values;
 use solve::{check_value, param_index, solve, starting_points, Solved};
 use statistics::statistics;
-use trust::diagnose;
+use trust::trust_warnings;
 
 /// How a fit is set up. `Default` self-starts every parameter.
 #[derive(Debug, Clone, Default)]
@@ -253,12 +253,12 @@ pub fn fit_xy(t: &[f64], y: &[f64], model: Model, opts: &FitOptions) -> Result<F
         units.fit_out(&mut fit, opts);
         fit
     };
-    diagnose(&mut fit, t, y);
+    trust_warnings(&mut fit, t, y);
     Ok(fit)
 }
 
 /// The fit itself, in the units given (statistics and profile intervals
-/// included; the warnings of [`diagnose`] are added by the caller in the
+/// included; the warnings of [`trust_warnings`] are added by the caller in the
 /// user's units).
 fn fit_in_units(
     t: &[f64],

@@ -734,7 +734,7 @@ fn analyse_series(
     let (t_min, _) = range(&series.times);
     let milestones = milestone_rows(&fit, settings, t_min, t_max, None, &fmt_t);
 
-    let symmetry = analysis::symmetry(&fit, &series.times, &values).map(|s| SymmetryRow {
+    let symmetry = analysis::reflection(&fit, &series.times, &values).map(|s| SymmetryRow {
         rms_ratio: s.rms_ratio,
         meaning: s.meaning,
     });

@@ -23,14 +23,14 @@ fn inflection(fit: &Fit) -> Option<(&'static str, f64)> {
     }
 }
 
-/// Thresholds of [`diagnose`]. K counts as not identified when its relative
+/// Thresholds of [`trust_warnings`]. K counts as not identified when its relative
 /// standard error exceeds this...
 pub const K_REL_SE_LIMIT: f64 = 0.3;
 /// ...or when the rise above the floor exceeds this multiple of the observed rise.
 pub const K_RANGE_LIMIT: f64 = 5.0;
 
 /// Adds the warnings that say how far to trust a fit.
-pub(super) fn diagnose(fit: &mut Fit, t: &[f64], y: &[f64]) {
+pub(super) fn trust_warnings(fit: &mut Fit, t: &[f64], y: &[f64]) {
     let mut w = Vec::new();
     if !fit.converged {
         w.push(Warning::new(

@@ -244,7 +244,7 @@ fn center(model: Model, p: &[f64]) -> Option<(f64, f64)> {
         Model::Logistic4 => Some((p[2], (p[0] + p[3]) / 2.0)),
         Model::Gompertz | Model::Richards => Some((p[2], model.eval(p, p[2]))),
         Model::Bass if p[2] > p[1] => {
-            let ts = plateau_core::analysis::bass_peak_time(p);
+            let ts = plateau_core::model::bass_peak_time(p);
             Some((ts, model.eval(p, ts)))
         }
         Model::Exponential | Model::Bass | Model::Bilogistic => None,

@@ -7,7 +7,7 @@
 use crate::common::{self, format_value, Scale};
 use crate::palette::{BAND_ALPHA, GRAPHITE, INK, SKY};
 use crate::ChartError;
-use plateau_core::drift::DriftRow;
+use plateau_core::history::DriftRow;
 use plateau_core::Model;
 use plotters::coord::Shift;
 use plotters::prelude::*;
@@ -29,7 +29,7 @@ const BAR_OVERSHOOT: f64 = 0.5;
 /// One fitted prefix: cutoff, estimate and its interval.
 type Prefix = (f64, f64, Option<(f64, f64)>);
 
-/// Draws the drift chart of `rows` (from [`plateau_core::drift::drift`]).
+/// Draws the drift chart of `rows` (from [`plateau_core::history::drift`]).
 pub fn draw_drift<DB: DrawingBackend>(
     area: &DrawingArea<DB, Shift>,
     rows: &[DriftRow],

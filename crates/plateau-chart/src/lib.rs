@@ -4,7 +4,7 @@
 //! Main items: [`ChartInput`] (plain data: the observations, the
 //! [`Fit`], a forecast horizon, an axis label formatter and captions),
 //! [`ChartKind`], the drawing functions [`draw_curve`],
-//! [`draw_residuals`], [`draw_symmetry`], [`draw_linear`], [`draw_rate`],
+//! [`draw_residuals`], [`draw_reflection`], [`draw_linear`], [`draw_rate`],
 //! [`draw_qq`] and [`draw_fisher_pry`] (plus the dispatcher [`draw`]), the straight-line transform
 //! [`linearise`], [`render_svg`], and [`ChartError`]. The drift chart
 //! ([`draw_drift`], [`render_drift_svg`]) has its own input, [`DriftInput`]. For several series,
@@ -28,8 +28,8 @@ mod overlay;
 pub mod palette;
 mod qq;
 mod rate;
+mod reflection;
 mod residuals;
-mod symmetry;
 
 use plateau_core::fit::Fit;
 use plotters::coord::Shift;
@@ -45,8 +45,8 @@ pub use linear::{draw_linear, linearise, NOT_AVAILABLE_BILOGISTIC};
 pub use overlay::{draw_overlay, normalise, render_overlay_svg, OverlaySeries};
 pub use qq::draw_qq;
 pub use rate::draw_rate;
+pub use reflection::{draw_reflection, NOT_AVAILABLE_EXPONENTIAL, NOT_AVAILABLE_NO_CENTER};
 pub use residuals::draw_residuals;
-pub use symmetry::{draw_symmetry, NOT_AVAILABLE_EXPONENTIAL, NOT_AVAILABLE_NO_CENTER};
 
 /// Everything a chart needs, as plain data.
 pub struct ChartInput<'a> {
@@ -73,8 +73,9 @@ pub enum ChartKind {
     Curve,
     /// Residuals against time around a zero line.
     Residuals,
-    /// Observations and their reflections through the curve's center.
-    Symmetry,
+    /// Observations and their reflections through the curve's center (the
+    /// reflected-data view; named "symmetry" on the page and in files).
+    Reflection,
     /// Observations through the model's linearising transform, on which
     /// the fit is the straight line `r (t − t0)` (log scale for the
     /// exponential).
@@ -93,7 +94,7 @@ impl ChartKind {
     pub const ALL: [ChartKind; 7] = [
         ChartKind::Curve,
         ChartKind::Residuals,
-        ChartKind::Symmetry,
+        ChartKind::Reflection,
         ChartKind::Linear,
         ChartKind::Rate,
         ChartKind::Qq,
@@ -104,7 +105,7 @@ impl ChartKind {
         match self {
             ChartKind::Curve => "curve",
             ChartKind::Residuals => "residuals",
-            ChartKind::Symmetry => "symmetry",
+            ChartKind::Reflection => "symmetry",
             ChartKind::Linear => "linear",
             ChartKind::Rate => "rate",
             ChartKind::Qq => "qq",
@@ -163,7 +164,7 @@ pub fn draw<DB: DrawingBackend>(
     match which {
         ChartKind::Curve => draw_curve(area, input),
         ChartKind::Residuals => draw_residuals(area, input),
-        ChartKind::Symmetry => draw_symmetry(area, input),
+        ChartKind::Reflection => draw_reflection(area, input),
         ChartKind::Linear => draw_linear(area, input),
         ChartKind::Rate => draw_rate(area, input),
         ChartKind::Qq => draw_qq(area, input),

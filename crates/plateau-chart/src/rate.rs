@@ -43,7 +43,7 @@ fn peak(model: Model, p: &[f64]) -> Option<(f64, f64)> {
         if p[2] <= p[1] {
             return None;
         }
-        let ts = plateau_core::analysis::bass_peak_time(p);
+        let ts = plateau_core::model::bass_peak_time(p);
         return Some((ts, derivative(model, p, ts))).filter(|q| q.0.is_finite() && q.1.is_finite());
     }
     let t0 = p[2];

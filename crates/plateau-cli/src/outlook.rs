@@ -1,8 +1,8 @@
 //! `plateau forecast`, `plateau drift` and `plateau backtest`: the runs and
 //! their tables for people (`--json` prints the core's report shapes).
 
+use plateau_core::backtest::ModelBacktest;
 use plateau_core::bootstrap::Bootstrap;
-use plateau_core::drift::ModelBacktest;
 use plateau_study::forecast_report::{DriftReport, ForecastReport};
 use plateau_study::numbers::{number, Precision};
 use plateau_study::report::CAUTION;

@@ -7,8 +7,8 @@
 
 use criterion::{criterion_group, criterion_main, Criterion};
 use plateau_core::bootstrap::{Bootstrap, BootstrapOptions, Resampling};
-use plateau_core::drift::drift;
 use plateau_core::fit::{fit_xy, FitOptions};
+use plateau_core::history::drift;
 use plateau_core::Model;
 use std::hint::black_box;
 

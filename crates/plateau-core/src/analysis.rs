@@ -5,7 +5,7 @@
 //!
 //! Main types and functions: [`band`] and [`sample_curve`] (→ [`CurveSample`]),
 //! [`time_at_fraction`], [`time_at_level`] and [`duration_10_90`]
-//! (→ [`Milestone`]), [`symmetry`] (→ [`Symmetry`]).
+//! (→ [`Milestone`]), [`reflection`] (→ [`Reflection`]).
 //!
 //! Everything here is a pure function of the fit and, where the data are
 //! needed, plain slices of times and values: no parsing, no I/O.
@@ -23,7 +23,7 @@
 //! that parameter's interval.
 
 use crate::fit::Fit;
-use crate::model::Model;
+use crate::model::{bass_peak_time, Model};
 use crate::stats::t_quantile;
 
 /// Two-sided pointwise confidence interval of the fitted mean curve at `t`.
@@ -208,18 +208,6 @@ fn bilogistic_fraction_time(q: &[f64], p: f64) -> Option<f64> {
     Some(0.5 * (lo + hi))
 }
 
-/// Bass peak time `t* = tau + ln(q/p)/(p+q)` for parameters `[m, p, q,
-/// tau]` when `q > p`; `tau` otherwise (the adoption rate then falls from
-/// launch on).
-pub fn bass_peak_time(v: &[f64]) -> f64 {
-    let (p, q, tau) = (v[1], v[2], v[3]);
-    if q > p {
-        tau + (q / p).ln() / (p + q)
-    } else {
-        tau
-    }
-}
-
 /// The Bass adoption peak with 95% delta-method intervals.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Peak {
@@ -357,9 +345,11 @@ fn quadratic_form(cov: &nalgebra::DMatrix<f64>, g: &[f64]) -> Option<f64> {
     var.is_finite().then_some(var)
 }
 
-/// The reflected-curve symmetry check, see [`symmetry`].
+/// The reflected-curve symmetry check, see [`reflection`]: a view of the
+/// data, not a test (the Richards-against-logistic test is
+/// [`crate::diagnostics::symmetry_test`]).
 #[derive(Debug, Clone, PartialEq)]
-pub struct Symmetry {
+pub struct Reflection {
     /// The point `(t_c, y_c)` the observations are reflected through.
     pub center: (f64, f64),
     /// `(2 t_c − t_i, 2 y_c − y_i)` for every finite observation, input order.
@@ -367,7 +357,7 @@ pub struct Symmetry {
     /// How many reflections fall inside the observed time range and were
     /// compared with the observations there.
     pub n_compared: usize,
-    /// RMS of the normalised mirror mismatches `d_i / sqrt(v_i)` (see [`symmetry`]).
+    /// RMS of the normalised mirror mismatches `d_i / sqrt(v_i)` (see [`reflection`]).
     pub rms: f64,
     /// Noise level the mismatch is measured against: the successive-difference
     /// estimate from the time-ordered residuals.
@@ -433,7 +423,7 @@ pub const MIN_COMPARED: usize = 3;
 ///
 /// `None` also when `t` and `y` differ in length or have fewer than three
 /// finite points.
-pub fn symmetry(fit: &Fit, t: &[f64], y: &[f64]) -> Option<Symmetry> {
+pub fn reflection(fit: &Fit, t: &[f64], y: &[f64]) -> Option<Reflection> {
     if t.len() != y.len() {
         return None;
     }
@@ -535,7 +525,7 @@ pub fn symmetry(fit: &Fit, t: &[f64], y: &[f64]) -> Option<Symmetry> {
     let rms_ratio =
         (n_compared >= MIN_COMPARED && noise_sigma > 1e-12 * scale && ratio.is_finite())
             .then_some(ratio);
-    Some(Symmetry {
+    Some(Reflection {
         center,
         reflected,
         n_compared,

@@ -20,13 +20,14 @@
 //! [`diagnostics`] reads the residuals and tests the curve's symmetry.
 
 pub mod analysis;
+pub mod backtest;
 pub mod bootstrap;
 pub mod compare;
 pub mod data;
 pub mod diagnostics;
-pub mod drift;
 pub mod fit;
 pub mod forecast;
+pub mod history;
 mod linalg;
 mod mathfn;
 pub mod milestones;

@@ -746,6 +746,18 @@ pub fn bass_per_period(p: &[f64], t: f64) -> f64 {
     Model::Bass.eval(p, t) - Model::Bass.eval(p, t - 1.0)
 }
 
+/// Bass peak time `t* = tau + ln(q/p)/(p+q)` for parameters `[m, p, q,
+/// tau]` when `q > p`; `tau` otherwise (the adoption rate then falls from
+/// launch on).
+pub fn bass_peak_time(v: &[f64]) -> f64 {
+    let (p, q, tau) = (v[1], v[2], v[3]);
+    if q > p {
+        tau + (q / p).ln() / (p + q)
+    } else {
+        tau
+    }
+}
+
 /// `1 / (1 + e^(−x))` without overflow for any finite `x`.
 pub fn sigmoid(x: f64) -> f64 {
     if x >= 0.0 {

@@ -6,10 +6,11 @@
 //! Main types: [`ForecastReport`], [`DriftReport`], [`BacktestReport`].
 
 use crate::report::CAUTION;
+use plateau_core::backtest::ModelBacktest;
 use plateau_core::bootstrap::Bootstrap;
-use plateau_core::drift::{DriftRow, ModelBacktest};
 use plateau_core::fit::Fit;
 use plateau_core::forecast::ForecastPoint;
+use plateau_core::history::DriftRow;
 use plateau_core::milestones::Assessment;
 use plateau_core::warning::Warning;
 use serde::Serialize;

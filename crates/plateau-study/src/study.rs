@@ -6,15 +6,16 @@
 use crate::forecast_report::{BacktestReport, DriftReport, ForecastReport};
 use crate::report::{CompareReport, DiagnoseReport, FitReport};
 use crate::request::{Horizon, Request, MAX_FORECAST_ROWS};
+use plateau_core::backtest::{self, BacktestOptions, ModelBacktest};
 use plateau_core::bootstrap::Bootstrap;
 use plateau_core::compare::{compare, Entry};
 use plateau_core::data::{
     check_increments, decline_warning, per_period_totals, DataError, Series, TimeKind,
 };
 use plateau_core::diagnostics::{self, FisherPry, ResidualDiagnostics, SymmetryTest};
-use plateau_core::drift::{self, BacktestOptions, DriftRow, ModelBacktest};
 use plateau_core::fit::{fit_xy, Fit, FitError, FitOptions, IntervalMethod};
 use plateau_core::forecast::{self, ForecastPoint};
+use plateau_core::history::{self, DriftRow};
 use plateau_core::milestones::{self, Assessment};
 use plateau_core::model::Role;
 use plateau_core::{Model, WarningCode};
@@ -271,7 +272,7 @@ impl Study {
     /// request's `drift_rows`, evenly sampled).
     pub fn drift(&self) -> &[DriftRow] {
         self.drift.get_or_init(|| {
-            drift::drift_sampled(
+            history::drift_sampled(
                 self.times(),
                 &self.values,
                 self.request.model,
@@ -299,7 +300,7 @@ impl Study {
                 intervals: IntervalMethod::Asymptotic,
                 ..self.request.fit.clone()
             };
-            drift::backtest(
+            backtest::backtest(
                 self.times(),
                 &self.values,
                 &self.request.models,

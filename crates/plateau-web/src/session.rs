@@ -13,8 +13,8 @@ use plateau_core::data::{
     column_count, parse_multi, ColumnRef, DataError, Layout, MultiOptions, TimeKind,
 };
 use plateau_core::diagnostics::{self, Verdict};
-use plateau_core::drift::DriftRow;
 use plateau_core::fit::{Fit, FitOptions, IntervalMethod};
+use plateau_core::history::DriftRow;
 use plateau_core::milestones::{self, Assessment, Target};
 use plateau_core::{parse_series, Model, ParseOptions, Series, Warning};
 use plateau_study::numbers::{self, Precision};
@@ -740,7 +740,7 @@ fn analyse_series(
         .map(|a| milestone_row(a, &fmt_t))
         .collect();
 
-    let symmetry = analysis::symmetry(&fit, &series.times, &values).map(|s| SymmetryRow {
+    let symmetry = analysis::reflection(&fit, &series.times, &values).map(|s| SymmetryRow {
         rms_ratio: s.rms_ratio,
         meaning: s.meaning,
     });

@@ -7,7 +7,7 @@ use plateau_chart::{
     draw, format_value, linearise, plain_time, render_fisher_pry_svg, render_svg, ChartError,
     ChartInput, ChartKind, NOT_AVAILABLE_EXPONENTIAL,
 };
-use plateau_core::analysis::symmetry;
+use plateau_core::analysis::reflection;
 use plateau_core::fit::{fit_xy, Fit, FitOptions};
 use plateau_core::Model;
 use plotters::prelude::*;
@@ -141,13 +141,13 @@ fn residual_chart_has_one_marker_per_point() {
 fn symmetry_chart_shows_both_marker_sets_and_the_ratio() {
     for case in [logistic(), gompertz()] {
         let input = case.input();
-        let svg = render(ChartKind::Symmetry, &input);
+        let svg = render(ChartKind::Reflection, &input);
         let n = case.t.len();
         // Observations as circles, reflections as triangles (SVG polygons),
         // each plus one legend sample.
         assert_eq!(count(&svg, "<circle"), n + 1);
         assert_eq!(count(&svg, "<polygon"), n + 1);
-        let sym = symmetry(&case.fit, &case.t, &case.y).unwrap();
+        let sym = reflection(&case.fit, &case.t, &case.y).unwrap();
         let ratio = sym.rms_ratio.expect("ratio");
         assert!(
             svg.contains(&format!("rms ratio = {}", format_value(ratio))),
@@ -165,7 +165,7 @@ fn symmetry_chart_shows_both_marker_sets_and_the_ratio() {
 #[test]
 fn exponential_symmetry_chart_says_not_available() {
     let case = exponential();
-    let svg = render(ChartKind::Symmetry, &case.input());
+    let svg = render(ChartKind::Reflection, &case.input());
     assert!(NOT_AVAILABLE_EXPONENTIAL.contains("not available for the exponential model"));
     // The message is wrapped over lines; its key phrase stays on one.
     assert!(svg.contains("not available for the exponential"), "{svg}");
@@ -554,7 +554,7 @@ fn degenerate_inputs_to_the_new_views_never_panic() {
 #[test]
 fn drift_chart_shows_one_marker_and_bar_per_prefix() {
     use plateau_chart::{render_drift_svg, DriftInput};
-    use plateau_core::drift::drift;
+    use plateau_core::history::drift;
     let case = logistic();
     let rows = drift(&case.t, &case.y, Model::Logistic, &FitOptions::default());
     let input = DriftInput {
@@ -656,7 +656,7 @@ fn bass_and_bilogistic_charts_draw() {
     assert!(svg.contains("m(p+q)²/(4q) = "), "peak rate label");
     let svg = render(ChartKind::Linear, &bass.input());
     assert!(svg.contains("ln((y + m p/q) / (m − y))"));
-    let svg = render(ChartKind::Symmetry, &bass.input());
+    let svg = render(ChartKind::Reflection, &bass.input());
     assert!(svg.contains("does not apply"), "{svg}");
     let svg = render(ChartKind::Residuals, &bass.input());
     assert_eq!(count(&svg, "<circle"), bass.t.len());
@@ -671,7 +671,7 @@ fn bass_and_bilogistic_charts_draw() {
     let svg = render(ChartKind::Curve, &two.input());
     assert!(svg.contains("K1 + K2 = "));
     assert_eq!(count(&svg, "<circle"), two.t.len() + 1);
-    for kind in [ChartKind::Linear, ChartKind::Symmetry] {
+    for kind in [ChartKind::Linear, ChartKind::Reflection] {
         let svg = render(kind, &two.input());
         assert!(svg.contains("does not apply"), "{kind:?}");
     }
@@ -765,12 +765,12 @@ fn replicates_are_drawn_one_marker_each() {
     for (kind, legend) in [
         (ChartKind::Curve, 1),
         (ChartKind::Residuals, 0),
-        (ChartKind::Symmetry, 1),
+        (ChartKind::Reflection, 1),
     ] {
         let svg = render(kind, &input);
         assert_eq!(count(&svg, "<circle"), 60 + legend, "{kind:?}");
     }
-    let sym = symmetry(&case.fit, &case.t, &case.y).unwrap();
+    let sym = reflection(&case.fit, &case.t, &case.y).unwrap();
     assert_eq!(sym.reflected.len(), 60);
     assert!(sym.rms_ratio.is_some());
 }

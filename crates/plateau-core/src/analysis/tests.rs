@@ -127,11 +127,11 @@ fn logistic4_share_is_of_the_rise_from_l() {
 }
 
 #[test]
-fn symmetry_is_near_one_for_logistic_data() {
+fn reflection_is_near_one_for_logistic_data() {
     // Common practice: a point-symmetric series mirrors onto itself up to noise.
     for seed in 10..15 {
         let (t, y, f) = fitted(Model::Logistic, &[1000.0, 0.5, 15.0], 31, 4.0, seed);
-        let s = symmetry(&f, &t, &y).unwrap();
+        let s = reflection(&f, &t, &y).unwrap();
         let ratio = s.rms_ratio.unwrap();
         assert!((0.5..2.0).contains(&ratio), "seed {seed}: ratio {ratio}");
         assert_eq!(s.reflected.len(), t.len());
@@ -142,29 +142,32 @@ fn symmetry_is_near_one_for_logistic_data() {
 }
 
 #[test]
-fn symmetry_is_large_for_gompertz_data_under_a_logistic() {
+fn reflection_is_large_for_gompertz_data_under_a_logistic() {
     // Common practice: clearly asymmetric data fail a point-symmetry check.
     let (t, y) = data(Model::Gompertz, &[1000.0, 0.35, 12.0], 35, 2.0, 20);
     let f = fit_xy(&t, &y, Model::Logistic, &FitOptions::default()).unwrap();
-    let s = symmetry(&f, &t, &y).unwrap();
+    let s = reflection(&f, &t, &y).unwrap();
     let ratio = s.rms_ratio.unwrap();
     assert!(ratio > 3.0, "ratio {ratio}");
     // A Gompertz fit to the same data is reflected through (t0, K/e).
     let g = fit_xy(&t, &y, Model::Gompertz, &FitOptions::default()).unwrap();
-    let s = symmetry(&g, &t, &y).unwrap();
+    let s = reflection(&g, &t, &y).unwrap();
     let k = g.param("K").unwrap().estimate;
     assert!(close(s.center.1, k / std::f64::consts::E, 1e-9));
     assert_eq!(s.meaning, MEANING_ASYMMETRIC);
 }
 
 #[test]
-fn symmetry_edge_cases() {
+fn reflection_edge_cases() {
     let (t, y, f) = fitted(Model::Exponential, &[2.0, 0.3], 15, 0.05, 21);
-    assert!(symmetry(&f, &t, &y).is_none());
+    assert!(reflection(&f, &t, &y).is_none());
     let (t, y, f) = fitted(Model::Logistic, &[1000.0, 0.5, 15.0], 31, 4.0, 22);
-    assert!(symmetry(&f, &t[..3], &y[..2]).is_none(), "length mismatch");
+    assert!(
+        reflection(&f, &t[..3], &y[..2]).is_none(),
+        "length mismatch"
+    );
     // Only data well before t0: the reflections land beyond the data.
-    let s = symmetry(&f, &t[..8], &y[..8]).unwrap();
+    let s = reflection(&f, &t[..8], &y[..8]).unwrap();
     assert_eq!(s.n_compared, 0);
     assert!(s.rms_ratio.is_none());
 }

@@ -146,7 +146,7 @@ impl Profiler<'_> {
 
     /// [`Profiler::refit`] from a start that is not a neighbouring profile
     /// point: a long series is first solved on its presolve subsample, as
-    /// the fit itself is ([`super::presolve`]); the minimum is still the
+    /// the fit itself is ([`super::solve::presolve`]); the minimum is still the
     /// full data's, only the start differs.
     fn refit_cold(&self, j: usize, value: f64, start: &[f64]) -> Option<(f64, Vec<f64>, bool)> {
         self.refit_from(j, value, start, true)
@@ -181,7 +181,7 @@ impl Profiler<'_> {
             return Some((rss, problem.base, true));
         }
         let presolved = if cold {
-            super::presolve(&problem, &self.solver, &x0)
+            super::solve::presolve(&problem, &self.solver, &x0)
         } else {
             None
         };
@@ -189,7 +189,7 @@ impl Profiler<'_> {
             Some(x) => self
                 .solver
                 .clone()
-                .with_initial_damping(super::PRESOLVED_DAMPING)
+                .with_initial_damping(super::solve::PRESOLVED_DAMPING)
                 .minimize(&problem, &x),
             None => self.solver.minimize(&problem, &x0),
         };

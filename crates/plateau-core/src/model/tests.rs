@@ -153,7 +153,7 @@ fn bass_without_imitation_is_exponential_saturation() {
 fn bass_peak_facts() {
     let v = [1000.0, 0.03, 0.4, 1.0];
     let (m, p, q) = (v[0], v[1], v[2]);
-    let ts = crate::analysis::bass_peak_time(&v);
+    let ts = crate::model::bass_peak_time(&v);
     let f = Model::Bass.eval(&v, ts) / m;
     assert!((f - (q - p) / (2.0 * q)).abs() < 1e-12, "F(t*) {f}");
     let peak = Model::Bass.slope(&v, ts);
@@ -227,6 +227,6 @@ fn bass_per_period_counts_add_up_to_the_running_total() {
     let best = (1..=30)
         .max_by(|a, b| counts[a - 1].total_cmp(&counts[b - 1]))
         .unwrap() as f64;
-    let ts = crate::analysis::bass_peak_time(&v);
+    let ts = crate::model::bass_peak_time(&v);
     assert!(best >= ts && best <= ts + 1.0, "period {best}, t* {ts}");
 }

@@ -445,12 +445,12 @@ fn backtest_rows_match_the_core_backtest_the_cli_runs() {
     // limit, so the page shows exactly `plateau backtest --horizon 4`.
     let a = demo();
     assert_eq!(a.view.backtest.len(), Model::ALL.len());
-    let direct = plateau_core::drift::backtest(
+    let direct = plateau_core::backtest::backtest(
         &a.series.times,
         &a.values,
         &Model::ALL,
         &FitOptions::default(),
-        &plateau_core::drift::BacktestOptions::default(),
+        &plateau_core::backtest::BacktestOptions::default(),
     );
     for (row, d) in a.view.backtest.iter().zip(&direct) {
         assert_eq!(row.model, d.model.name());

@@ -1,13 +1,14 @@
-//! The symmetry chart ([`draw_symmetry`]): the observations and their
-//! reflections through the fitted curve's center
-//! ([`plateau_core::analysis::symmetry`]), over the fitted curve, with the
-//! rms ratio and how to read it printed on the chart. For the exponential,
+//! The symmetry chart, a view of the reflected data ([`draw_reflection`];
+//! the likelihood-ratio test is `plateau_core::diagnostics::symmetry_test`):
+//! the observations and their reflections through the fitted curve's
+//! center ([`plateau_core::analysis::reflection`]), over the fitted curve,
+//! with the rms ratio and how to read it printed on the chart. For the exponential,
 //! which has no center, a message says the check does not apply.
 
 use crate::common::{self, Scale};
 use crate::palette::{GRAPHITE, INK, ORANGE, ROSE};
 use crate::{ChartError, ChartInput};
-use plateau_core::analysis::{symmetry, MIN_COMPARED};
+use plateau_core::analysis::{reflection, MIN_COMPARED};
 use plateau_core::Model;
 use plotters::coord::Shift;
 use plotters::prelude::*;
@@ -23,7 +24,7 @@ pub const NOT_AVAILABLE_NO_CENTER: &str = "The symmetry check does not apply to 
      no single center.";
 
 /// Draws the symmetry chart on `area`.
-pub fn draw_symmetry<DB: DrawingBackend>(
+pub fn draw_reflection<DB: DrawingBackend>(
     area: &DrawingArea<DB, Shift>,
     input: &ChartInput,
 ) -> Result<(), ChartError> {
@@ -39,7 +40,7 @@ pub fn draw_symmetry<DB: DrawingBackend>(
     if matches!(model, Model::Bass | Model::Bilogistic) {
         return common::draw_message(area, &title, NOT_AVAILABLE_NO_CENTER, scale);
     }
-    let Some(sym) = symmetry(fit, input.times, input.values) else {
+    let Some(sym) = reflection(fit, input.times, input.values) else {
         return common::draw_message(
             area,
             &title,

@@ -83,7 +83,7 @@ test("Fisher–Pry view with an entered K: the curvature verdict follows the K, 
   const file = path.join(OUT, "checks-" + dl.suggestedFilename());
   await dl.saveAs(file);
   const svg = readFileSync(file, "utf8");
-  assert.match(svg, /K = 14k \(entered\)/);
+  assert.match(svg, /K = 14,000 \(entered\)/);
   // The checks export is `plateau diagnose --json` with the entered K.
   const [dj] = await Promise.all([page.waitForEvent("download"), page.click("#export-checks")]);
   const jfile = path.join(OUT, "checks-" + dj.suggestedFilename());

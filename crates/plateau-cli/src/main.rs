@@ -17,7 +17,6 @@ use cli::{Cli, Command};
 use plateau_cli::batch;
 use plateau_core::bootstrap::Bootstrap;
 use plateau_core::compare::compare;
-use plateau_core::data::TimeKind;
 use plateau_core::diagnostics;
 use plateau_core::forecast_report::{BacktestReport, DriftReport, ForecastReport};
 use plateau_core::report::{CompareReport, DiagnoseReport, FitReport};
@@ -67,7 +66,7 @@ fn run(cli: Cli) -> Result<(), Failure> {
                     .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), t| {
                         (a.min(*t), b.max(*t))
                     });
-                let kind = series.time_kind;
+                let kind = series.axis;
                 let input = plateau_chart::ChartInput {
                     times: &series.times,
                     values: &series.values,
@@ -76,6 +75,7 @@ fn run(cli: Cli) -> Result<(), Failure> {
                     format_time: &|t| kind.format(t),
                     time_caption: &series.time_name,
                     value_caption: &series.value_name,
+                    time_axis: Some(series.axis).filter(|a| a.period().is_some()),
                 };
                 plateau_chart::render_svg(plateau_chart::ChartKind::Curve, &input, 900, 560)
                     .map_err(anyhow::Error::from)
@@ -86,7 +86,7 @@ fn run(cli: Cli) -> Result<(), Failure> {
                     .map_err(Failure::Input)?;
             }
             if args.json {
-                print_json(&FitReport::new(&result, &series.warnings))?;
+                print_json(&FitReport::new(&result, &series.warnings).with_time(&series))?;
             } else {
                 emit(&table::fit(&name, &series, &result))?;
             }
@@ -141,7 +141,7 @@ fn run(cli: Cli) -> Result<(), Failure> {
                 .fisher_pry_k
                 .or_else(|| result.param("K").map(|p| p.estimate));
             let fisher_pry = k.and_then(|k| diagnostics::fisher_pry_of(&result, t, y, k));
-            let kind = series.time_kind;
+            let kind = series.axis;
             let format_time = |v: f64| kind.format(v);
             let input = plateau_chart::ChartInput {
                 times: t,
@@ -151,6 +151,7 @@ fn run(cli: Cli) -> Result<(), Failure> {
                 format_time: &format_time,
                 time_caption: &series.time_name,
                 value_caption: &series.value_name,
+                time_axis: Some(series.axis).filter(|a| a.period().is_some()),
             };
             let write = |path: &str, svg: Result<String, plateau_chart::ChartError>| {
                 svg.map_err(anyhow::Error::from)
@@ -189,9 +190,12 @@ fn run(cli: Cli) -> Result<(), Failure> {
         Command::Forecast(args) => {
             let settings = settings::forecast(&args).map_err(Failure::Input)?;
             let (name, series) = read_series(&args.input, &settings.parse)?;
-            let kind = series.time_kind;
+            let kind = series.axis;
+            // On a calendar axis the horizon moves to the data's next grid
+            // point, so every forecast row falls on the grid.
             let until = kind
                 .parse_time(&args.until)
+                .map(|t| kind.snap_up(t))
                 .map_err(|e| Failure::Input(anyhow::anyhow!("--until: {e}")))?;
             let result = fit(&series, settings.model, &settings.fit)
                 .with_context(|| {
@@ -232,17 +236,18 @@ fn run(cli: Cli) -> Result<(), Failure> {
                 .iter()
                 .map(|&t| milestones::assess(&result, t, first, last, boot.as_ref()))
                 .collect();
-            let text = derived_time_text(kind);
+            let text = move |t: f64| kind.format(t);
             let report = ForecastReport::new(
                 &result,
                 until,
-                kind.unit(),
+                &series.time_unit(),
                 &points,
                 &assessed,
                 boot.as_ref(),
                 &text,
                 &series.warnings,
-            );
+            )
+            .with_time_origin(series.time_origin());
             if args.json {
                 print_json(&report)?;
             } else {
@@ -260,7 +265,7 @@ fn run(cli: Cli) -> Result<(), Failure> {
                     settings.model.name()
                 )));
             }
-            let kind = series.time_kind;
+            let kind = series.axis;
             let text = move |t: f64| kind.format(t);
             let report = DriftReport::new(settings.model, &rows, &text, &series.warnings);
             if let Some(path) = &args.svg {
@@ -271,6 +276,7 @@ fn run(cli: Cli) -> Result<(), Failure> {
                         time_caption: &series.time_name,
                         value_caption: &series.value_name,
                         model: settings.model,
+                        time_axis: Some(series.axis).filter(|a| a.period().is_some()),
                     },
                     900,
                     520,
@@ -455,13 +461,4 @@ fn span(t: &[f64]) -> (f64, f64) {
         .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), v| {
             (a.min(*v), b.max(*v))
         })
-}
-
-/// Derived times (forecast rows, milestones) as text: month and quarter
-/// axes are shown to the day, since derived times fall between periods.
-fn derived_time_text(kind: TimeKind) -> impl Fn(f64) -> String {
-    move |t| match kind {
-        TimeKind::Month | TimeKind::Quarter => TimeKind::Date.format(t),
-        _ => kind.format(t),
-    }
 }

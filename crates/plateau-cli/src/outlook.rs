@@ -61,7 +61,12 @@ pub fn forecast(name: &str, r: &ForecastReport, boot: Option<&Bootstrap>) -> Str
     for m in &r.milestones {
         let when = m.time_text.clone().unwrap_or_else(|| "—".into());
         let unit = if m.kind == "duration_10_90" && !r.time_unit.is_empty() {
-            format!(" {}s", r.time_unit)
+            let u = &r.time_unit;
+            if u.ends_with('s') {
+                format!(" {u}")
+            } else {
+                format!(" {u}s")
+            }
         } else {
             String::new()
         };

@@ -2,7 +2,7 @@
 //! digits; `--json` gives full precision.
 
 use plateau_core::compare::Entry;
-use plateau_core::data::TimeKind;
+use plateau_core::data::TimeAxis;
 use plateau_core::diagnostics::{fmt_p, Verdict};
 use plateau_core::report::{CompareReport, DiagnoseReport, CAUTION};
 use plateau_core::{Fit, Series};
@@ -40,9 +40,19 @@ fn opt(x: Option<f64>) -> String {
 /// Parameters that are times on the data's axis.
 const TIME_PARAMS: [&str; 4] = ["t0", "tau", "t01", "t02"];
 
+/// What the time axis counts, for a calendar axis: `months since 2000-01
+/// (rates per month, times and durations in months)`.
+pub fn axis_note(series: &Series) -> Option<String> {
+    let unit = series.axis.unit();
+    let origin = series.time_origin()?;
+    Some(format!(
+        "{unit}s since {origin} (rates per {unit}, times and durations in {unit}s)"
+    ))
+}
+
 /// t0 (tau, t01, t02) as a date (or month, quarter) too, when the input had dates.
-fn time_note(kind: TimeKind, name: &str, t: f64) -> String {
-    if kind == TimeKind::Number || !TIME_PARAMS.contains(&name) || !t.is_finite() {
+fn time_note(kind: TimeAxis, name: &str, t: f64) -> String {
+    if kind.period().is_none() || !TIME_PARAMS.contains(&name) || !t.is_finite() {
         String::new()
     } else {
         format!("  ({})", kind.format(t))
@@ -59,6 +69,9 @@ pub fn fit(name: &str, series: &Series, f: &Fit) -> String {
         series.value_name,
         series.time_name
     );
+    if let Some(note) = axis_note(series) {
+        let _ = writeln!(s, "time       {note}");
+    }
     let _ = writeln!(
         s,
         "solver     {} after {} iterations ({})",
@@ -121,7 +134,7 @@ pub fn fit(name: &str, series: &Series, f: &Fit) -> String {
             se,
             interval,
             method,
-            time_note(series.time_kind, p.name, p.estimate)
+            time_note(series.axis, p.name, p.estimate)
         );
     }
     for p in f.params.iter().filter(|p| !p.identified) {
@@ -147,13 +160,17 @@ pub fn fit(name: &str, series: &Series, f: &Fit) -> String {
             s,
             "peak time  t* = tau + ln(q/p)/(p+q) = {}{}   95% interval {}",
             num(pk.time),
-            time_note(series.time_kind, "t0", pk.time),
+            time_note(series.axis, "t0", pk.time),
             ci(pk.time_ci95)
         );
         let _ = writeln!(
             s,
-            "peak rate  m (p+q)²/(4q) = {} per time unit   95% interval {}   ({}% of m adopted by then)",
+            "peak rate  m (p+q)²/(4q) = {} per {}   95% interval {}   ({}% of m adopted by then)",
             num(pk.rate),
+            match series.time_unit() {
+                u if u.is_empty() => "time unit".to_string(),
+                u => u,
+            },
             ci(pk.rate_ci95),
             num(100.0 * pk.share)
         );

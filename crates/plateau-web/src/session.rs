@@ -358,7 +358,11 @@ pub struct View {
     /// Which model to use and why.
     pub recommendation: plateau_core::compare::Recommendation,
     pub caution: &'static str,
-    pub time_unit: &'static str,
+    /// The axis unit: `day`, `week`, `month`, `quarter`, `year`, or a
+    /// numeric time column's header (`""` without one).
+    pub time_unit: String,
+    /// Axis value 0 in the data's form (`2000-01`, …); `None` for numbers.
+    pub time_origin: Option<String>,
     /// Present when the text held several series.
     pub multi: Option<MultiView>,
     /// The layout used: "single", "wide" or "long".
@@ -707,12 +711,10 @@ fn analyse_series(
     let (_, t_max) = range(&series.times);
     let horizon_end = t_max + settings.horizon * typical_step(&series.times);
     let kind = series.time_kind;
+    let axis = series.axis;
     // Derived times (t0, milestones and their intervals) fall between the
     // input's months or quarters; a day shows where in the period they are.
-    let fmt_t = |t: f64| match kind {
-        TimeKind::Month | TimeKind::Quarter => TimeKind::Date.format(t),
-        _ => kind.format(t),
-    };
+    let fmt_t = |t: f64| axis.format(t);
 
     let params = fit
         .params
@@ -865,7 +867,8 @@ fn analyse_series(
         lr_tests,
         recommendation,
         caution: CAUTION,
-        time_unit: kind.unit(),
+        time_unit: series.time_unit(),
+        time_origin: series.time_origin(),
         multi: None,
         layout: "single",
     };
@@ -941,7 +944,7 @@ fn milestone_rows(
 fn milestone_row(a: &Assessment, fmt_t: &dyn Fn(f64) -> String) -> MilestoneRow {
     let duration = a.target == Target::Duration1090;
     let show = a.verdict.shows_time();
-    // Durations are lengths of time (years on calendar axes), not dates.
+    // Durations are lengths of time (in the axis' period), not dates.
     let text = |t: f64| {
         if duration {
             trim4(t)
@@ -1006,11 +1009,8 @@ pub fn start_bootstrap(a: &Analysis) -> Result<Bootstrap, UpdateError> {
 
 /// The bootstrap's progress and, once it has replicates, its intervals.
 pub fn bootstrap_view(a: &Analysis, b: &Bootstrap) -> BootstrapView {
-    let kind = a.series.time_kind;
-    let fmt_t = |t: f64| match kind {
-        TimeKind::Month | TimeKind::Quarter => TimeKind::Date.format(t),
-        _ => kind.format(t),
-    };
+    let axis = a.series.axis;
+    let fmt_t = |t: f64| axis.format(t);
     let (t_min, t_max) = range(&a.series.times);
     let finished = b.is_finished();
     let o = b.options();
@@ -1067,7 +1067,7 @@ pub fn typical_step(t: &[f64]) -> f64 {
 impl Analysis {
     /// `plateau fit --json`'s report for this fit.
     pub fn report_json(&self) -> String {
-        let report = FitReport::new(&self.fit, &self.series.warnings);
+        let report = FitReport::new(&self.fit, &self.series.warnings).with_time(&self.series);
         serde_json::to_string_pretty(&report).unwrap_or_else(|e| format!("{{\"error\":\"{e}\"}}"))
     }
 
@@ -1100,7 +1100,7 @@ impl Analysis {
     /// One row per observation (time, observed, fitted, 95% band), then one
     /// row per period of the forecast (time, forecast, band).
     pub fn table_csv(&self) -> String {
-        let kind = self.series.time_kind;
+        let kind = self.series.axis;
         let mut s = String::from("time,axis,observed,fitted,forecast,lower95,upper95\n");
         let band = |t: f64| analysis::band(&self.fit, t, 0.95);
         let cell = |x: Option<f64>| x.map_or(String::new(), |v| format!("{v}"));

@@ -52,6 +52,7 @@ impl Case {
             format_time: &plain_time,
             time_caption: "year",
             value_caption: "users",
+            time_axis: None,
         }
     }
 }
@@ -561,6 +562,7 @@ fn drift_chart_shows_one_marker_and_bar_per_prefix() {
         format_time: &plain_time,
         time_caption: "year",
         value_caption: "users",
+        time_axis: None,
         model: Model::Logistic,
     };
     let svg = render_drift_svg(&rows, &input, W, H).expect("render");

@@ -70,7 +70,9 @@ pub fn forecast(name: &str, r: &ForecastReport, boot: Option<&Bootstrap>) -> Str
         } else {
             String::new()
         };
-        let delta = if m.time_text.is_some() {
+        let delta = if let Some([lo, hi]) = &m.delta95_text {
+            format!("{lo} … {hi}")
+        } else if m.time_text.is_some() {
             pair(m.delta95)
         } else {
             "-".into()

@@ -139,6 +139,9 @@ pub struct MilestoneReport {
     pub time_text: Option<String>,
     /// 95% delta-method interval (axis values or durations).
     pub delta95: Option<[f64; 2]>,
+    /// `delta95` as times in the data's form (like `time_text`); `null`
+    /// for the duration and when the verdict withholds the time.
+    pub delta95_text: Option<[String; 2]>,
     /// 95% bootstrap percentile interval; an end is `null` when it does not
     /// exist (upper end: too many refits never reach the milestone).
     pub bootstrap95: Option<[Option<f64>; 2]>,
@@ -164,6 +167,10 @@ impl MilestoneReport {
                 }
             }),
             delta95: a.delta.map(|(x, y)| [x, y]),
+            delta95_text: a
+                .delta
+                .filter(|_| !is_duration && a.verdict.shows_time())
+                .map(|(x, y)| [text(x), text(y)]),
             bootstrap95: a.bootstrap.map(|q| [q.lo, q.hi]),
             bootstrap_reached: a.bootstrap.map(|q| q.share_existing()),
         }

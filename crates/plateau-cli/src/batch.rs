@@ -154,7 +154,7 @@ pub fn fit_one(item: Result<NamedSeries, SeriesFailure>, opts: &Options) -> Outc
             match fit(&ns.series, opts.model, &opts.fit) {
                 Ok(f) => Outcome {
                     summary: SeriesSummary::from_fit(&ns.name, &ns.series, &f),
-                    fit: Some(FitReport::new(&f, &ns.series.warnings)),
+                    fit: Some(FitReport::new(&f, &ns.series.warnings).with_time(&ns.series)),
                 },
                 Err(e) => Outcome {
                     summary: SeriesSummary::from_error(

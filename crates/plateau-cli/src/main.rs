@@ -118,7 +118,8 @@ fn run(cli: Cli) -> Result<(), Failure> {
                 )));
             }
             let report =
-                CompareReport::with_data(&entries, &series.warnings, &series.times, &series.values);
+                CompareReport::with_data(&entries, &series.warnings, &series.times, &series.values)
+                    .with_time(&series);
             if args.json {
                 print_json(&report)?;
             } else {
@@ -173,8 +174,9 @@ fn run(cli: Cli) -> Result<(), Failure> {
                     plateau_chart::render_fisher_pry_svg(&input, settings.fisher_pry_k, 900, 560),
                 )?;
             }
-            let report =
+            let mut report =
                 DiagnoseReport::new(&result, &series.warnings, residuals, symmetry, fisher_pry);
+            report.fit = report.fit.with_time(&series);
             if args.json {
                 print_json(&report)?;
             } else {

@@ -831,7 +831,7 @@ fn build_series(
     };
 
     // A column of Unix epoch seconds or milliseconds is read as dates
-    // (see `time::epoch_of` for when; the axis is the decimal year).
+    // (see `time::epoch_of` for when; the axis counts days with the time of day).
     let epoch = match time::epoch_of(std::iter::once(first_row.time)) {
         Some(unit) if time_kind == TimeKind::Number => {
             // Every row must be the same unit; one pass, no copy of the rows.

@@ -211,9 +211,21 @@ pub struct CompareReport {
     /// filled by [`CompareReport::with_data`].
     pub recommendation: Option<Recommendation>,
     pub warnings: Vec<Warning>,
+    /// As in [`FitReport`]: the axis unit and origin (see `with_time`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub time_unit: Option<String>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub time_origin: Option<String>,
 }
 
 impl CompareReport {
+    /// The report with the series' time unit and origin.
+    pub fn with_time(mut self, series: &crate::data::Series) -> CompareReport {
+        self.time_unit = Some(series.time_unit());
+        self.time_origin = series.time_origin();
+        self
+    }
+
     pub fn new(entries: &[Entry], data_warnings: &[Warning]) -> CompareReport {
         let min_bic = entries
             .iter()
@@ -260,6 +272,8 @@ impl CompareReport {
             lr_tests: nested_tests(entries),
             recommendation: None,
             warnings: data_warnings.to_vec(),
+            time_unit: None,
+            time_origin: None,
         }
     }
 

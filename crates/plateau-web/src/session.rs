@@ -336,7 +336,8 @@ pub struct View {
     /// Data-input warnings first, then the fit's.
     pub warnings: Vec<Warning>,
     pub milestones: Vec<MilestoneRow>,
-    /// Years (date axes) or time units: ln(81)/r for the logistic.
+    /// In the axis' unit (`time_unit`: days, weeks, months, quarters or
+    /// years on dated axes): ln(81)/r for the logistic.
     pub duration_10_90: Option<f64>,
     /// The fitted model's name for its saturation level (`K`, Bass's `m`,
     /// `K1 + K2`), for the page's sentences.

@@ -1416,6 +1416,11 @@ fn quarters_stay_quarters_and_numbers_take_their_header() {
     }
     let t0 = &f["milestones"][1];
     assert!(t0["time_text"].as_str().unwrap().contains('Q'), "{t0}");
+    let c = json(&plateau(&["compare", "-", "--json"], Some(text)));
+    assert_eq!(c["time_unit"], "quarter");
+    let d = json(&plateau(&["diagnose", "-", "--json"], Some(text)));
+    assert_eq!(d["fit"]["time_unit"], "quarter");
+    assert_eq!(d["fit"]["time_origin"], "2000Q1");
     let w = json(&plateau(
         &[
             "forecast",

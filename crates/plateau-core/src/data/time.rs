@@ -362,12 +362,29 @@ impl TimeAxis {
         let placed = match parse(text, kind, Decimal::Point) {
             Ok(raw) => Ok(self.to_axis(raw)),
             Err(e) => {
+                // A month (`2024-06`) on a month-based grid of dates: that
+                // month's grid date.
+                let month = (kind == TimeKind::Date)
+                    .then(|| month_parts(text))
+                    .flatten()
+                    .filter(|&(_, m)| (1..=12).contains(&m))
+                    .and_then(|(y, m)| match self.grid {
+                        Grid::Months { anchor, .. } => {
+                            let day = match anchor {
+                                Anchor::Day(d) => d,
+                                Anchor::End => last_day(y, m)?,
+                            };
+                            NaiveDate::from_ymd_opt(y, m, day)
+                        }
+                        _ => None,
+                    })
+                    .and_then(|d| self.days_to_axis(f64::from(days_of(d))));
                 let year = (kind != TimeKind::Number)
                     .then(|| parse(text, TimeKind::Number, Decimal::Point).ok())
                     .flatten()
                     .and_then(decimal_year_days)
                     .and_then(|d| self.days_to_axis(d));
-                year.ok_or(e)
+                month.or(year).ok_or(e)
             }
         };
         match placed {

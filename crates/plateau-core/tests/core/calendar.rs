@@ -149,4 +149,9 @@ fn forecast_rows_fall_on_the_grid() {
     let s = parse(cases[0].0);
     let t = s.axis.snap_up(s.axis.parse_time("2024-03-15").unwrap());
     assert_eq!(s.axis.format(t), "2024-03-31");
+    // A month names its grid date; a decimal year its day.
+    let t = s.axis.parse_time("2024-06").unwrap();
+    assert_eq!((t.fract(), s.axis.format(t).as_str()), (0.0, "2024-06-30"));
+    let t = s.axis.parse_time("2024.5").unwrap();
+    assert_eq!(s.axis.format(s.axis.snap_up(t)), "2024-07-31");
 }

@@ -839,6 +839,44 @@ proptest! {
         prop_assert_eq!(s.axis.format(s.times[0]), written);
     }
 
+    /// Month, quarter and year grids of dates (1st, 15th or month end),
+    /// written with chrono: one period apart on the axis, and each time
+    /// shown back exactly as written.
+    #[test]
+    fn date_grids_round_trip(
+        year in 1900i32..=2100,
+        month0 in 0u32..12,
+        step in prop::sample::select(vec![1u32, 3, 12]),
+        day in prop::sample::select(vec![1u32, 15, 0]),
+        n in 2usize..30,
+    ) {
+        let date = |k: u32| {
+            let m = month0 + k * step;
+            let (y, m) = (year + (m / 12) as i32, m % 12 + 1);
+            match day {
+                0 => chrono::NaiveDate::from_ymd_opt(y, m, 1)
+                    .and_then(|d| d.checked_add_months(chrono::Months::new(1)))
+                    .and_then(|d| d.pred_opt())
+                    .unwrap(),
+                d => chrono::NaiveDate::from_ymd_opt(y, m, d).unwrap(),
+            }
+        };
+        let written: Vec<String> = (0..n as u32).map(|k| date(k).format("%Y-%m-%d").to_string()).collect();
+        let text: String = std::iter::once("d,v\n".to_string())
+            .chain(written.iter().map(|w| format!("{w},1\n")))
+            .collect();
+        let s = parse(&text).map_err(|e| TestCaseError::fail(e.to_string()))?;
+        let period = match step { 1 => Period::Month, 3 => Period::Quarter, _ => Period::Year };
+        prop_assert_eq!(s.axis.period(), Some(period));
+        for (k, w) in s.times.windows(2).enumerate() {
+            prop_assert_eq!(w[1] - w[0], 1.0, "{}", k);
+        }
+        for (t, w) in s.times.iter().zip(&written) {
+            prop_assert_eq!(&s.axis.format(*t), w);
+            prop_assert_eq!(s.axis.parse_time(w).unwrap(), *t);
+        }
+    }
+
     #[test]
     fn months_and_quarters_round_trip(year in 1000i32..=9999, month in 1u32..=12) {
         let m = format!("{year:04}-{month:02}");

@@ -224,9 +224,15 @@ impl TimeAxis {
     /// [`parse`]); `epoch` columns stay on days (they carry times of day).
     pub(super) fn detect(kind: TimeKind, raws: &[f64], epoch: bool) -> TimeAxis {
         let months = |base: i32, anchor: Anchor, m: &mut dyn Iterator<Item = i64>| {
-            let m: Vec<i64> = m.collect();
-            let lo = m.iter().copied().min().unwrap_or(0);
-            let g = m.iter().fold(0, |g, &x| gcd(g, x - lo));
+            // One pass, no copy: the gcd of the steps from the first time
+            // is the gcd of all pairwise steps.
+            let (mut first, mut lo, mut g) = (None, i64::MAX, 0);
+            for x in m {
+                let x0 = *first.get_or_insert(x);
+                lo = lo.min(x);
+                g = gcd(g, x - x0);
+            }
+            let lo = if lo == i64::MAX { 0 } else { lo };
             let step = if g != 0 && g % 12 == 0 {
                 12
             } else if g != 0 && g % 3 == 0 {
@@ -517,7 +523,8 @@ impl TimeAxis {
     }
 }
 
-/// The grid of a date column (raw times are chrono day counts).
+/// The grid of a date column (raw times are chrono day counts), in passes
+/// over the times without a copy of them.
 fn date_grid(
     raws: &[f64],
     months: &dyn Fn(i32, Anchor, &mut dyn Iterator<Item = i64>) -> Grid,
@@ -525,38 +532,32 @@ fn date_grid(
     let days_grid = Grid::Days {
         origin: day_origin(),
     };
-    let dates: Option<Vec<NaiveDate>> = raws.iter().map(|&r| date_of_days(r as i64)).collect();
-    let Some(dates) = dates else {
-        return days_grid;
-    };
-    let Some(&first) = dates.first() else {
-        return days_grid;
-    };
-    if dates.iter().all(|d| *d == first) {
+    let dates = || raws.iter().map(|&r| date_of_days(r as i64));
+    if dates().any(|d| d.is_none()) {
         return days_grid;
     }
-    let anchor = if first.day() <= 28 && dates.iter().all(|d| d.day() == first.day()) {
+    let dates = || dates().flatten();
+    let Some(first) = dates().next() else {
+        return days_grid;
+    };
+    if dates().all(|d| d == first) {
+        return days_grid;
+    }
+    let anchor = if first.day() <= 28 && dates().all(|d| d.day() == first.day()) {
         Some(Anchor::Day(first.day()))
-    } else if dates.iter().all(|d| is_month_end(*d)) {
+    } else if dates().all(is_month_end) {
         Some(Anchor::End)
     } else {
         None
     };
     if let Some(anchor) = anchor {
-        return months(
-            1,
-            anchor,
-            &mut dates.iter().map(|d| i64::from(month_index(*d))),
-        );
+        return months(1, anchor, &mut dates().map(|d| i64::from(month_index(d))));
     }
-    let lo = dates
-        .iter()
-        .map(|d| i64::from(days_of(*d)))
-        .min()
-        .unwrap_or(0);
-    let g = dates
-        .iter()
-        .fold(0, |g, d| gcd(g, i64::from(days_of(*d)) - lo));
+    let d0 = i64::from(days_of(first));
+    let (lo, g) = dates().fold((d0, 0), |(lo, g), d| {
+        let x = i64::from(days_of(d));
+        (lo.min(x), gcd(g, x - d0))
+    });
     if g % 7 == 0 {
         let offset = (lo - i64::from(week_origin())).rem_euclid(7) as i32;
         Grid::Weeks {

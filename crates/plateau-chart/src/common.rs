@@ -5,6 +5,8 @@
 
 use crate::palette::GRAPHITE;
 use crate::{ChartError, ChartInput};
+use plateau_core::data::TimeAxis;
+use plotters::coord::ranged1d::{DefaultFormatting, KeyPointHint};
 use plotters::coord::types::RangedCoordf64;
 use plotters::coord::Shift;
 use plotters::prelude::*;
@@ -15,7 +17,51 @@ use plotters::style::text_anchor::{HPos, Pos, VPos};
 pub const MIN_SIDE: u32 = 48;
 
 /// The chart's Cartesian context in axis units.
-pub type Chart<'a, 'b, DB> = ChartContext<'a, DB, Cartesian2d<RangedCoordf64, RangedCoordf64>>;
+pub type Chart<'a, 'b, DB> = ChartContext<'a, DB, Cartesian2d<TimeCoord, RangedCoordf64>>;
+
+/// The time axis: a linear `f64` coordinate whose tick marks are given
+/// (labelled `bold` ones, finer `light` grid lines), so a dated axis ticks
+/// on calendar boundaries ([`time_ticks`]).
+#[derive(Clone)]
+pub struct TimeCoord {
+    inner: RangedCoordf64,
+    bold: Vec<f64>,
+    light: Vec<f64>,
+}
+
+impl TimeCoord {
+    /// The axis over `x` with the ticks of `axis` (plotters' evenly
+    /// spaced numbers for plain numbers), at most `labels` labelled.
+    pub fn new(axis: Option<TimeAxis>, x: (f64, f64), labels: usize) -> TimeCoord {
+        let (bold, light) = time_ticks(axis, x, labels);
+        TimeCoord {
+            inner: (x.0..x.1).into(),
+            bold,
+            light,
+        }
+    }
+}
+
+impl Ranged for TimeCoord {
+    type FormatOption = DefaultFormatting;
+    type ValueType = f64;
+
+    fn map(&self, value: &f64, limit: (i32, i32)) -> i32 {
+        self.inner.map(value, limit)
+    }
+
+    fn key_points<Hint: KeyPointHint>(&self, hint: Hint) -> Vec<f64> {
+        if hint.weight().allow_light_points() {
+            self.light.clone()
+        } else {
+            self.bold.clone()
+        }
+    }
+
+    fn range(&self) -> std::ops::Range<f64> {
+        self.inner.range()
+    }
+}
 
 /// Pixel sizes relative to a reference chart of 800 × 500 pixels.
 ///
@@ -245,19 +291,20 @@ pub fn frame<'a, 'b, DB: DrawingBackend>(
     scale: Scale,
 ) -> Result<Chart<'a, 'b, DB>, ChartError> {
     area.fill(&WHITE)?;
+    let (w, _) = area.dim_in_pixel();
+    let labels = ((w as f64 / scale.font(110.0)) as usize).clamp(2, 12);
     let mut chart = ChartBuilder::on(area)
         .margin(scale.px(12.0))
         .caption(title, scale.text(19.0))
         .x_label_area_size(scale.px(48.0))
         .y_label_area_size(value_label_room(y, scale))
-        .build_cartesian_2d(x.0..x.1, y.0..y.1)?;
-    let (w, _) = area.dim_in_pixel();
+        .build_cartesian_2d(TimeCoord::new(input.time_axis, x, labels), y.0..y.1)?;
     let format_time = input.format_time;
     let x_fmt = move |v: &f64| format_time(*v);
     let y_fmt = |v: &f64| format_value(*v);
     chart
         .configure_mesh()
-        .x_labels(((w as f64 / scale.font(110.0)) as usize).clamp(2, 12))
+        .x_labels(labels)
         .y_labels(6)
         .x_label_formatter(&x_fmt)
         .y_label_formatter(&y_fmt)
@@ -271,6 +318,22 @@ pub fn frame<'a, 'b, DB: DrawingBackend>(
         .set_all_tick_mark_size(scale.px(4.0))
         .draw()?;
     Ok(chart)
+}
+
+/// Tick marks of the time axis on `x`, at most `labels` labelled (bold)
+/// and a finer set of light grid lines: on natural calendar boundaries for
+/// a dated axis ([`TimeAxis::ticks`]), else plotters' evenly spaced numbers.
+pub fn time_ticks(axis: Option<TimeAxis>, x: (f64, f64), labels: usize) -> (Vec<f64>, Vec<f64>) {
+    let numeric = |n: usize| RangedCoordf64::from(x.0..x.1).key_points(n);
+    match axis.and_then(|a| a.ticks(x.0, x.1, labels)) {
+        Some(bold) => {
+            let light = axis
+                .and_then(|a| a.ticks(x.0, x.1, 4 * labels))
+                .unwrap_or_else(|| bold.clone());
+            (bold, light)
+        }
+        None => (numeric(labels), numeric(4 * labels)),
+    }
 }
 
 /// Clears `area` and writes `message` in its middle: the chart for an

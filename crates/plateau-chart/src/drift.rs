@@ -20,6 +20,9 @@ pub struct DriftInput<'a> {
     /// Caption of the data's values (K is in their unit).
     pub value_caption: &'a str,
     pub model: Model,
+    /// The calendar of the time axis (ticks on natural boundaries); `None`
+    /// for plain numbers.
+    pub time_axis: Option<plateau_core::data::TimeAxis>,
 }
 
 /// Interval bars wider than this multiple of the estimates' spread are cut
@@ -91,13 +94,14 @@ pub fn draw_drift<DB: DrawingBackend>(
     let clamp = |v: f64| v.clamp(y.0, y.1);
 
     area.fill(&WHITE)?;
+    let (w, _) = area.dim_in_pixel();
+    let labels = ((w as f64 / scale.font(110.0)) as usize).clamp(2, 12);
     let mut chart = ChartBuilder::on(area)
         .margin(scale.px(12.0))
         .caption(&title, scale.text(19.0))
         .x_label_area_size(scale.px(48.0))
         .y_label_area_size(common::value_label_room(y, scale))
-        .build_cartesian_2d(x.0..x.1, y.0..y.1)?;
-    let (w, _) = area.dim_in_pixel();
+        .build_cartesian_2d(common::TimeCoord::new(input.time_axis, x, labels), y.0..y.1)?;
     let format_time = input.format_time;
     let x_fmt = move |v: &f64| format_time(*v);
     let y_fmt = |v: &f64| format_value(*v);
@@ -108,7 +112,7 @@ pub fn draw_drift<DB: DrawingBackend>(
     };
     chart
         .configure_mesh()
-        .x_labels(((w as f64 / scale.font(110.0)) as usize).clamp(2, 12))
+        .x_labels(labels)
         .y_labels(6)
         .x_label_formatter(&x_fmt)
         .y_label_formatter(&y_fmt)

@@ -31,6 +31,7 @@ mod rate;
 mod reflection;
 mod residuals;
 
+use plateau_core::data::TimeAxis;
 use plateau_core::fit::Fit;
 use plotters::coord::Shift;
 use plotters::prelude::*;
@@ -64,6 +65,10 @@ pub struct ChartInput<'a> {
     pub time_caption: &'a str,
     /// Caption of the value axis.
     pub value_caption: &'a str,
+    /// The calendar of the time axis, when the data were dated: ticks then
+    /// fall on natural boundaries (days, weeks, months, quarters, years) and
+    /// the rate view is per the data's period. `None` for plain numbers.
+    pub time_axis: Option<TimeAxis>,
 }
 
 /// Which chart to draw.

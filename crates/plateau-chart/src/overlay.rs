@@ -107,16 +107,17 @@ pub fn draw_overlay<DB: DrawingBackend>(
     let y = common::padded((y_lo.clamp(-0.25, 0.0), y_hi.clamp(1.0, 1.5)), 0.04);
 
     area.fill(&WHITE)?;
+    let (w, _) = area.dim_in_pixel();
+    let labels = ((w as f64 / scale.font(110.0)) as usize).clamp(2, 12);
     let mut chart = ChartBuilder::on(area)
         .margin(scale.px(12.0))
         .caption(title, scale.text(19.0))
         .x_label_area_size(scale.px(48.0))
         .y_label_area_size(scale.px(60.0))
-        .build_cartesian_2d(x.0..x.1, y.0..y.1)?;
-    let (w, _) = area.dim_in_pixel();
+        .build_cartesian_2d(common::TimeCoord::new(None, x, labels), y.0..y.1)?;
     chart
         .configure_mesh()
-        .x_labels(((w as f64 / scale.font(110.0)) as usize).clamp(2, 12))
+        .x_labels(labels)
         .y_labels(6)
         .x_label_formatter(&|v| common::format_value(*v))
         .y_label_formatter(&|v| common::format_value(*v))

@@ -47,6 +47,7 @@ pub fn draw_qq<DB: DrawingBackend>(
     let axis = ChartInput {
         format_time: &fmt_q,
         time_caption: "standard normal quantile",
+        time_axis: None,
         ..*input
     };
     let caption = format!("residual ({})", input.value_caption);

@@ -110,7 +110,12 @@ pub fn draw_rate<DB: DrawingBackend>(
     // Headroom for the peak label and the legend above the curve.
     let y = (y.0, y.1 + 0.12 * (y.1 - y.0));
 
-    let caption = format!("{} per {}", input.value_caption, input.time_caption);
+    // Rates are per unit of the axis: the data's period when dated.
+    let per = input
+        .time_axis
+        .and_then(|a| a.period())
+        .map_or(input.time_caption, |p| p.name());
+    let caption = format!("{} per {}", input.value_caption, per);
     let mut chart = common::frame(area, input, &title, &caption, x, y, scale)?;
 
     chart.draw_series(LineSeries::new(

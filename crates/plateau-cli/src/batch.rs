@@ -169,7 +169,9 @@ pub fn fit_one(item: Result<NamedSeries, SeriesFailure>, opts: &Options) -> Outc
             match study.fitted() {
                 Ok(f) => Outcome {
                     summary: SeriesSummary::from_fit(&ns.name, study.series(), f),
-                    fit: Some(FitReport::new(f, &study.series().warnings)),
+                    fit: Some(
+                        FitReport::new(f, &study.series().warnings).with_time(study.series()),
+                    ),
                 },
                 Err(e) => Outcome {
                     summary: SeriesSummary::from_error(

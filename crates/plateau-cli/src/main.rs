@@ -53,7 +53,7 @@ fn run(cli: Cli) -> Result<(), Failure> {
             if let Some(path) = &args.svg {
                 // The chart's forecast runs a quarter of the data's span past the last point.
                 let (first, last) = span(&series.times);
-                let kind = series.time_kind;
+                let kind = series.axis;
                 let input = plateau_chart::ChartInput {
                     times: &series.times,
                     values: &series.values,
@@ -62,6 +62,7 @@ fn run(cli: Cli) -> Result<(), Failure> {
                     format_time: &|t| kind.format(t),
                     time_caption: &series.time_name,
                     value_caption: &series.value_name,
+                    time_axis: Some(series.axis).filter(|a| a.period().is_some()),
                 };
                 plateau_chart::render_svg(plateau_chart::ChartKind::Curve, &input, 900, 560)
                     .map_err(anyhow::Error::from)
@@ -111,7 +112,7 @@ fn run(cli: Cli) -> Result<(), Failure> {
             let (name, study) = study(&args.input, settings)?;
             let result = study.fitted().map_err(|e| fail(&name, e))?;
             let series = study.fitted_series();
-            let kind = series.time_kind;
+            let kind = series.axis;
             let format_time = |v: f64| kind.format(v);
             let input = plateau_chart::ChartInput {
                 times: &series.times,
@@ -121,6 +122,7 @@ fn run(cli: Cli) -> Result<(), Failure> {
                 format_time: &format_time,
                 time_caption: &series.time_name,
                 value_caption: &series.value_name,
+                time_axis: Some(series.axis).filter(|a| a.period().is_some()),
             };
             let write = |path: &str, svg: Result<String, plateau_chart::ChartError>| {
                 svg.map_err(anyhow::Error::from)
@@ -177,7 +179,7 @@ fn run(cli: Cli) -> Result<(), Failure> {
             let report = study.drift_report().map_err(|e| fail(&name, e))?;
             if let Some(path) = &args.svg {
                 let series = study.series();
-                let kind = series.time_kind;
+                let kind = series.axis;
                 let text = move |t: f64| kind.format(t);
                 let svg = plateau_chart::render_drift_svg(
                     study.drift(),
@@ -186,6 +188,7 @@ fn run(cli: Cli) -> Result<(), Failure> {
                         time_caption: &series.time_name,
                         value_caption: &study.fitted_value_name(),
                         model: study.request().model,
+                        time_axis: Some(series.axis).filter(|a| a.period().is_some()),
                     },
                     900,
                     520,

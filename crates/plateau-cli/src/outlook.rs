@@ -73,7 +73,12 @@ pub fn forecast(name: &str, r: &ForecastReport, boot: Option<&Bootstrap>) -> Str
     let _ = writeln!(s, "milestones");
     for m in &r.milestones {
         let unit = if m.kind == "duration_10_90" && !r.time_unit.is_empty() {
-            format!(" {}s", r.time_unit)
+            let u = &r.time_unit;
+            if u.ends_with('s') {
+                format!(" {u}")
+            } else {
+                format!(" {u}s")
+            }
         } else {
             String::new()
         };
@@ -92,7 +97,9 @@ pub fn forecast(name: &str, r: &ForecastReport, boot: Option<&Bootstrap>) -> Str
             (Some(t), _) => t.clone(),
             (None, _) => "—".into(),
         };
-        let delta = if m.time_text.is_some() {
+        let delta = if let Some([lo, hi]) = &m.delta95_text {
+            format!("{lo} … {hi}")
+        } else if m.time_text.is_some() {
             pair_by(show, m.delta95)
         } else {
             "-".into()

@@ -3,7 +3,7 @@
 //! supports); `--json` gives full precision.
 
 use plateau_core::compare::Entry;
-use plateau_core::data::TimeKind;
+use plateau_core::data::TimeAxis;
 use plateau_core::diagnostics::Verdict;
 use plateau_core::{Fit, Series};
 use plateau_study::numbers::{self, number, probability, Precision};
@@ -15,9 +15,19 @@ fn opt(x: Option<f64>) -> String {
     x.map_or("-".into(), number)
 }
 
+/// What the time axis counts, for a calendar axis: `months since 2000-01
+/// (rates per month, times and durations in months)`.
+pub fn axis_note(series: &Series) -> Option<String> {
+    let unit = series.axis.unit();
+    let origin = series.time_origin()?;
+    Some(format!(
+        "{unit}s since {origin} (rates per {unit}, times and durations in {unit}s)"
+    ))
+}
+
 /// t0 (tau, t01, t02) as a date (or month, quarter) too, when the input had dates.
-fn time_note(kind: TimeKind, is_time: bool, t: f64) -> String {
-    if kind == TimeKind::Number || !is_time || !t.is_finite() {
+fn time_note(kind: TimeAxis, is_time: bool, t: f64) -> String {
+    if kind.period().is_none() || !is_time || !t.is_finite() {
         String::new()
     } else {
         format!("  ({})", kind.format(t))
@@ -34,6 +44,9 @@ pub fn fit(name: &str, series: &Series, f: &Fit) -> String {
         series.value_name,
         series.time_name
     );
+    if let Some(note) = axis_note(series) {
+        let _ = writeln!(s, "time       {note}");
+    }
     let _ = writeln!(
         s,
         "solver     {} after {} iterations ({})",
@@ -108,7 +121,7 @@ pub fn fit(name: &str, series: &Series, f: &Fit) -> String {
             se,
             interval,
             method,
-            time_note(series.time_kind, is_time_param(f.model, p.name), p.estimate)
+            time_note(series.axis, is_time_param(f.model, p.name), p.estimate)
         );
     }
     for p in f.params.iter().filter(|p| !p.identified) {
@@ -137,13 +150,17 @@ pub fn fit(name: &str, series: &Series, f: &Fit) -> String {
             s,
             "peak time  t* = tau + ln(q/p)/(p+q) = {}{}   95% interval {}",
             Precision::of_interval(pk.time, pk.time_ci95.map(|(a, b)| [a, b])).show_time(pk.time),
-            time_note(series.time_kind, true, pk.time),
+            time_note(series.axis, true, pk.time),
             ci(pk.time, pk.time_ci95, true)
         );
         let _ = writeln!(
             s,
-            "peak rate  m (p+q)²/(4q) = {} per time unit   95% interval {}   ({}% of m adopted by then)",
+            "peak rate  m (p+q)²/(4q) = {} per {}   95% interval {}   ({}% of m adopted by then)",
             Precision::of_interval(pk.rate, pk.rate_ci95.map(|(a, b)| [a, b])).show(pk.rate),
+            match series.time_unit() {
+                u if u.is_empty() => "time unit".to_string(),
+                u => u,
+            },
             ci(pk.rate, pk.rate_ci95, false),
             number(100.0 * pk.share)
         );

@@ -38,31 +38,36 @@ use std::borrow::Cow;
 use std::collections::HashMap;
 use std::fmt;
 use time::TimeError;
+pub use time::{Period, TimeAxis, ORIGIN_YEAR};
 
 /// How the time column was written, which decides the numeric axis and how
-/// axis values are shown again ([`TimeKind::format`]).
+/// axis values are shown again ([`TimeAxis::format`]).
 ///
-/// On the three calendar axes (`Date`, `Month`, `Quarter`) a difference of 1
-/// is one year, so a growth rate `r` fitted on them is per year.
+/// Calendar columns (`Date`, `Week`, `Month`, `Quarter`) are counted in the
+/// data's own period from a fixed origin in 2000 ([`TimeAxis`]), so a growth
+/// rate `r` fitted on them is per day, week, month, quarter or year.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "snake_case")]
 pub enum TimeKind {
     /// Plain numbers (including years such as `2019`): the axis is the number itself.
     Number,
-    /// ISO dates `YYYY-MM-DD`: the axis is the decimal year
-    /// `year + ordinal0 / days_in_year` (365 or 366), so 1 January is `year + 0`.
+    /// ISO dates `YYYY-MM-DD`: days since 2000-01-01, or on the coarser
+    /// grid the dates fit (month-start or month-end dates count months,
+    /// quarters or years; dates 7 days apart count weeks; see [`TimeAxis`]).
     ///
     /// Also a column of Unix epoch times (UTC): every time a whole number
     /// of 10 digits above 1e9 (seconds, 2001-09-09 to 2286-11-20) or every
     /// time one of 13 digits (milliseconds, the same span). The axis is then
-    /// the decimal year with the time of day,
-    /// `year + (ordinal0 + seconds_of_day / 86400) / days_in_year`, and an
+    /// days since 2000-01-01 with the time of day as a fraction, and an
     /// `epoch_times` warning says so.
     Date,
-    /// Year-months `YYYY-MM`: the axis is `year + (month - 1) / 12`.
+    /// ISO weeks `2024-W09` or `2024W09`: weeks since 2000-W01.
+    Week,
+    /// Year-months `YYYY-MM`: months since 2000-01, `12·(year − 2000) + month − 1`
+    /// (quarters or years when every step is 3 or 12 months).
     Month,
-    /// Quarters `2024Q3`, `2024-Q3` or `2024 Q3` (any case): the axis is
-    /// `year + (quarter - 1) / 4`.
+    /// Quarters `2024Q3`, `2024-Q3` or `2024 Q3` (any case): quarters since
+    /// 2000Q1 (years when every step is 4 quarters).
     Quarter,
 }
 
@@ -92,6 +97,9 @@ pub struct ParseOptions {
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Series {
     pub time_kind: TimeKind,
+    /// The numeric axis of `times`: its period, origin, and how its values
+    /// are shown as text (see [`TimeAxis`]).
+    pub axis: TimeAxis,
     /// Header name of the time column, or `"time"` without a header.
     pub time_name: String,
     /// Header name of the value column, or `"value"` without a header.
@@ -112,6 +120,26 @@ pub struct Series {
     /// 1-based line number in the input text of each kept row.
     pub lines: Vec<usize>,
     pub warnings: Vec<Warning>,
+}
+
+impl Series {
+    /// The unit of the time axis, the JSON's `time_unit`: the period of a
+    /// calendar axis (`day`, `week`, `month`, `quarter`, `year`), or for
+    /// plain numbers the time column's header as written (trimmed; `""`
+    /// without a header row), since the numbers are in whatever unit it names.
+    pub fn time_unit(&self) -> String {
+        match self.axis.period() {
+            Some(p) => p.name().to_string(),
+            None if self.has_header => self.time_name.trim().to_string(),
+            None => String::new(),
+        }
+    }
+
+    /// Axis value 0 in the data's form (`2000-01`, `2000-01-31`, …), the
+    /// JSON's `time_origin`; `None` for plain numbers.
+    pub fn time_origin(&self) -> Option<String> {
+        self.axis.origin_text()
+    }
 }
 
 /// Why input could not be read.
@@ -371,7 +399,7 @@ fn replicate_counts(times: &[f64]) -> (usize, usize) {
 
 /// The `replicate_times` warning: how many times carry more than one value
 /// and how many rows they have, with the first example.
-fn replicate_warning(times: &[f64], lines: &[usize], kind: TimeKind) -> Option<Warning> {
+fn replicate_warning(times: &[f64], lines: &[usize], kind: TimeAxis) -> Option<Warning> {
     let (first, second) = repeated_time(times)?;
     let (repeated, rows) = replicate_counts(times);
     Some(Warning::new(
@@ -404,7 +432,7 @@ fn one_value_per_time(series: &Series, what: &str, instead: &str) -> Result<(), 
         format!(
             "time {} also appears on line {}: {what} needs one value per time, and replicate \
              measurements give several; {instead}",
-            quote(&series.time_kind.format(series.times[first])),
+            quote(&series.axis.format(series.times[first])),
             line(first).unwrap_or(0),
         ),
     ))
@@ -803,7 +831,7 @@ fn build_series(
     };
 
     // A column of Unix epoch seconds or milliseconds is read as dates
-    // (see `time::epoch_of` for when; the axis is the decimal year).
+    // (see `time::epoch_of` for when; the axis counts days with the time of day).
     let epoch = match time::epoch_of(std::iter::once(first_row.time)) {
         Some(unit) if time_kind == TimeKind::Number => {
             // Every row must be the same unit; one pass, no copy of the rows.
@@ -826,7 +854,7 @@ fn build_series(
     let mut lines = Vec::with_capacity(rows.len());
     rows.try_for_each(|row| {
         let t = match epoch {
-            Some(unit) => time::epoch_axis(row.time, unit)
+            Some(unit) => time::epoch_raw(row.time, unit)
                 .ok_or_else(|| bad_time(&row, Some(TimeKind::Number), &time_name))?,
             None => time::parse(row.time, time_kind, dec)
                 .map_err(|e| time_error(e, &row, time_kind, &time_name))?,
@@ -837,6 +865,11 @@ fn build_series(
         lines.push(row.line);
         Ok(())
     })?;
+    // Raw times (day counts, absolute months) onto the data's own grid.
+    let axis = TimeAxis::detect(time_kind, &times, epoch.is_some());
+    for t in &mut times {
+        *t = axis.to_axis(*t);
+    }
 
     let mut warnings = Vec::new();
     if !skipped.is_empty() {
@@ -845,10 +878,10 @@ fn build_series(
             skipped_message(skipped),
         ));
     }
-    if let Some(w) = unsorted_warning(&times, &lines, time_kind) {
+    if let Some(w) = unsorted_warning(&times, &lines, axis) {
         warnings.push(w);
     }
-    if let Some(w) = replicate_warning(&times, &lines, time_kind) {
+    if let Some(w) = replicate_warning(&times, &lines, axis) {
         warnings.push(w);
     }
     if let (Some(unit), Some(first)) = (epoch, rows.first()) {
@@ -864,6 +897,7 @@ fn build_series(
     }
     Ok(Series {
         time_kind,
+        axis,
         time_name,
         value_name,
         columns,
@@ -1375,7 +1409,7 @@ fn field_vote(s: &str) -> Option<Decimal> {
 fn bad_time(row: &Row, kind: Option<TimeKind>, name: &str) -> DataError {
     let expected = match kind {
         Some(k) => format!("expected {} like the rows above", k.expected_form()),
-        None => "expected a number (such as 12 or 2019), a date YYYY-MM-DD, a year-month YYYY-MM or a quarter such as 2024Q3".into(),
+        None => "expected a number (such as 12 or 2019), a date YYYY-MM-DD, an ISO week such as 2024-W09, a year-month YYYY-MM or a quarter such as 2024Q3".into(),
     };
     error(
         DataErrorKind::BadTime,
@@ -1399,6 +1433,7 @@ fn time_error(e: TimeError, row: &Row, kind: TimeKind, name: &str) -> DataError 
                 "{found} is not a real {}; expected {}",
                 match kind {
                     TimeKind::Date => "date",
+                    TimeKind::Week => "ISO week (weeks run from W01 to W52 or W53)",
                     TimeKind::Month => "month (months run from 01 to 12)",
                     TimeKind::Quarter => "quarter (quarters run from Q1 to Q4)",
                     TimeKind::Number => "number",
@@ -1487,7 +1522,7 @@ fn skipped_message(lines: &[usize]) -> String {
 }
 
 /// Names the first line whose time is earlier than the row before it.
-fn unsorted_warning(times: &[f64], lines: &[usize], kind: TimeKind) -> Option<Warning> {
+fn unsorted_warning(times: &[f64], lines: &[usize], kind: TimeAxis) -> Option<Warning> {
     let i = times.windows(2).position(|w| w[1] < w[0])? + 1;
     let (before, t, line) = (times.get(i - 1)?, times.get(i)?, lines.get(i)?);
     Some(Warning::new(

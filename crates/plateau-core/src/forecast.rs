@@ -118,8 +118,9 @@ pub fn point(fit: &Fit, t: f64, observed: Option<f64>, boot: Option<&Bootstrap>)
 
 /// Times after `t_last` up to `until`: every `step` (the data's typical
 /// spacing), and `until` itself as the last point. Empty when `until` is
-/// not after `t_last`. At most `max_points` points (the step is widened
-/// when needed), so a far horizon cannot make an enormous table.
+/// not after `t_last`. At most `max_points` points (the step is widened to
+/// a whole multiple of itself when needed, so points stay on the data's
+/// grid), so a far horizon cannot make an enormous table.
 pub fn grid(t_last: f64, until: f64, step: f64, max_points: usize) -> Vec<f64> {
     if !(until > t_last && step > 0.0 && step.is_finite() && max_points > 0) {
         return Vec::new();
@@ -127,7 +128,7 @@ pub fn grid(t_last: f64, until: f64, step: f64, max_points: usize) -> Vec<f64> {
     let span = until - t_last;
     let mut step = step;
     if span / step > max_points as f64 {
-        step = span / max_points as f64;
+        step *= (span / step / max_points as f64).ceil();
     }
     let mut out = Vec::new();
     let mut k = 1.0;
@@ -251,6 +252,10 @@ mod tests {
         assert!(grid(10.0, 10.0, 1.0, 100).is_empty());
         assert_eq!(grid(0.0, 1e6, 1.0, 50).len(), 50);
         assert_eq!(*grid(0.0, 1e6, 1.0, 50).last().unwrap(), 1e6);
+        // A widened step is a whole number of steps: 1e6 / 50 = 20000.
+        let g = grid(7.0, 7.0 + 1e6, 1.0, 50);
+        assert!(g.iter().all(|t| t.fract() == 0.0), "{g:?}");
+        assert_eq!(g[0], 20_007.0);
         assert_eq!(typical_step(&[3.0, 1.0, 2.0, 2.0, 5.0]), 1.0);
     }
 }

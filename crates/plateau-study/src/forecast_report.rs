@@ -127,6 +127,9 @@ pub struct MilestoneReport {
     pub time_text: Option<String>,
     /// 95% delta-method interval (axis values or durations).
     pub delta95: Option<[f64; 2]>,
+    /// `delta95` as times in the data's form (like `time_text`); `null`
+    /// for the duration and when the verdict withholds the time.
+    pub delta95_text: Option<[String; 2]>,
     /// 95% bootstrap percentile interval; an end is `null` when it does not
     /// exist (upper end: too many refits never reach the milestone).
     pub bootstrap95: Option<[Option<f64>; 2]>,
@@ -152,6 +155,10 @@ impl MilestoneReport {
                 }
             }),
             delta95: a.delta.map(|(x, y)| [x, y]),
+            delta95_text: a
+                .delta
+                .filter(|_| !is_duration && a.verdict.shows_time())
+                .map(|(x, y)| [text(x), text(y)]),
             bootstrap95: a.bootstrap.map(|q| [q.lo, q.hi]),
             bootstrap_reached: a.bootstrap.map(|q| q.share_existing()),
         }
@@ -168,8 +175,13 @@ pub struct ForecastReport {
     pub sigma: f64,
     pub until: f64,
     pub until_text: String,
-    /// Unit of durations: `year` on calendar axes, else empty.
-    pub time_unit: &'static str,
+    /// Unit of the axis and of durations: `day`, `week`, `month`,
+    /// `quarter` or `year` on calendar axes (the data's own period), else
+    /// the time column's header (empty without one).
+    pub time_unit: String,
+    /// Axis value 0 in the data's form (`2000-01`, `2000Q1`, …); `null`
+    /// for plain numbers (see `with_time_origin`).
+    pub time_origin: Option<String>,
     pub params: Ordered<ParamIntervals>,
     pub bootstrap: Option<BootstrapReport>,
     /// Data times first (with observations), then the grid to `until`.
@@ -180,11 +192,17 @@ pub struct ForecastReport {
 }
 
 impl ForecastReport {
+    /// The report with the axis origin's text.
+    pub fn with_time_origin(mut self, origin: Option<String>) -> ForecastReport {
+        self.time_origin = origin;
+        self
+    }
+
     #[allow(clippy::too_many_arguments)]
     pub fn new(
         fit: &Fit,
         until: f64,
-        time_unit: &'static str,
+        time_unit: &str,
         points: &[ForecastPoint],
         milestones: &[Assessment],
         boot: Option<&Bootstrap>,
@@ -200,7 +218,8 @@ impl ForecastReport {
             sigma: fit.sigma,
             until,
             until_text: text(until),
-            time_unit,
+            time_unit: time_unit.to_string(),
+            time_origin: None,
             params: param_intervals(fit, boot),
             bootstrap: boot.map(BootstrapReport::new),
             points: points

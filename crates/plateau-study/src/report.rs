@@ -98,6 +98,15 @@ pub struct FitReport {
     /// The Bass model's adoption peak; `null` for other models and when
     /// `q ≤ p` (no peak after launch).
     pub peak: Option<PeakReport>,
+    /// The unit of the time axis (r is per this unit, t0 and durations are
+    /// in it): `day`, `week`, `month`, `quarter`, `year`, or a numeric time
+    /// column's header; absent when the caller did not say (see `with_time`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub time_unit: Option<String>,
+    /// Axis value 0 in the data's form (`2000-01`, `2000Q1`, `2000-01-31`,
+    /// `2000-W01`, …); absent for plain numbers.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub time_origin: Option<String>,
 }
 
 /// The Bass adoption peak (see `analysis::bass_peak`).
@@ -114,6 +123,13 @@ pub struct PeakReport {
 }
 
 impl FitReport {
+    /// The report with the series' time unit and origin.
+    pub fn with_time(mut self, series: &plateau_core::data::Series) -> FitReport {
+        self.time_unit = Some(series.time_unit());
+        self.time_origin = series.time_origin();
+        self
+    }
+
     /// The report of `fit`; `extra_warnings` (e.g. from data input) come first.
     pub fn new(fit: &Fit, extra_warnings: &[Warning]) -> FitReport {
         let params = fit
@@ -165,6 +181,8 @@ impl FitReport {
                 rate_ci95: p.rate_ci95.map(|(a, b)| [a, b]),
                 share: p.share,
             }),
+            time_unit: None,
+            time_origin: None,
         }
     }
 }
@@ -197,9 +215,21 @@ pub struct CompareReport {
     /// filled by [`CompareReport::with_data`].
     pub recommendation: Option<Recommendation>,
     pub warnings: Vec<Warning>,
+    /// As in [`FitReport`]: the axis unit and origin (see `with_time`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub time_unit: Option<String>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub time_origin: Option<String>,
 }
 
 impl CompareReport {
+    /// The report with the series' time unit and origin.
+    pub fn with_time(mut self, series: &plateau_core::data::Series) -> CompareReport {
+        self.time_unit = Some(series.time_unit());
+        self.time_origin = series.time_origin();
+        self
+    }
+
     pub fn new(entries: &[Entry], data_warnings: &[Warning]) -> CompareReport {
         let min_bic = entries
             .iter()
@@ -246,6 +276,8 @@ impl CompareReport {
             lr_tests: nested_tests(entries),
             recommendation: None,
             warnings: data_warnings.to_vec(),
+            time_unit: None,
+            time_origin: None,
         }
     }
 

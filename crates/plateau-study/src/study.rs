@@ -9,9 +9,7 @@ use crate::request::{Horizon, Request, MAX_FORECAST_ROWS};
 use plateau_core::backtest::{self, BacktestOptions, ModelBacktest};
 use plateau_core::bootstrap::Bootstrap;
 use plateau_core::compare::{compare, Entry};
-use plateau_core::data::{
-    check_increments, decline_warning, per_period_totals, DataError, Series, TimeKind,
-};
+use plateau_core::data::{check_increments, decline_warning, per_period_totals, DataError, Series};
 use plateau_core::diagnostics::{self, FisherPry, ResidualDiagnostics, SymmetryTest};
 use plateau_core::fit::{fit_xy, Fit, FitError, FitOptions, IntervalMethod};
 use plateau_core::forecast::{self, ForecastPoint};
@@ -343,13 +341,16 @@ impl Study {
     /// forecast was asked).
     pub fn forecast_end(&self) -> Result<Option<f64>, StudyError> {
         let (_, last) = span(self.times());
-        let kind = self.series.time_kind;
+        let kind = self.series.axis;
         match &self.request.horizon {
             None => Ok(None),
             Some(Horizon::Periods(h)) => Ok(Some(last + h * typical_step(self.times()))),
             Some(Horizon::Until(text)) => {
+                // On a calendar axis the end moves to the data's next grid
+                // point, so every forecast row falls on the grid.
                 let until = kind
                     .parse_time(text)
+                    .map(|t| kind.snap_up(t))
                     .map_err(|e| input(format!("--until: {e}")))?;
                 if until <= last {
                     return Err(input(format!(
@@ -397,7 +398,7 @@ impl Study {
 
     /// `plateau fit --json` and the page's JSON download.
     pub fn fit_report(&self) -> Result<FitReport, StudyError> {
-        Ok(FitReport::new(self.fitted()?, &self.series.warnings))
+        Ok(FitReport::new(self.fitted()?, &self.series.warnings).with_time(&self.series))
     }
 
     /// `plateau compare --json`.
@@ -408,13 +409,14 @@ impl Study {
             self.times(),
             &self.values,
         )
+        .with_time(&self.series)
     }
 
     /// `plateau diagnose --json`: residual checks, the symmetry test and
     /// the Fisher–Pry check (entered K, else the fitted K).
     pub fn diagnose_report(&self) -> Result<DiagnoseReport, StudyError> {
         let f = self.fitted()?;
-        Ok(DiagnoseReport::new(
+        let mut report = DiagnoseReport::new(
             f,
             &self.series.warnings,
             self.residual_diagnostics().cloned().unwrap_or_else(|| {
@@ -422,25 +424,28 @@ impl Study {
             }),
             self.symmetry_test().cloned(),
             self.fisher_pry().cloned(),
-        ))
+        );
+        report.fit = report.fit.with_time(&self.series);
+        Ok(report)
     }
 
     /// `plateau forecast --json`.
     pub fn forecast_report(&self) -> Result<ForecastReport, StudyError> {
         let o = self.outlook()?;
         let f = self.fitted()?;
-        let kind = self.series.time_kind;
-        let text = derived_time_text(kind);
+        let axis = self.series.axis;
+        let text = move |t: f64| axis.format(t);
         Ok(ForecastReport::new(
             f,
             o.until,
-            kind.unit(),
+            &self.series.time_unit(),
             &o.points,
             &o.milestones,
             o.bootstrap.as_ref(),
             &text,
             &self.series.warnings,
-        ))
+        )
+        .with_time_origin(self.series.time_origin()))
     }
 
     /// `plateau drift --json`; a fit error when no prefix could be fitted.
@@ -452,8 +457,8 @@ impl Study {
                 self.request.model.name()
             )));
         }
-        let kind = self.series.time_kind;
-        let text = move |t: f64| kind.format(t);
+        let axis = self.series.axis;
+        let text = move |t: f64| axis.format(t);
         Ok(DriftReport::new(
             self.request.model,
             rows,
@@ -488,16 +493,6 @@ pub fn span(t: &[f64]) -> (f64, f64) {
 /// The median spacing of the sorted distinct times: one "period".
 pub fn typical_step(t: &[f64]) -> f64 {
     forecast::typical_step(t)
-}
-
-/// Derived times (forecast rows, t0, milestones) as text: month and
-/// quarter axes are shown to the day, since derived times fall between
-/// periods.
-pub fn derived_time_text(kind: TimeKind) -> impl Fn(f64) -> String {
-    move |t| match kind {
-        TimeKind::Month | TimeKind::Quarter => TimeKind::Date.format(t),
-        _ => kind.format(t),
-    }
 }
 
 /// Whether the parameter `name` of `model` is a time on the axis (t0, tau,

@@ -9,7 +9,7 @@
 //! Field and column names are an output contract: add, never rename.
 
 use plateau_core::analysis;
-use plateau_core::data::{Series, TimeKind};
+use plateau_core::data::Series;
 use plateau_core::fit::Fit;
 use plateau_core::warning::Warning;
 use serde::Serialize;
@@ -36,8 +36,13 @@ pub struct SeriesSummary {
     pub k: Option<Estimate>,
     pub r: Option<Estimate>,
     pub t0: Option<Estimate>,
-    /// t0 as a date when the input had dates, months or quarters.
+    /// t0 as text in the data's own form (a date, ISO week, month or
+    /// quarter on the data's grid) when the input was dated.
     pub t0_date: Option<String>,
+    /// The unit of r, t0 and durations: `day`, `week`, `month`, `quarter`,
+    /// `year`, or a numeric time column's header (see `Series::time_unit`);
+    /// `null` when there is no fit.
+    pub time_unit: Option<String>,
     /// Time from 10% to 90% of K (`ln 81 / r` for the logistic), in time units.
     pub duration_10_90: Option<Estimate>,
     pub converged: Option<bool>,
@@ -63,12 +68,9 @@ impl SeriesSummary {
     /// The row of a series that was fitted.
     pub fn from_fit(name: &str, series: &Series, fit: &Fit) -> SeriesSummary {
         let t0 = estimate(fit, "t0");
-        let t0_date = t0.and_then(|t| match series.time_kind {
-            TimeKind::Number => None,
-            TimeKind::Date | TimeKind::Month | TimeKind::Quarter => t
-                .estimate
-                .is_finite()
-                .then(|| TimeKind::Date.format(t.estimate)),
+        let t0_date = t0.and_then(|t| {
+            (series.axis.period().is_some() && t.estimate.is_finite())
+                .then(|| series.axis.format(t.estimate))
         });
         SeriesSummary {
             series: name.to_string(),
@@ -79,6 +81,7 @@ impl SeriesSummary {
             r: estimate(fit, "r"),
             t0,
             t0_date,
+            time_unit: Some(series.time_unit()),
             duration_10_90: analysis::duration_10_90(fit).map(|m| Estimate {
                 estimate: m.time,
                 ci95: m.ci95.map(|(a, b)| [a, b]),
@@ -113,6 +116,7 @@ impl SeriesSummary {
             r: None,
             t0: None,
             t0_date: None,
+            time_unit: None,
             duration_10_90: None,
             converged: None,
             warnings: warnings.to_vec(),

@@ -282,7 +282,7 @@ pub fn with_overlay<T>(
 
 /// Builds the charts' input from an analysis.
 pub fn with_input<T>(a: &Analysis, f: impl FnOnce(&ChartInput) -> T) -> T {
-    let kind = a.series.time_kind;
+    let kind = a.series.axis;
     let format_time = move |t: f64| kind.format(t);
     let value_caption = a.study.fitted_value_name();
     let input = ChartInput {
@@ -293,6 +293,7 @@ pub fn with_input<T>(a: &Analysis, f: impl FnOnce(&ChartInput) -> T) -> T {
         format_time: &format_time,
         time_caption: &a.series.time_name,
         value_caption: &value_caption,
+        time_axis: Some(kind).filter(|a| a.period().is_some()),
     };
     f(&input)
 }
@@ -303,13 +304,14 @@ const DRIFT: &str = "drift";
 
 /// Builds the drift chart's input from an analysis.
 pub fn with_drift_input<T>(a: &Analysis, f: impl FnOnce(&plateau_chart::DriftInput) -> T) -> T {
-    let kind = a.series.time_kind;
+    let kind = a.series.axis;
     let format_time = move |t: f64| kind.format(t);
     let input = plateau_chart::DriftInput {
         format_time: &format_time,
         time_caption: &a.series.time_name,
         value_caption: &a.series.value_name,
         model: a.fit.model,
+        time_axis: Some(kind).filter(|a| a.period().is_some()),
     };
     f(&input)
 }

@@ -21,9 +21,7 @@ use plateau_study::numbers::{self, Precision};
 use plateau_study::report::CAUTION;
 use plateau_study::request::{self, BacktestRequest, Horizon, Request};
 pub use plateau_study::study::typical_step;
-use plateau_study::study::{
-    csv_field, derived_time_text, is_time_param, looks_cumulative, span, Study, StudyError,
-};
+use plateau_study::study::{csv_field, is_time_param, looks_cumulative, span, Study, StudyError};
 use plateau_study::summary::{summary_csv, SeriesSummary};
 use serde::{Deserialize, Serialize};
 use std::fmt::Write;
@@ -328,7 +326,8 @@ pub struct View {
     /// Data-input warnings first, then the fit's.
     pub warnings: Vec<Warning>,
     pub milestones: Vec<MilestoneRow>,
-    /// Years (date axes) or time units: ln(81)/r for the logistic.
+    /// In the axis' unit (`time_unit`: days, weeks, months, quarters or
+    /// years on dated axes): ln(81)/r for the logistic.
     pub duration_10_90: Option<f64>,
     /// The fitted model's name for its saturation level (`K`, Bass's `m`,
     /// `K1 + K2`), for the page's sentences.
@@ -350,7 +349,11 @@ pub struct View {
     /// Which model to use and why.
     pub recommendation: plateau_core::compare::Recommendation,
     pub caution: &'static str,
-    pub time_unit: &'static str,
+    /// The axis unit: `day`, `week`, `month`, `quarter`, `year`, or a
+    /// numeric time column's header (`""` without one).
+    pub time_unit: String,
+    /// Axis value 0 in the data's form (`2000-01`, …); `None` for numbers.
+    pub time_origin: Option<String>,
     /// Present when the text held several series.
     pub multi: Option<MultiView>,
     /// The layout used: "single", "wide" or "long".
@@ -713,9 +716,10 @@ fn analyse_series(
     let (_, t_max) = span(&series.times);
     let horizon_end = study.forecast_end().map_err(update_error)?.unwrap_or(t_max);
     let kind = series.time_kind;
+    let axis = series.axis;
     // Derived times (t0, milestones and their intervals) fall between the
     // input's months or quarters; a day shows where in the period they are.
-    let fmt_t = derived_time_text(kind);
+    let fmt_t = |t: f64| axis.format(t);
 
     let params = fit
         .params
@@ -868,7 +872,8 @@ fn analyse_series(
         lr_tests,
         recommendation,
         caution: CAUTION,
-        time_unit: kind.unit(),
+        time_unit: series.time_unit(),
+        time_origin: series.time_origin(),
         multi: None,
         layout: "single",
         text: ViewText::default(),
@@ -962,7 +967,8 @@ pub fn start_bootstrap(a: &Analysis) -> Result<Bootstrap, UpdateError> {
 
 /// The bootstrap's progress and, once it has replicates, its intervals.
 pub fn bootstrap_view(a: &Analysis, b: &Bootstrap) -> BootstrapView {
-    let fmt_t = derived_time_text(a.series.time_kind);
+    let axis = a.series.axis;
+    let fmt_t = |t: f64| axis.format(t);
     let finished = b.is_finished();
     let o = b.options();
     let mut view = BootstrapView {
@@ -1025,7 +1031,7 @@ impl Analysis {
     /// they hold: `confidence95_*` for the fitted curve (delta method),
     /// `prediction95_*` for a new observation (adds σ̂²).
     pub fn table_csv(&self) -> String {
-        let kind = self.series.time_kind;
+        let kind = self.series.axis;
         let mut s = String::from(TABLE_CSV_HEADER);
         s.push('\n');
         let num = numbers::csv;

@@ -186,9 +186,12 @@ fn specs() -> Vec<Spec> {
             truth: &[("K", 78.0), ("r", 1.6), ("t0", 2021.25), ("L", 12.0)],
             noise: "additive normal, sd 1.5 percentage points, rounded to 0.1",
             seed: 404,
-            note: "Time axis: decimal year, year + (day_of_year - 1) / days_in_year \
-                   (2020 has 366 days), which is how Plateau reads ISO dates. So r is per \
-                   year and t0 = 2021.25 is early April 2021.",
+            note: "The truth is stated on the decimal-year axis, year + (day_of_year - 1) / \
+                   days_in_year (2020 has 366 days), on which the data were generated: r is \
+                   per year and t0 = 2021.25 is early April 2021. Plateau reads first-of-month \
+                   dates as months since 2000-01 (2021-04-01 is month 255), so its r is per \
+                   month, about 1.6 / 12 = 0.133, and its t0 is near month 255 (the two axes \
+                   differ by the months' unequal lengths, so only about).",
             rows: |s, rng| {
                 let (k, r, t0, l) = (s.p("K"), s.p("r"), s.p("t0"), s.p("L"));
                 let e = normal(1.5);
@@ -396,8 +399,10 @@ fn multi_spec() -> MultiSpec {
         ],
         noise_share: 0.005,
         seed: 707,
-        note: "Time axis: months, read as year + (month - 1) / 12, so r is per year and \
-               t0 = 2022.5 is the start of July 2022. The same numbers are written twice: \
+        note: "The truth is stated on the axis year + (month - 1) / 12, so r is per year \
+               and t0 = 2022.5 is the start of July 2022. Plateau counts months since \
+               2000-01 (2022-07 is month 270), so its r is per month, the truth's r / 12, \
+               and its t0 is 12 (t0 - 2000). The same numbers are written twice: \
                long (rows of region, month, households; the layout `plateau batch` streams) \
                and wide (a month column, then one column per region). The noise is drawn \
                region by region, month by month, in the order of the long file.",

@@ -70,7 +70,8 @@ test("a date series gets dates back in the table and the per-period switch accum
   const { page, context } = await openPage(browser, server.url);
   await pasteData(page, readDemo("tariff_share_monthly.csv"));
   const t0 = await page.textContent('#params tr[data-param="t0"] td.estimate');
-  assert.match(t0, /\(20\d\d-\d\d-\d\d\)/, t0);
+  // First-of-month dates are month data: t0 is shown on a month start.
+  assert.match(t0, /\(20\d\d-\d\d-01\)/, t0);
 
   // Say "counts per period" first, then paste the counts.
   const counts = readDemo("weekly_signups.csv");

@@ -52,6 +52,7 @@ impl Case {
             format_time: &plain_time,
             time_caption: "year",
             value_caption: "users",
+            time_axis: None,
         }
     }
 }
@@ -561,6 +562,7 @@ fn drift_chart_shows_one_marker_and_bar_per_prefix() {
         format_time: &plain_time,
         time_caption: "year",
         value_caption: "users",
+        time_axis: None,
         model: Model::Logistic,
     };
     let svg = render_drift_svg(&rows, &input, W, H).expect("render");
@@ -773,4 +775,61 @@ fn replicates_are_drawn_one_marker_each() {
     let sym = reflection(&case.fit, &case.t, &case.y).unwrap();
     assert_eq!(sym.reflected.len(), 60);
     assert!(sym.rms_ratio.is_some());
+}
+
+/// The texts of an SVG's `<text>` elements, trimmed.
+fn svg_texts(svg: &str) -> Vec<String> {
+    svg.split("<text")
+        .skip(1)
+        .filter_map(|s| {
+            let body = s.split_once('>')?.1;
+            Some(body.split('<').next()?.trim().to_string())
+        })
+        .collect()
+}
+
+/// Daily data over two years: every chart's time ticks fall on the 1st of
+/// a month (calendar boundaries, chrono's dates via the axis' text), and
+/// the rate view is labelled per day, the axis' period.
+#[test]
+fn dated_axes_tick_on_calendar_boundaries_and_rates_are_per_period() {
+    let mut text = String::from("date,v\n");
+    let start = chrono::NaiveDate::from_ymd_opt(2022, 1, 3).unwrap();
+    for i in 0..700 {
+        let d = start + chrono::Days::new(i);
+        let v = 500.0 / (1.0 + (-(i as f64 - 350.0) / 60.0).exp());
+        text.push_str(&format!("{},{v:.3}\n", d.format("%Y-%m-%d")));
+    }
+    let s = plateau_core::parse_series(&text, &Default::default()).unwrap();
+    assert_eq!(s.time_unit(), "day");
+    let fit = plateau_core::fit(&s, Model::Logistic, &FitOptions::default()).unwrap();
+    let axis = s.axis;
+    let fmt = move |t: f64| axis.format(t);
+    let input = ChartInput {
+        times: &s.times,
+        values: &s.values,
+        fit: &fit,
+        horizon: None,
+        format_time: &fmt,
+        time_caption: "date",
+        value_caption: "users",
+        time_axis: Some(axis),
+    };
+    for kind in [ChartKind::Curve, ChartKind::Residuals, ChartKind::Rate] {
+        let svg = render_svg(kind, &input, W, H).unwrap();
+        let dates: Vec<String> = svg_texts(&svg)
+            .into_iter()
+            .filter(|t| t.len() == 10 && t.as_bytes()[4] == b'-' && t.as_bytes()[7] == b'-')
+            .collect();
+        assert!(dates.len() >= 2, "{kind:?}: {dates:?}");
+        for d in &dates {
+            assert!(d.ends_with("-01"), "{kind:?}: {dates:?}");
+        }
+        if kind == ChartKind::Rate {
+            assert!(
+                svg_texts(&svg).iter().any(|t| t == "users per day"),
+                "{svg}"
+            );
+        }
+    }
 }

@@ -1549,3 +1549,150 @@ fn batch_summary_withholds_an_undetermined_ks_interval() {
     let lines = json_lines(&plateau(&["batch", "-", "--json"], Some(&text)));
     assert!(lines[0]["K"]["ci95"].is_null(), "{}", lines[0]);
 }
+
+/// Month-end dates: the JSON says the axis counts months from 2000-01-31,
+/// and r per month is r per year / 12 on the same data written as decimal
+/// years `year + (month − 1) / 12` (analytic change of variable).
+#[test]
+fn month_end_data_fit_per_month_and_say_so() {
+    let months: Vec<(i32, u32, f64)> = (0..36)
+        .map(|i| {
+            let t = f64::from(i) - 18.0;
+            (
+                2021 + i / 12,
+                (i % 12) as u32 + 1,
+                1000.0 / (1.0 + (-0.2 * t).exp()) + f64::from(i % 3),
+            )
+        })
+        .collect();
+    let month_end = |y: i32, m: u32| {
+        let next = if m == 12 {
+            chrono::NaiveDate::from_ymd_opt(y + 1, 1, 1)
+        } else {
+            chrono::NaiveDate::from_ymd_opt(y, m + 1, 1)
+        };
+        next.unwrap()
+            .pred_opt()
+            .unwrap()
+            .format("%Y-%m-%d")
+            .to_string()
+    };
+    let dated: String = std::iter::once("date,v\n".to_string())
+        .chain(
+            months
+                .iter()
+                .map(|(y, m, v)| format!("{},{v}\n", month_end(*y, *m))),
+        )
+        .collect();
+    let decimal: String = std::iter::once("year,v\n".to_string())
+        .chain(
+            months
+                .iter()
+                .map(|(y, m, v)| format!("{},{v}\n", f64::from(*y) + f64::from(*m - 1) / 12.0)),
+        )
+        .collect();
+    let by_month = json(&plateau(&["fit", "-", "--json"], Some(&dated)));
+    let by_year = json(&plateau(&["fit", "-", "--json"], Some(&decimal)));
+    assert_eq!(by_month["time_unit"], "month");
+    assert_eq!(by_month["time_origin"], "2000-01-31");
+    assert_eq!(by_year["time_unit"], "year");
+    assert!(by_year.get("time_origin").is_none());
+    let r = |v: &Value| v["params"]["r"]["estimate"].as_f64().unwrap();
+    assert!((12.0 * r(&by_month) / r(&by_year) - 1.0).abs() < 1e-6);
+    // Forecast rows stay on month ends and the table says months.
+    let f = json(&plateau(
+        &["forecast", "-", "--until", "2024-03-15", "--json"],
+        Some(&dated),
+    ));
+    let times: Vec<&str> = f["points"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|p| p["time"].as_str().unwrap())
+        .collect();
+    assert_eq!(
+        &times[times.len() - 3..],
+        ["2024-01-31", "2024-02-29", "2024-03-31"]
+    );
+    assert_eq!(f["until_text"], "2024-03-31");
+    let table = plateau(&["forecast", "-", "--until", "2024-06-30"], Some(&dated));
+    let out = String::from_utf8_lossy(&table.stdout);
+    assert!(out.contains(" months  delta"), "{out}");
+}
+
+/// Quarterly input keeps quarters everywhere: time_unit, forecast rows and
+/// milestone texts; a numeric time column takes its header as the unit.
+#[test]
+fn quarters_stay_quarters_and_numbers_take_their_header() {
+    let text = "quarter,units\n2021Q1,1.5\n2021Q2,3.1\n2021Q3,6.0\n2021Q4,11.2\n2022Q1,19.9\n\
+                2022Q2,30.4\n2022Q3,41.0\n2022Q4,49.8\n2023Q1,55.1\n2023Q2,58.3\n2023Q3,59.6\n";
+    let f = json(&plateau(
+        &["forecast", "-", "--until", "2024Q2", "--json"],
+        Some(text),
+    ));
+    assert_eq!(f["time_unit"], "quarter");
+    assert_eq!(f["time_origin"], "2000Q1");
+    for p in f["points"].as_array().unwrap() {
+        let t = p["time"].as_str().unwrap();
+        assert!(t.len() == 6 && t.contains('Q'), "{t}");
+        assert_eq!(p["t"].as_f64().unwrap().fract(), 0.0);
+    }
+    let t0 = &f["milestones"][1];
+    assert!(t0["time_text"].as_str().unwrap().contains('Q'), "{t0}");
+    let c = json(&plateau(&["compare", "-", "--json"], Some(text)));
+    assert_eq!(c["time_unit"], "quarter");
+    let d = json(&plateau(&["diagnose", "-", "--json"], Some(text)));
+    assert_eq!(d["fit"]["time_unit"], "quarter");
+    assert_eq!(d["fit"]["time_origin"], "2000Q1");
+    let w = json(&plateau(
+        &[
+            "forecast",
+            &demo("aldermoor_subscribers.csv"),
+            "--until",
+            "40",
+            "--json",
+        ],
+        None,
+    ));
+    assert_eq!(w["time_unit"], "week");
+    assert!(w["time_origin"].is_null());
+}
+
+/// A chart of month data ticks on calendar boundaries (quarter or year
+/// starts), not on arbitrary days.
+#[test]
+fn month_chart_ticks_on_boundaries() {
+    let path = std::env::temp_dir().join(format!("plateau-ticks-{}.svg", std::process::id()));
+    let out = plateau(
+        &[
+            "fit",
+            &demo("regional_adoption_wide.csv"),
+            "--value",
+            "Dunmere",
+            "--svg",
+            path.to_str().unwrap(),
+        ],
+        None,
+    );
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let svg = std::fs::read_to_string(&path).unwrap();
+    let _ = std::fs::remove_file(&path);
+    let labels: Vec<&str> = svg
+        .split('>')
+        .filter_map(|s| s.split('<').next().map(str::trim))
+        .filter(|s| {
+            s.len() == 7 && s.as_bytes()[4] == b'-' && s[..4].bytes().all(|b| b.is_ascii_digit())
+        })
+        .collect();
+    assert!(labels.len() >= 2, "{labels:?}");
+    for l in &labels {
+        assert!(
+            ["-01", "-04", "-07", "-10"].iter().any(|m| l.ends_with(m)),
+            "{labels:?}"
+        );
+    }
+}

@@ -279,59 +279,168 @@ fn title_line_above_the_table_is_read_as_header() {
 
 // ---- times -----------------------------------------------------------------
 
-#[test]
-fn iso_dates_become_decimal_years() {
-    let s = ok("date,share\n2019-01-01,13.8\n2019-03-01,15.7\n2020-03-01,16\n2020-12-31,17\n");
-    assert_eq!(s.time_kind, TimeKind::Date);
-    assert_eq!(
-        s.times,
-        vec![
-            2019.0,
-            2019.0 + 59.0 / 365.0,
-            2020.0 + 60.0 / 366.0,
-            2020.0 + 365.0 / 366.0
-        ]
-    );
-    assert_eq!(TimeKind::Date.format(s.times[1]), "2019-03-01");
-    assert_eq!(TimeKind::Date.format(s.times[3]), "2020-12-31");
-    // Half a day before New Year rounds into the next year.
-    assert_eq!(TimeKind::Date.format(2020.0 + 365.6 / 366.0), "2021-01-01");
-    assert_eq!(TimeKind::Date.unit(), "year");
+/// Days between two ISO dates by chrono's calendar arithmetic (the
+/// outside reference for every calendar count below).
+fn days_between(a: &str, b: &str) -> f64 {
+    let d = |s: &str| chrono::NaiveDate::parse_from_str(s, "%Y-%m-%d").unwrap();
+    d(b).signed_duration_since(d(a)).num_days() as f64
 }
 
 #[test]
-fn months_and_quarters() {
+fn daily_dates_count_days_since_2000() {
+    let s = ok("date,share\n2019-01-01,13.8\n2019-03-02,15.7\n2020-03-01,16\n2020-12-31,17\n");
+    assert_eq!(s.time_kind, TimeKind::Date);
+    assert_eq!(s.axis.period(), Some(Period::Day));
+    let want: Vec<f64> = ["2019-01-01", "2019-03-02", "2020-03-01", "2020-12-31"]
+        .iter()
+        .map(|d| days_between("2000-01-01", d))
+        .collect();
+    assert_eq!(s.times, want);
+    assert_eq!(s.axis.format(s.times[1]), "2019-03-02");
+    assert_eq!(s.axis.format(s.times[3]), "2020-12-31");
+    // Half a day past the last day rounds into the next year.
+    assert_eq!(s.axis.format(s.times[3] + 0.6), "2021-01-01");
+    assert_eq!(s.time_unit(), "day");
+    assert_eq!(s.time_origin().as_deref(), Some("2000-01-01"));
+}
+
+#[test]
+fn month_start_and_month_end_dates_count_months() {
+    // Month-start dates (the demo tariff file's form).
+    let s = ok("date,v\n2023-11-01,1\n2023-12-01,2\n2024-01-01,3\n2024-03-01,4\n");
+    assert_eq!(s.axis.period(), Some(Period::Month));
+    // month index = 12·(year − 2000) + month − 1.
+    assert_eq!(s.times, vec![286.0, 287.0, 288.0, 290.0]);
+    assert_eq!(s.time_unit(), "month");
+    assert_eq!(s.time_origin().as_deref(), Some("2000-01-01"));
+    // Between grid points the text is the nearest month start, never a mid-month day.
+    assert_eq!(s.axis.format(289.4), "2024-02-01");
+    assert_eq!(s.axis.format(292.0), "2024-05-01");
+    // Month ends stay on month ends, leap February included.
+    let e = ok("date,v\n2023-11-30,1\n2023-12-31,2\n2024-01-31,3\n2024-02-29,4\n");
+    assert_eq!(e.axis.period(), Some(Period::Month));
+    assert_eq!(e.times, vec![286.0, 287.0, 288.0, 289.0]);
+    assert_eq!(e.axis.format(290.0), "2024-03-31");
+    assert_eq!(e.axis.format(291.0), "2024-04-30");
+    assert_eq!(e.axis.format(301.0), "2025-02-28");
+    assert_eq!(e.time_origin().as_deref(), Some("2000-01-31"));
+    // A date between two month ends sits between them in proportion to
+    // the days (chrono: 2024-03-15 is 15 of the 31 days after 2024-02-29).
+    let t = e.axis.parse_time("2024-03-15").unwrap();
+    assert!((t - (289.0 + 15.0 / 31.0)).abs() < 1e-12, "{t}");
+}
+
+#[test]
+fn quarterly_and_yearly_dates_count_quarters_and_years() {
+    let s = ok("date,v\n2023-03-31,1\n2023-06-30,2\n2023-09-30,3\n2024-03-31,4\n");
+    assert_eq!(s.axis.period(), Some(Period::Quarter));
+    // Quarters since the quarter of 2000-03-31.
+    assert_eq!(s.times, vec![92.0, 93.0, 94.0, 96.0]);
+    assert_eq!(s.axis.format(95.0), "2023-12-31");
+    assert_eq!(s.axis.format(97.0), "2024-06-30");
+    assert_eq!(s.time_unit(), "quarter");
+    assert_eq!(s.time_origin().as_deref(), Some("2000-03-31"));
+    let y = ok("date,v\n2015-12-31,1\n2016-12-31,2\n2018-12-31,4\n");
+    assert_eq!(y.axis.period(), Some(Period::Year));
+    assert_eq!(y.times, vec![15.0, 16.0, 18.0]);
+    assert_eq!(y.axis.format(17.0), "2017-12-31");
+    assert_eq!(y.time_unit(), "year");
+}
+
+#[test]
+fn months_quarters_and_iso_weeks() {
     let s = ok("m;v\n2023-11;1\n2023-12;2\n2024-01;3\n");
     assert_eq!(s.time_kind, TimeKind::Month);
-    assert_eq!(
-        s.times,
-        vec![2023.0 + 10.0 / 12.0, 2023.0 + 11.0 / 12.0, 2024.0]
-    );
-    assert_eq!(TimeKind::Month.format(s.times[1]), "2023-12");
-    assert_eq!(TimeKind::Month.format(2024.49), "2024-07");
+    assert_eq!(s.times, vec![286.0, 287.0, 288.0]);
+    assert_eq!(s.axis.format(s.times[1]), "2023-12");
+    assert_eq!(s.axis.format(294.49), "2024-07");
+    assert_eq!(s.time_unit(), "month");
+    assert_eq!(s.time_origin().as_deref(), Some("2000-01"));
     let s = ok("q,v\n2024Q3,1\n2024-q4,2\n2025 Q1,3\n");
     assert_eq!(s.time_kind, TimeKind::Quarter);
-    assert_eq!(s.times, vec![2024.5, 2024.75, 2025.0]);
-    assert_eq!(TimeKind::Quarter.format(2024.5), "2024Q3");
-    assert_eq!(TimeKind::Quarter.format(2024.9), "2025Q1");
-    assert_eq!(TimeKind::Month.unit(), "year");
-    assert_eq!(TimeKind::Quarter.unit(), "year");
+    // quarter index = 4·(year − 2000) + quarter − 1.
+    assert_eq!(s.times, vec![98.0, 99.0, 100.0]);
+    assert_eq!(s.axis.format(98.0), "2024Q3");
+    assert_eq!(s.axis.format(99.6), "2025Q1");
+    assert_eq!(s.time_unit(), "quarter");
+    assert_eq!(s.time_origin().as_deref(), Some("2000Q1"));
+    // ISO weeks: 2021-W01 starts on Monday 2021-01-04, 2020 has 53 weeks.
+    let w = ok("week,v\n2020-W52,1\n2020W53,2\n2021-w01,3\n");
+    assert_eq!(w.time_kind, TimeKind::Week);
+    let weeks = days_between("2000-01-03", "2021-01-04") / 7.0;
+    assert_eq!(w.times, vec![weeks - 2.0, weeks - 1.0, weeks]);
+    assert_eq!(w.axis.format(weeks + 1.0), "2021-W02");
+    assert_eq!(w.time_unit(), "week");
+    assert_eq!(w.time_origin().as_deref(), Some("2000-W01"));
+    let e = err("week,v\n2021-W01,1\n2021-W54,2\n");
+    assert_eq!(e.line, Some(3));
+    assert!(e.message.contains("not a real ISO week"), "{e}");
+}
+
+#[test]
+fn weekly_dates_count_weeks_on_their_weekday() {
+    // Sundays, a week apart (and one gap of two weeks).
+    let s = ok("date,v\n2024-01-07,1\n2024-01-14,2\n2024-01-28,3\n");
+    assert_eq!(s.axis.period(), Some(Period::Week));
+    let first = days_between("2000-01-09", "2024-01-07") / 7.0;
+    assert_eq!(s.times, vec![first, first + 1.0, first + 3.0]);
+    assert_eq!(s.axis.format(first + 2.0), "2024-01-21");
+    assert_eq!(s.time_origin().as_deref(), Some("2000-01-09"));
+}
+
+#[test]
+fn numbers_keep_their_values_and_take_the_header_as_unit() {
+    let s = ok("week,v\n1,5\n2,7\n");
+    assert_eq!(s.times, vec![1.0, 2.0]);
+    assert_eq!(s.axis.period(), None);
+    assert_eq!(s.time_unit(), "week");
+    assert_eq!(s.time_origin(), None);
+    assert_eq!(ok("1,5\n2,7\n").time_unit(), "");
 }
 
 #[test]
 fn number_format_is_short() {
-    assert_eq!(TimeKind::Number.format(14.0), "14");
-    assert_eq!(TimeKind::Number.format(2021.25), "2021.25");
-    assert_eq!(TimeKind::Number.format(13.9876543), "13.9877");
-    assert_eq!(TimeKind::Number.format(-0.000123456789), "-0.000123457");
-    assert_eq!(TimeKind::Number.format(1234567.0), "1234570");
-    assert_eq!(TimeKind::Number.format(3.2e-7), "3.2e-7");
-    assert_eq!(TimeKind::Number.format(0.0), "0");
-    assert_eq!(TimeKind::Number.format(f64::NAN), "NaN");
-    assert_eq!(TimeKind::Number.unit(), "");
-    // Calendar kinds fall back to numbers far outside the calendar.
-    assert_eq!(TimeKind::Date.format(1e12), "1e12");
-    assert_eq!(TimeKind::Month.format(f64::INFINITY), "inf");
+    let n = TimeAxis::NUMBER;
+    assert_eq!(n.format(14.0), "14");
+    assert_eq!(n.format(2021.25), "2021.25");
+    assert_eq!(n.format(13.9876543), "13.9877");
+    assert_eq!(n.format(-0.000123456789), "-0.000123457");
+    assert_eq!(n.format(1234567.0), "1234570");
+    assert_eq!(n.format(3.2e-7), "3.2e-7");
+    assert_eq!(n.format(0.0), "0");
+    assert_eq!(n.format(f64::NAN), "NaN");
+    assert_eq!(n.unit(), "");
+    // Calendar axes fall back to numbers far outside the calendar.
+    let d = ok("d,v\n2020-01-01,1\n").axis;
+    assert_eq!(d.format(1e12), "1e12");
+    assert_eq!(ok("m,v\n2020-01,1\n").axis.format(f64::INFINITY), "inf");
+}
+
+#[test]
+fn calendar_ticks_fall_on_boundaries() {
+    // Month data over three years: year (or half-year) starts only.
+    let s = ok("m,v\n2021-01,1\n2021-02,2\n");
+    let ticks = s.axis.ticks(250.0, 290.0, 6).unwrap();
+    assert!(!ticks.is_empty() && ticks.len() <= 6, "{ticks:?}");
+    for t in &ticks {
+        assert_eq!(t.fract(), 0.0);
+        let text = s.axis.format(*t);
+        assert!(text.ends_with("-01") || text.ends_with("-07"), "{text}");
+    }
+    // Month-end data tick on year ends.
+    let e = ok("d,v\n2021-01-31,1\n2021-02-28,2\n");
+    for t in e.axis.ticks(250.0, 290.0, 4).unwrap() {
+        assert!(e.axis.format(t).ends_with("-12-31"), "{}", e.axis.format(t));
+    }
+    // Daily data over two years: month starts or coarser.
+    let d = ok("d,v\n2021-01-01,1\n2021-01-02,2\n");
+    let lo = days_between("2000-01-01", "2021-01-01");
+    let ticks = d.axis.ticks(lo, lo + 730.0, 8).unwrap();
+    assert!(!ticks.is_empty() && ticks.len() <= 8);
+    for t in ticks {
+        assert!(d.axis.format(t).ends_with("-01"), "{}", d.axis.format(t));
+    }
+    assert_eq!(TimeAxis::NUMBER.ticks(0.0, 10.0, 5), None);
 }
 
 #[test]
@@ -727,17 +836,55 @@ proptest! {
         let written = format!("{}", date.format("%Y-%m-%d"));
         let s = parse(&format!("d,v\n{written},1\n")).map_err(|e| TestCaseError::fail(e.to_string()))?;
         prop_assert_eq!(s.time_kind, TimeKind::Date);
-        prop_assert_eq!(TimeKind::Date.format(s.times[0]), written);
+        prop_assert_eq!(s.axis.format(s.times[0]), written);
+    }
+
+    /// Month, quarter and year grids of dates (1st, 15th or month end),
+    /// written with chrono: one period apart on the axis, and each time
+    /// shown back exactly as written.
+    #[test]
+    fn date_grids_round_trip(
+        year in 1900i32..=2100,
+        month0 in 0u32..12,
+        step in prop::sample::select(vec![1u32, 3, 12]),
+        day in prop::sample::select(vec![1u32, 15, 0]),
+        n in 2usize..30,
+    ) {
+        let date = |k: u32| {
+            let m = month0 + k * step;
+            let (y, m) = (year + (m / 12) as i32, m % 12 + 1);
+            match day {
+                0 => chrono::NaiveDate::from_ymd_opt(y, m, 1)
+                    .and_then(|d| d.checked_add_months(chrono::Months::new(1)))
+                    .and_then(|d| d.pred_opt())
+                    .unwrap(),
+                d => chrono::NaiveDate::from_ymd_opt(y, m, d).unwrap(),
+            }
+        };
+        let written: Vec<String> = (0..n as u32).map(|k| date(k).format("%Y-%m-%d").to_string()).collect();
+        let text: String = std::iter::once("d,v\n".to_string())
+            .chain(written.iter().map(|w| format!("{w},1\n")))
+            .collect();
+        let s = parse(&text).map_err(|e| TestCaseError::fail(e.to_string()))?;
+        let period = match step { 1 => Period::Month, 3 => Period::Quarter, _ => Period::Year };
+        prop_assert_eq!(s.axis.period(), Some(period));
+        for (k, w) in s.times.windows(2).enumerate() {
+            prop_assert_eq!(w[1] - w[0], 1.0, "{}", k);
+        }
+        for (t, w) in s.times.iter().zip(&written) {
+            prop_assert_eq!(&s.axis.format(*t), w);
+            prop_assert_eq!(s.axis.parse_time(w).unwrap(), *t);
+        }
     }
 
     #[test]
     fn months_and_quarters_round_trip(year in 1000i32..=9999, month in 1u32..=12) {
         let m = format!("{year:04}-{month:02}");
         let s = parse(&format!("{m};1\n")).map_err(|e| TestCaseError::fail(e.to_string()))?;
-        prop_assert_eq!(TimeKind::Month.format(s.times[0]), m);
+        prop_assert_eq!(s.axis.format(s.times[0]), m);
         let q = format!("{year:04}Q{}", (month - 1) / 3 + 1);
         let s = parse(&format!("{q};1\n")).map_err(|e| TestCaseError::fail(e.to_string()))?;
-        prop_assert_eq!(TimeKind::Quarter.format(s.times[0]), q);
+        prop_assert_eq!(s.axis.format(s.times[0]), q);
     }
 }
 
@@ -810,13 +957,14 @@ fn field_count_check_follows_quoting() {
 
 #[test]
 fn epoch_seconds_and_milliseconds_read_as_dates() {
-    // 1700000000 s = 2023-11-14 22:13:20 UTC (date -u -d @1700000000);
-    // 2023 has 365 days and 14 November is day 318 (ordinal0 317).
+    // 1700000000 s = 2023-11-14 22:13:20 UTC (date -u -d @1700000000):
+    // days since 2000-01-01 plus 80000 s of the day.
     let s = ok("time,v\n1700000000,1\n1700086400,2\n1700172800,4\n");
     assert_eq!(s.time_kind, TimeKind::Date);
-    let want = 2023.0 + (317.0 + 80000.0 / 86400.0) / 365.0;
-    assert!((s.times[0] - want).abs() < 1e-12, "{}", s.times[0]);
-    assert_eq!(TimeKind::Date.format(s.times[1]), "2023-11-16");
+    assert_eq!(s.time_unit(), "day");
+    let want = days_between("2000-01-01", "2023-11-14") + 80000.0 / 86400.0;
+    assert!((s.times[0] - want).abs() < 1e-9, "{}", s.times[0]);
+    assert_eq!(s.axis.format(s.times[1]), "2023-11-16");
     assert_eq!(codes(&s), [WarningCode::EpochTimes]);
     assert!(s.warnings[0].message.contains("epoch seconds (UTC)"));
     assert!(
@@ -830,10 +978,13 @@ fn epoch_seconds_and_milliseconds_read_as_dates() {
     let m = ok("time,v\n1700000000000,1\n1700086400000,2\n1700172800500,4\n");
     assert_eq!(m.time_kind, TimeKind::Date);
     assert!((m.times[0] - s.times[0]).abs() < 1e-12);
-    assert!((m.times[2] - s.times[2] - 0.5 / 86400.0 / 365.0).abs() < 1e-12);
+    assert!((m.times[2] - s.times[2] - 0.5 / 86400.0).abs() < 1e-9);
     assert!(m.warnings[0].message.contains("milliseconds"));
-    // A leap year divides by 366: 2024-01-01 00:00 UTC is 1704067200.
-    assert_eq!(ok("t,v\n1704067200,1\n1704153600,2\n").times[0], 2024.0);
+    // Midnight is a whole day: 2024-01-01 00:00 UTC is 1704067200.
+    assert_eq!(
+        ok("t,v\n1704067200,1\n1704153600,2\n").times[0],
+        days_between("2000-01-01", "2024-01-01")
+    );
     // Replicates of one instant stay replicates.
     let r = ok("t,v\n1700000000,1\n1700000000,2\n1700086400,3\n");
     assert_eq!(

@@ -5,6 +5,7 @@ mod bands;
 mod bass;
 mod bilogistic;
 mod bootstrap_calibration;
+mod calendar;
 mod calibration;
 mod constrained;
 mod diagnostics;

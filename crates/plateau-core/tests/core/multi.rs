@@ -7,7 +7,10 @@ use plateau_core::data::{parse_multi, Layout, MultiOptions, SeriesSet};
 use plateau_core::{fit, Model};
 use std::path::PathBuf;
 
-/// (region, K, r, t0) as in demo-data/README.md.
+/// (region, K, r, t0) as in demo-data/README.md: r per year and t0 on
+/// the axis year + (month − 1) / 12. Plateau counts months since 2000-01,
+/// so its r is r / 12 and its t0 is 12 (t0 − 2000) (the same curve, the
+/// axis scaled by 12 and shifted: an analytic change of variable).
 const TRUTH: [(&str, f64, f64, f64); 4] = [
     ("Brackenridge", 42000.0, 1.4, 2022.5),
     ("Corrie Haven", 18000.0, 2.0, 2022.75),
@@ -28,8 +31,10 @@ fn regional_demo_recovers_each_regions_truth_within_its_interval() {
     let set = read("regional_adoption_long.csv");
     assert_eq!(set.layout, Layout::Long);
     assert_eq!(set.series.len(), TRUTH.len());
-    for (ns, (name, k, r, t0)) in set.series.iter().zip(TRUTH) {
+    for (ns, (name, k, r_year, t0_year)) in set.series.iter().zip(TRUTH) {
+        let (r, t0) = (r_year / 12.0, 12.0 * (t0_year - 2000.0));
         assert_eq!(ns.name, name);
+        assert_eq!(ns.series.time_unit(), "month");
         assert_eq!(ns.series.times.len(), 60);
         let f = fit(&ns.series, Model::Logistic, &Default::default()).expect("fit");
         assert!(f.converged, "{name}");

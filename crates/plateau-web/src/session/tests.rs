@@ -262,19 +262,26 @@ fn typical_step_is_the_median_spacing() {
     assert_eq!(typical_step(&[7.0]), 1.0);
 }
 
-/// Quarterly input: derived times are shown to the day, so a milestone's
-/// interval does not collapse into one quarter label.
+/// Quarterly input: the axis counts quarters since 2000Q1, and derived
+/// times are shown in the data's own form, as quarters (the interval's
+/// axis values stay in `ci95`, so a narrow one is not lost).
 #[test]
-fn derived_times_on_period_axes_are_shown_as_dates() {
+fn derived_times_on_period_axes_are_shown_as_quarters() {
     let text = "quarter;units\n2021Q1;1,5\n2021Q2;3,1\n2021Q3;6,0\n2021Q4;11,2\n2022Q1;19,9\n\
                 2022Q2;30,4\n2022Q3;41,0\n2022Q4;49,8\n2023Q1;55,1\n2023Q2;58,3\n2023Q3;59,6\n";
     let a = analyse(text, &Settings::default()).unwrap();
     let t0 = a.view.params.iter().find(|p| p.name == "t0").unwrap();
     let shown = t0.as_time.as_deref().unwrap();
-    assert_eq!(shown.len(), "2022-04-05".len(), "{shown}");
+    assert_eq!(shown.len(), "2022Q2".len(), "{shown}");
+    assert!(shown.starts_with("2022Q"), "{shown}");
+    assert_eq!(a.view.time_unit, "quarter");
+    assert_eq!(a.view.time_origin.as_deref(), Some("2000Q1"));
+    // 2021Q1 is quarter 4 · 21 = 84.
+    assert_eq!(a.series.times[0], 84.0);
     let m = &a.view.milestones[0];
     let [lo, hi] = m.ci95_text.clone().unwrap();
-    assert!(lo < hi, "{lo} .. {hi}");
+    assert!(lo <= hi, "{lo} .. {hi}");
+    assert!(lo.contains('Q') && hi.contains('Q'), "{lo} .. {hi}");
 }
 
 /// A series far before its inflection (10·e^(0.3 t)): the view says K is

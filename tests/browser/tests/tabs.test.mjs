@@ -113,3 +113,19 @@ test("out-of-range settings get a sentence naming the setting and the allowed ra
   assert.deepEqual(errors, []);
   await context.close();
 });
+
+test("at 390 px wide the page never scrolls sideways: wide tables scroll inside their column", async () => {
+  const context = await browser.newContext({ viewport: { width: 390, height: 844 } });
+  const { page, errors } = await tab(context);
+  const width = await page.evaluate(() => document.documentElement.scrollWidth);
+  assert.ok(width <= 390, `page is ${width} px wide at a 390 px viewport`);
+  const params = await page.evaluate(() => {
+    const t = document.getElementById("params");
+    return { client: t.clientWidth, scroll: t.scrollWidth, overflow: getComputedStyle(t).overflowX };
+  });
+  assert.ok(params.client <= 390, JSON.stringify(params));
+  assert.equal(params.overflow, "auto");
+  await page.locator("#params").screenshot({ path: path.join(OUT, "params-390.png") });
+  assert.deepEqual(errors, []);
+  await context.close();
+});

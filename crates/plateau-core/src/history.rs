@@ -175,4 +175,4 @@ pub fn drift_sampled(
 }
 
 #[cfg(test)]
-mod tests;
+pub(crate) mod tests;

@@ -32,28 +32,13 @@ pub fn run(args: &[String]) -> Result<()> {
     write_file(&file, series)?;
     let size = std::fs::metadata(&file)?.len();
 
-    let cargo = std::env::var("CARGO").unwrap_or_else(|_| "cargo".to_string());
-    let status = Command::new(cargo)
-        .current_dir(&root)
-        .args([
-            "build",
-            "--release",
-            "-p",
-            "plateau-cli",
-            "--bin",
-            "plateau",
-        ])
-        .status()
-        .context("building the release plateau")?;
-    if !status.success() {
-        bail!("cargo build failed ({status})");
-    }
+    let plateau = crate::tools::release_plateau(&root)?;
     let out_path = dir.join("out.csv");
     let out_file = std::fs::File::create(&out_path)?;
     let started = std::time::Instant::now();
     let run = Command::new("/usr/bin/time")
         .arg("-v")
-        .arg(root.join("target/release/plateau"))
+        .arg(&plateau)
         .arg("batch")
         .arg(&file)
         .arg("--csv")

@@ -54,23 +54,7 @@ pub fn run(args: &[String]) -> Result<()> {
         None => crate::bench_vs_scipy::ensure_venv(&root)?,
     };
     let script = root.join("tests/reference/whole_process_scipy.py");
-    let cargo = std::env::var("CARGO").unwrap_or_else(|_| "cargo".to_string());
-    let status = Command::new(cargo)
-        .current_dir(&root)
-        .args([
-            "build",
-            "--release",
-            "-p",
-            "plateau-cli",
-            "--bin",
-            "plateau",
-        ])
-        .status()
-        .context("building the release plateau")?;
-    if !status.success() {
-        bail!("cargo build failed ({status})");
-    }
-    let plateau = root.join("target/release/plateau");
+    let plateau = crate::tools::release_plateau(&root)?;
 
     let mut plateau_cmd = Command::new(&plateau);
     plateau_cmd.arg("fit").arg(&file);

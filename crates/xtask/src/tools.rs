@@ -26,6 +26,20 @@ pub fn cargo() -> Command {
     Command::new(std::env::var("CARGO").unwrap_or_else(|_| "cargo".to_string()))
 }
 
+/// Builds the release `plateau` binary (for the benchmarks that time it as
+/// a whole process) and returns its path.
+pub fn release_plateau(root: &std::path::Path) -> Result<std::path::PathBuf> {
+    run(cargo().current_dir(root).args([
+        "build",
+        "--release",
+        "-p",
+        "plateau-cli",
+        "--bin",
+        "plateau",
+    ]))?;
+    Ok(root.join("target/release/plateau"))
+}
+
 fn output_of(cmd: &mut Command) -> Option<String> {
     let out = cmd.output().ok()?;
     out.status

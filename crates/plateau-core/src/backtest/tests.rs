@@ -3,15 +3,7 @@
 
 use super::*;
 use crate::fit::fit_xy;
-
-fn logistic_exact(n: usize) -> (Vec<f64>, Vec<f64>) {
-    let t: Vec<f64> = (0..n).map(|i| i as f64).collect();
-    let y = t
-        .iter()
-        .map(|&ti| Model::Logistic.eval(&[1000.0, 0.4, 12.0], ti))
-        .collect();
-    (t, y)
-}
+use crate::history::tests::logistic_exact;
 
 #[test]
 fn backtest_scores_are_the_errors_of_the_forecasts_made() {

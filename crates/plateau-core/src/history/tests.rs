@@ -5,7 +5,9 @@
 use super::*;
 use crate::backtest::{backtest, BacktestOptions};
 
-fn logistic_exact(n: usize) -> (Vec<f64>, Vec<f64>) {
+/// The logistic K = 1000, r = 0.4, t0 = 12 at t = 0, 1, …, n − 1, exact
+/// (also used by the backtest's tests).
+pub(crate) fn logistic_exact(n: usize) -> (Vec<f64>, Vec<f64>) {
     let t: Vec<f64> = (0..n).map(|i| i as f64).collect();
     let y = t
         .iter()

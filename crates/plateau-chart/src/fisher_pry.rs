@@ -87,7 +87,10 @@ pub fn draw_fisher_pry<DB: DrawingBackend>(
     let (w, _) = chart.plotting_area().dim_in_pixel();
     let chars = (w as f64 / (0.55 * scale.font(12.0))) as usize;
     let mut dy = scale.pxi(8.0);
-    for text in common::wrap(&fp.verdict.text, chars.saturating_sub(6)) {
+    for text in common::wrap(
+        &plateau_study::wording::fisher_pry_verdict(&fp).text,
+        chars.saturating_sub(6),
+    ) {
         chart.draw_series(std::iter::once(
             EmptyElement::at((x.0, y.1))
                 + Text::new(

@@ -8,7 +8,7 @@
 use crate::common::{self, Scale};
 use crate::palette::{INK, ORANGE};
 use crate::{ChartError, ChartInput};
-use plateau_core::diagnostics::{normal_qq, normality_verdict_of, residuals_in_time_order};
+use plateau_core::diagnostics::{normal_qq, residuals_in_time_order};
 use plotters::coord::Shift;
 use plotters::prelude::*;
 
@@ -79,9 +79,12 @@ pub fn draw_qq<DB: DrawingBackend>(
         14.0,
     )];
     lines.extend(
-        common::wrap(&normality_verdict_of(&res).text, chars.saturating_sub(6))
-            .into_iter()
-            .map(|l| (l, 12.0)),
+        common::wrap(
+            &plateau_study::wording::normality_of(&res).text,
+            chars.saturating_sub(6),
+        )
+        .into_iter()
+        .map(|l| (l, 12.0)),
     );
     common::text_block(&mut chart, (x.0, y.1), lines, scale)?;
     common::legend(&mut chart, SeriesLabelPosition::LowerRight, scale)?;

@@ -4,11 +4,11 @@
 
 use plateau_core::compare::Entry;
 use plateau_core::data::TimeAxis;
-use plateau_core::diagnostics::Verdict;
 use plateau_core::{Fit, Series};
 use plateau_study::numbers::{self, number, probability, Precision};
 use plateau_study::report::{CompareReport, DiagnoseReport, CAUTION};
 use plateau_study::study::{is_time_param, looks_cumulative};
+use plateau_study::wording::Worded;
 use std::fmt::Write;
 
 fn opt(x: Option<f64>) -> String {
@@ -322,7 +322,7 @@ pub fn compare(name: &str, series: &Series, entries: &[Entry], report: &CompareR
     s
 }
 
-fn verdict_line(s: &mut String, v: &Verdict) {
+fn verdict_line(s: &mut String, v: &Worded) {
     let _ = writeln!(s, "  {} {}", if v.flagged { "!!" } else { "ok" }, v.text);
 }
 

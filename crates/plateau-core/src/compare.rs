@@ -7,9 +7,10 @@
 //! ```
 //!
 //! Also: likelihood-ratio tests of the nested pairs ([`nested_tests`]) and a
-//! recommendation that names its reasons ([`recommend`]).
+//! recommendation that names its reasons ([`recommend`], each a [`Reason`]
+//! with its numbers; `plateau_study::wording` puts them in words).
 
-use crate::diagnostics::{fmt_p, lr_of_fits, residual_diagnostics, Verdict, ALPHA};
+use crate::diagnostics::{lr_of_fits, residual_diagnostics, ResidualDiagnostics, ALPHA};
 use crate::fit::{fit_xy, Fit, FitError, FitErrorKind, FitOptions};
 use crate::model::Model;
 use crate::warning::WarningCode;
@@ -224,16 +225,65 @@ pub const IDENTIFIABILITY_WARNINGS: [WarningCode; 5] = [
 /// shape checks).
 pub const SHAPE_WARNINGS: [WarningCode; 2] = [WarningCode::NoTrend, WarningCode::LooksLinear];
 
+/// One reason behind a [`Recommendation`], with the numbers it rests on;
+/// `plateau_study::wording` puts it in words.
+#[derive(Debug, Clone, PartialEq)]
+#[non_exhaustive]
+pub enum Reason {
+    /// No model could be fitted.
+    NothingFitted,
+    /// Every fitted model has identifiability warnings; `best` has the
+    /// lowest AICc and is chosen anyway.
+    AllPoorlyDetermined { best: Model },
+    /// `model` has a lower AICc than the choice but is set aside for the
+    /// warnings `codes`.
+    SetAside {
+        model: Model,
+        delta_aicc: f64,
+        codes: Vec<&'static str>,
+    },
+    /// `general` had the lower AICc, but the likelihood-ratio test keeps
+    /// the simpler `nested` (p ≥ [`ALPHA`]).
+    SimplerKept {
+        general: Model,
+        nested: Model,
+        p_value: f64,
+    },
+    /// The choice, its ΔAICc and Akaike weight.
+    Chosen {
+        model: Model,
+        delta_aicc: f64,
+        weight: f64,
+    },
+    /// The runner-up.
+    Next {
+        model: Model,
+        delta_aicc: f64,
+        weight: f64,
+    },
+    /// A likelihood-ratio test of a nested pair.
+    Nested(LrTest),
+    /// Every growth curve fitted carries a shape warning: no S-curve is
+    /// supported. `model` is the best-ranked curve, `why` its warning.
+    NoSCurve { model: Model, why: String },
+    /// The choice's residual verdicts raise no flag (`checks` of them).
+    ResidualsClean { checks: usize },
+    /// The choice's residual verdict at this index of
+    /// [`ResidualDiagnostics::verdicts`] is flagged.
+    ResidualFlag(usize),
+}
+
 /// The model to use and why.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq)]
 pub struct Recommendation {
     /// `None` when no model was fitted, or when the data support no S-curve
     /// (see [`recommend`]; the first reason says why).
     pub model: Option<Model>,
-    /// One short sentence per reason, most important first.
-    pub reasons: Vec<String>,
-    /// The recommended model's residual verdicts.
-    pub residual_verdicts: Vec<Verdict>,
+    /// The reasons, most important first.
+    pub reasons: Vec<Reason>,
+    /// The recommended model's residual diagnostics (`None` when nothing
+    /// was fitted).
+    pub residuals: Option<ResidualDiagnostics>,
 }
 
 /// Recommends a model from a comparison of fits to `(t, y)`:
@@ -268,30 +318,27 @@ pub fn recommend(entries: &[Entry], t: &[f64], y: &[f64]) -> Recommendation {
     let Some(best_overall) = fitted.first() else {
         return Recommendation {
             model: None,
-            reasons: vec!["no model could be fitted".into()],
-            residual_verdicts: vec![],
+            reasons: vec![Reason::NothingFitted],
+            residuals: None,
         };
     };
     let clean: Vec<&(&Entry, &Fit)> = fitted.iter().filter(|(_, f)| bad(f).is_empty()).collect();
     let mut choice = match clean.first() {
         Some(c) => **c,
         None => {
-            reasons.push(format!(
-                "every model has identifiability warnings; {} has the lowest AICc but its \
-                 parameters are poorly determined",
-                best_overall.0.model.name()
-            ));
+            reasons.push(Reason::AllPoorlyDetermined {
+                best: best_overall.0.model,
+            });
             *best_overall
         }
     };
     // Better-AICc models passed over for their warnings.
     for (e, f) in fitted.iter().take_while(|(e, _)| e.model != choice.0.model) {
-        reasons.push(format!(
-            "{} has a lower AICc (ΔAICc {:.2}) but is set aside: {}",
-            e.model.name(),
-            e.delta_aicc.unwrap_or(f64::NAN),
-            bad(f).join(", ")
-        ));
+        reasons.push(Reason::SetAside {
+            model: e.model,
+            delta_aicc: e.delta_aicc.unwrap_or(f64::NAN),
+            codes: bad(f),
+        });
     }
     let tests = nested_tests(entries);
     if let Some(lr) = tests.iter().find(|l| l.general == choice.0.model) {
@@ -299,48 +346,31 @@ pub fn recommend(entries: &[Entry], t: &[f64], y: &[f64]) -> Recommendation {
             .iter()
             .find(|(e, f)| e.model == lr.nested && bad(f).is_empty());
         if let (Some(lg), true) = (logistic, lr.p_value >= ALPHA) {
-            reasons.push(format!(
-                "{} has the lower AICc, but the likelihood-ratio test does not reject the \
-                 simpler {} (p {}): the extra parameter is not supported",
-                choice.0.model.name(),
-                lr.nested.name(),
-                fmt_p(lr.p_value)
-            ));
+            reasons.push(Reason::SimplerKept {
+                general: choice.0.model,
+                nested: lr.nested,
+                p_value: lr.p_value,
+            });
             choice = *lg;
         }
     }
     let (ce, _) = choice;
     reasons.insert(
         0,
-        format!(
-            "{}: ΔAICc {:.2}, Akaike weight {:.2}",
-            ce.model.name(),
-            ce.delta_aicc.unwrap_or(f64::NAN),
-            ce.akaike_weight.unwrap_or(f64::NAN)
-        ),
+        Reason::Chosen {
+            model: ce.model,
+            delta_aicc: ce.delta_aicc.unwrap_or(f64::NAN),
+            weight: ce.akaike_weight.unwrap_or(f64::NAN),
+        },
     );
     if let Some((re, _)) = fitted.iter().find(|(e, _)| e.model != ce.model) {
-        reasons.push(format!(
-            "next: {} (ΔAICc {:.2}, weight {:.2})",
-            re.model.name(),
-            re.delta_aicc.unwrap_or(f64::NAN),
-            re.akaike_weight.unwrap_or(f64::NAN)
-        ));
+        reasons.push(Reason::Next {
+            model: re.model,
+            delta_aicc: re.delta_aicc.unwrap_or(f64::NAN),
+            weight: re.akaike_weight.unwrap_or(f64::NAN),
+        });
     }
-    for lr in &tests {
-        reasons.push(format!(
-            "likelihood ratio {} within {}: LR = {:.2}, p {}{}",
-            lr.nested.name(),
-            lr.general.name(),
-            lr.statistic,
-            fmt_p(lr.p_value),
-            if lr.p_value < ALPHA {
-                " (the restriction is rejected)"
-            } else {
-                " (the simpler curve suffices)"
-            }
-        ));
-    }
+    reasons.extend(tests.into_iter().map(Reason::Nested));
     // No S-curve supported: every saturating fit is flagged.
     let shape_flag = |f: &Fit| {
         f.warnings
@@ -355,29 +385,27 @@ pub fn recommend(entries: &[Entry], t: &[f64], y: &[f64]) -> Recommendation {
         let why = shape_flag(curves[0].1).unwrap_or_default();
         reasons.insert(
             0,
-            format!(
-                "no S-curve is supported by these data: for every growth curve fitted, a constant \
-                 or a straight line does better ({}: {why})",
-                curves[0].0.model.name()
-            ),
+            Reason::NoSCurve {
+                model: curves[0].0.model,
+                why,
+            },
         );
         recommended = None;
     }
     let diag = residual_diagnostics(choice.1, t, y);
-    let flagged: Vec<&Verdict> = diag.verdicts.iter().filter(|v| v.flagged).collect();
+    let flagged: Vec<usize> = (0..diag.verdicts.len())
+        .filter(|&i| diag.verdicts[i].flagged)
+        .collect();
     if flagged.is_empty() {
-        reasons.push(format!(
-            "its residuals show no pattern ({} checks)",
-            diag.verdicts.len()
-        ));
+        reasons.push(Reason::ResidualsClean {
+            checks: diag.verdicts.len(),
+        });
     } else {
-        for v in flagged {
-            reasons.push(format!("but {}", v.text));
-        }
+        reasons.extend(flagged.into_iter().map(Reason::ResidualFlag));
     }
     Recommendation {
         model: recommended,
         reasons,
-        residual_verdicts: diag.verdicts,
+        residuals: Some(diag),
     }
 }

@@ -1,7 +1,9 @@
 //! Residual diagnostics, the symmetry test and the Fisher–Pry curvature
 //! check: the questions that decide whether a fitted shape can be trusted,
-//! each answered with a number, a p-value where one exists, and a one-line
-//! [`Verdict`] a client can show as it is.
+//! each answered with a number, a p-value where one exists, and a
+//! [`Verdict`] (which check, a stable code, whether it warns). No sentence
+//! is written here: `plateau_study::wording` words each verdict from the
+//! numbers beside it.
 //!
 //! Main entry points: [`residual_diagnostics`] (→ [`ResidualDiagnostics`]:
 //! runs test, Durbin–Watson, lag-1 autocorrelation, normal Q-Q data and
@@ -49,9 +51,34 @@ pub const MIN_RESIDUALS: usize = 10;
 /// convention, after the SAS manual).
 pub const RUNS_CORRECTION_BELOW: usize = 50;
 
-/// A one-line reading of a diagnostic.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+/// Which check a [`Verdict`] reads.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Check {
+    /// Too few residuals for any pattern check.
+    Pattern,
+    /// The order checks (runs, Durbin–Watson) with too few distinct times.
+    Order,
+    /// The runs test on the residuals' signs.
+    Runs,
+    /// Durbin–Watson and the lag-1 autocorrelation.
+    Autocorrelation,
+    /// Jarque–Bera.
+    Normality,
+    /// Logistic against Richards and Gompertz.
+    Symmetry,
+    /// The Fisher–Pry curvature test.
+    Curvature,
+}
+
+/// The reading of a diagnostic: which check, its stable code, and
+/// whether it warns. The numbers behind it stay in the result that holds
+/// the verdict; the sentence a person reads is written from both by
+/// `plateau_study::wording`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 pub struct Verdict {
+    #[serde(skip)]
+    pub check: Check,
     /// Stable code: `runs_streaks`, `runs_alternate`, `runs_ok`,
     /// `autocorrelated`, `anti_autocorrelated`, `independent`, `not_normal`,
     /// `normal`, `too_few`, `asymmetric`, `symmetric`, `symmetry_unknown`,
@@ -59,14 +86,13 @@ pub struct Verdict {
     pub code: &'static str,
     /// True when the verdict is a warning about the fit.
     pub flagged: bool,
-    pub text: String,
 }
 
-fn verdict(code: &'static str, flagged: bool, text: impl Into<String>) -> Verdict {
+fn verdict(check: Check, code: &'static str, flagged: bool) -> Verdict {
     Verdict {
+        check,
         code,
         flagged,
-        text: text.into(),
     }
 }
 
@@ -368,7 +394,9 @@ pub struct ResidualDiagnostics {
     /// Runs, autocorrelation and normality, in that order (one `too_few`
     /// verdict instead when n < [`MIN_RESIDUALS`]; with replicates and
     /// fewer than [`MIN_RESIDUALS`] distinct times, one `too_few` verdict
-    /// for the order checks, then normality).
+    /// for the order checks, then normality). Worded, and serialised, by
+    /// `plateau_study::wording`.
+    #[serde(skip)]
     pub verdicts: Vec<Verdict>,
     /// Values the runs test, Durbin–Watson and the lag-1 autocorrelation
     /// were computed from: `n`, or with replicate times the number of
@@ -481,34 +509,18 @@ pub fn of_residuals_and_means(res: Vec<f64>, means: Vec<f64>) -> ResidualDiagnos
     let serial_n = means.len();
     let per_time_means = serial_n != n;
     let verdicts = if n < MIN_RESIDUALS {
-        vec![verdict(
-            "too_few",
-            false,
-            format!("only {n} residuals: too few to judge their pattern (at least {MIN_RESIDUALS} needed)"),
-        )]
+        vec![verdict(Check::Pattern, "too_few", false)]
     } else if serial_n < MIN_RESIDUALS {
         vec![
-            verdict(
-                "too_few",
-                false,
-                format!(
-                    "only {serial_n} distinct times: too few to judge the order of the residuals \
-                     (at least {MIN_RESIDUALS} needed; replicates of one time count once)"
-                ),
-            ),
+            verdict(Check::Order, "too_few", false),
             normality_verdict(jb.as_ref()),
         ]
     } else {
-        let mut order = vec![runs_verdict(runs.as_ref()), dw_verdict(dw, r1)];
-        if per_time_means {
-            for v in &mut order {
-                v.text.push_str(&format!(
-                    " (on the mean residual of each of the {serial_n} distinct times)"
-                ));
-            }
-        }
-        order.push(normality_verdict(jb.as_ref()));
-        order
+        vec![
+            runs_verdict(runs.as_ref()),
+            dw_verdict(dw),
+            normality_verdict(jb.as_ref()),
+        ]
     };
     ResidualDiagnostics {
         n,
@@ -526,75 +538,23 @@ pub fn of_residuals_and_means(res: Vec<f64>, means: Vec<f64>) -> ResidualDiagnos
 
 fn runs_verdict(runs: Option<&RunsTest>) -> Verdict {
     match runs {
-        None => verdict(
-            "runs_streaks",
-            true,
-            "every residual has the same sign: the curve misses the data systematically",
-        ),
-        Some(r) if r.p_exact < ALPHA && (r.runs as f64) < r.expected => verdict(
-            "runs_streaks",
-            true,
-            format!(
-                "residuals run in long streaks ({} runs where about {:.1} are expected, p {}): \
-                 the model misses a pattern, and its intervals are too narrow",
-                r.runs,
-                r.expected,
-                fmt_p(r.p_exact)
-            ),
-        ),
-        Some(r) if r.p_exact < ALPHA => verdict(
-            "runs_alternate",
-            true,
-            format!(
-                "residual signs alternate more often than chance ({} runs where about {:.1} are \
-                 expected, p {}): look for a saw-tooth in the data, such as reporting rhythm",
-                r.runs,
-                r.expected,
-                fmt_p(r.p_exact)
-            ),
-        ),
-        Some(r) => verdict(
-            "runs_ok",
-            false,
-            format!(
-                "residual signs mix as chance would ({} runs, about {:.1} expected, p {})",
-                r.runs,
-                r.expected,
-                fmt_p(r.p_exact)
-            ),
-        ),
+        // Every residual has one sign: the curve misses systematically.
+        None => verdict(Check::Runs, "runs_streaks", true),
+        Some(r) if r.p_exact < ALPHA && (r.runs as f64) < r.expected => {
+            verdict(Check::Runs, "runs_streaks", true)
+        }
+        Some(r) if r.p_exact < ALPHA => verdict(Check::Runs, "runs_alternate", true),
+        Some(_) => verdict(Check::Runs, "runs_ok", false),
     }
 }
 
-fn dw_verdict(dw: Option<f64>, r1: Option<f64>) -> Verdict {
-    let r1_text = r1.map_or(String::new(), |r| format!(", lag-1 autocorrelation {r:.2}"));
+fn dw_verdict(dw: Option<f64>) -> Verdict {
     match dw {
-        None => verdict(
-            "too_few",
-            false,
-            "no Durbin–Watson statistic: the residuals are all zero",
-        ),
-        Some(d) if d < DW_LOW => verdict(
-            "autocorrelated",
-            true,
-            format!(
-                "neighbouring residuals move together (Durbin–Watson {d:.2}{r1_text}): \
-                 the errors are not independent, so standard errors and intervals are too small"
-            ),
-        ),
-        Some(d) if d > DW_HIGH => verdict(
-            "anti_autocorrelated",
-            true,
-            format!(
-                "neighbouring residuals swing against each other (Durbin–Watson {d:.2}{r1_text}): \
-                 often a sign of per-period counts or corrections between periods"
-            ),
-        ),
-        Some(d) => verdict(
-            "independent",
-            false,
-            format!("no sign of autocorrelation (Durbin–Watson {d:.2}{r1_text})"),
-        ),
+        // All residuals zero: no statistic.
+        None => verdict(Check::Autocorrelation, "too_few", false),
+        Some(d) if d < DW_LOW => verdict(Check::Autocorrelation, "autocorrelated", true),
+        Some(d) if d > DW_HIGH => verdict(Check::Autocorrelation, "anti_autocorrelated", true),
+        Some(_) => verdict(Check::Autocorrelation, "independent", false),
     }
 }
 
@@ -602,79 +562,17 @@ fn dw_verdict(dw: Option<f64>, r1: Option<f64>) -> Verdict {
 /// [`ResidualDiagnostics::verdicts`].
 pub fn normality_verdict_of(res: &[f64]) -> Verdict {
     if res.len() < MIN_RESIDUALS {
-        return verdict(
-            "too_few",
-            false,
-            format!("only {} residuals: too few to judge normality", res.len()),
-        );
+        return verdict(Check::Normality, "too_few", false);
     }
     normality_verdict(jarque_bera(res).as_ref())
 }
 
 fn normality_verdict(jb: Option<&JarqueBera>) -> Verdict {
     match jb {
-        None => verdict(
-            "too_few",
-            false,
-            "no normality test: the residuals have no spread",
-        ),
-        Some(j) if j.p_value < ALPHA => verdict(
-            "not_normal",
-            true,
-            format!(
-                "the residuals are not normal-looking (skewness {:.2}, kurtosis {:.2}, Jarque–Bera \
-                 p {}): the t intervals assume normal errors; check the Q-Q chart for outliers",
-                j.skewness,
-                j.kurtosis,
-                fmt_p(j.p_value)
-            ),
-        ),
-        Some(j) => verdict(
-            "normal",
-            false,
-            format!(
-                "the residuals are consistent with normal errors (Jarque–Bera p {})",
-                fmt_p(j.p_value)
-            ),
-        ),
-    }
-}
-
-/// A p-value for reading after "p": `= 0.012` (three decimals, more when
-/// rounding would lift a p under 0.05 or 0.01 to that threshold),
-/// `< 0.001`, `> 0.999`. The rule of `plateau_study::numbers::probability`,
-/// kept here for the sentences the core writes (a test there checks that
-/// both agree).
-pub fn fmt_p(p: f64) -> String {
-    if !p.is_finite() {
-        return "–".into();
-    } else if p < 0.001 {
-        return "< 0.001".into();
-    } else if p > 0.999 {
-        return "> 0.999".into();
-    }
-    let mut decimals = 3;
-    loop {
-        let s = format!("{p:.decimals$}");
-        let shown: f64 = s.parse().unwrap_or(p);
-        if !(p < 0.05 && shown >= 0.05 || p < 0.01 && shown >= 0.01) || decimals >= 17 {
-            return format!("= {s}");
-        }
-        decimals += 1;
-    }
-}
-
-/// `x` to six significant digits, without trailing zeros.
-fn sig6(x: f64) -> String {
-    if !x.is_finite() || x == 0.0 {
-        return format!("{x}");
-    }
-    let digits = (5 - x.abs().log10().floor() as i32).clamp(0, 17) as usize;
-    let s = format!("{x:.digits$}");
-    if s.contains('.') {
-        s.trim_end_matches('0').trim_end_matches('.').to_string()
-    } else {
-        s
+        // No spread: no test.
+        None => verdict(Check::Normality, "too_few", false),
+        Some(j) if j.p_value < ALPHA => verdict(Check::Normality, "not_normal", true),
+        Some(_) => verdict(Check::Normality, "normal", false),
     }
 }
 
@@ -746,6 +644,11 @@ pub struct SymmetryTest {
     pub direction: Option<Asymmetry>,
     /// How the decision was made: `likelihood_ratio` or `gompertz_aicc`.
     pub decided_by: Option<&'static str>,
+    /// The logistic fit's data end before its midpoint, where the test has
+    /// little power.
+    #[serde(skip)]
+    pub ends_before_midpoint: bool,
+    #[serde(skip)]
     pub verdict: Verdict,
 }
 
@@ -804,57 +707,10 @@ pub fn symmetry_test_of(
         ),
         _ => (None, None, None),
     };
-    let mut evidence = Vec::new();
-    if let (Some(nu), Some((_, p))) = (nu, lr) {
-        let limit = if nu < NU_GOMPERTZ_LIMIT {
-            " (at its lower limit: the Gompertz shape)"
-        } else {
-            ""
-        };
-        evidence.push(format!(
-            "Richards ν = {nu:.3}{limit}, likelihood-ratio p {}",
-            fmt_p(p)
-        ));
-    }
-    if let Some(d) = d_gomp {
-        evidence.push(format!("Gompertz ΔAICc = {d:.1} against the logistic"));
-    }
-    let evidence = evidence.join("; ");
-    let v = match (asymmetric, direction) {
-        (Some(true), Some(Asymmetry::LateSlower)) => verdict(
-            "asymmetric",
-            true,
-            format!(
-                "the late phase is slower than the early phase: an asymmetric curve \
-                 (Gompertz-like, ν < 1) fits better than the logistic ({evidence})"
-            ),
-        ),
-        (Some(true), Some(Asymmetry::EarlySlower)) => verdict(
-            "asymmetric",
-            true,
-            format!(
-                "the early phase is slower than the late phase: an asymmetric curve \
-                 (Richards ν > 1) fits better than the logistic ({evidence})"
-            ),
-        ),
-        (Some(false), _) => verdict(
-            "symmetric",
-            false,
-            format!(
-                "no evidence against the logistic's symmetry: a free shape does not fit \
-                 significantly better ({evidence}){}",
-                if logistic.has_warning(WarningCode::BeforeInflection) {
-                    "; the data end before the midpoint, where the test has little power"
-                } else {
-                    ""
-                }
-            ),
-        ),
-        _ => verdict(
-            "symmetry_unknown",
-            false,
-            "no symmetry test: neither the Richards nor the Gompertz curve could be fitted",
-        ),
+    let v = match asymmetric {
+        Some(true) => verdict(Check::Symmetry, "asymmetric", true),
+        Some(false) => verdict(Check::Symmetry, "symmetric", false),
+        None => verdict(Check::Symmetry, "symmetry_unknown", false),
     };
     SymmetryTest {
         n,
@@ -869,6 +725,7 @@ pub fn symmetry_test_of(
         asymmetric,
         direction,
         decided_by,
+        ends_before_midpoint: logistic.has_warning(WarningCode::BeforeInflection),
         verdict: v,
     }
 }
@@ -912,6 +769,7 @@ pub struct FisherPry {
     pub curvature_t: Option<f64>,
     /// Two-sided, Student t with n − 3 degrees of freedom.
     pub curvature_p: Option<f64>,
+    #[serde(skip)]
     pub verdict: Verdict,
 }
 
@@ -1010,14 +868,7 @@ pub fn fisher_pry(t: &[f64], y: &[f64], k: f64, errors: ErrorModel) -> Option<Fi
             curvature: None,
             curvature_t: None,
             curvature_p: None,
-            verdict: verdict(
-                "curvature_unknown",
-                false,
-                format!(
-                    "too few values between 0 and K = {} for a straight-line view",
-                    sig6(k)
-                ),
-            ),
+            verdict: verdict(Check::Curvature, "curvature_unknown", false),
         });
     }
     // Weighted straight line.
@@ -1071,42 +922,10 @@ pub fn fisher_pry(t: &[f64], y: &[f64], k: f64, errors: ErrorModel) -> Option<Fi
             }
         }
     }
-    let v = match (c, cp) {
-        (Some(c), Some(p)) if p < ALPHA => verdict(
-            "curved",
-            true,
-            format!(
-                "the Fisher–Pry points bend {} (curvature p {}): curvature means the logistic \
-                 with K = {} is the wrong shape — {}",
-                if c < 0.0 { "downward" } else { "upward" },
-                fmt_p(p),
-                sig6(k),
-                if c < 0.0 {
-                    "growth slows sooner than it allows (K set too high, or a Gompertz-like late phase)"
-                } else {
-                    "growth keeps up longer than it allows (K set too low, or a slow early phase)"
-                }
-            ),
-        ),
-        (Some(_), Some(p)) => verdict(
-            "straight",
-            false,
-            format!(
-                "the Fisher–Pry points lie on a straight line (curvature p {}): consistent \
-                 with a logistic with K = {}",
-                fmt_p(p),
-                sig6(k)
-            ),
-        ),
-        _ => verdict(
-            "curvature_unknown",
-            false,
-            format!(
-                "too few values between 0 and K = {} to test for curvature (at least \
-                 {FISHER_PRY_MIN_POINTS} needed)",
-                sig6(k)
-            ),
-        ),
+    let v = match cp {
+        Some(p) if p < ALPHA => verdict(Check::Curvature, "curved", true),
+        Some(_) => verdict(Check::Curvature, "straight", false),
+        None => verdict(Check::Curvature, "curvature_unknown", false),
     };
     Some(FisherPry {
         k,

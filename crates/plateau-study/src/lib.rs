@@ -10,3 +10,4 @@ pub mod report;
 pub mod request;
 pub mod study;
 pub mod summary;
+pub mod wording;

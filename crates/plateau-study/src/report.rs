@@ -9,8 +9,11 @@
 //! Main types: [`FitReport`] (from a [`Fit`]) and [`CompareReport`] (from
 //! [`compare::Entry`](plateau_core::compare::Entry) rows).
 
-use plateau_core::compare::{nested_tests, recommend, Entry, LrTest, Recommendation};
-use plateau_core::diagnostics::{FisherPry, ResidualDiagnostics, SymmetryTest, Verdict};
+use crate::wording::{
+    FisherPryReport, RecommendationReport, ResidualsReport, SymmetryReport, Worded,
+};
+use plateau_core::compare::{nested_tests, recommend, Entry, LrTest};
+use plateau_core::diagnostics::{FisherPry, ResidualDiagnostics, SymmetryTest};
 use plateau_core::fit::Fit;
 use plateau_core::warning::Warning;
 use serde::ser::{SerializeMap, Serializer};
@@ -213,7 +216,7 @@ pub struct CompareReport {
     pub lr_tests: Vec<LrTest>,
     /// Which model to use and why; `null` from [`CompareReport::new`],
     /// filled by [`CompareReport::with_data`].
-    pub recommendation: Option<Recommendation>,
+    pub recommendation: Option<RecommendationReport>,
     pub warnings: Vec<Warning>,
     /// As in [`FitReport`]: the axis unit and origin (see `with_time`).
     #[serde(skip_serializing_if = "Option::is_none")]
@@ -290,7 +293,7 @@ impl CompareReport {
         y: &[f64],
     ) -> CompareReport {
         let mut r = CompareReport::new(entries, data_warnings);
-        r.recommendation = Some(recommend(entries, t, y));
+        r.recommendation = Some(RecommendationReport::new(&recommend(entries, t, y)));
         r
     }
 }
@@ -301,13 +304,13 @@ impl CompareReport {
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct DiagnoseReport {
     pub fit: FitReport,
-    pub residuals: ResidualDiagnostics,
+    pub residuals: ResidualsReport,
     /// `null` when the logistic could not be fitted.
-    pub symmetry_test: Option<SymmetryTest>,
+    pub symmetry_test: Option<SymmetryReport>,
     /// For the K given, else the fitted K of a saturating model.
-    pub fisher_pry: Option<FisherPry>,
+    pub fisher_pry: Option<FisherPryReport>,
     /// Residual verdicts, then the symmetry and Fisher–Pry verdicts.
-    pub verdicts: Vec<Verdict>,
+    pub verdicts: Vec<Worded>,
     pub caution: &'static str,
 }
 
@@ -319,6 +322,9 @@ impl DiagnoseReport {
         symmetry_test: Option<SymmetryTest>,
         fisher_pry: Option<FisherPry>,
     ) -> DiagnoseReport {
+        let residuals = ResidualsReport::new(residuals);
+        let symmetry_test = symmetry_test.map(SymmetryReport::new);
+        let fisher_pry = fisher_pry.map(FisherPryReport::new);
         let verdicts = residuals
             .verdicts
             .iter()

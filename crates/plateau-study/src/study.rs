@@ -6,8 +6,10 @@
 use crate::forecast_report::{BacktestReport, DriftReport, ForecastReport};
 use crate::report::{CompareReport, DiagnoseReport, FitReport};
 use crate::request::{Horizon, Request, MAX_FORECAST_ROWS};
+use crate::wording::RecommendationReport;
 use plateau_core::backtest::{self, BacktestOptions, ModelBacktest};
 use plateau_core::bootstrap::Bootstrap;
+use plateau_core::compare::recommend;
 use plateau_core::compare::{compare, Entry};
 use plateau_core::data::{check_increments, decline_warning, per_period_totals, DataError, Series};
 use plateau_core::diagnostics::{self, FisherPry, ResidualDiagnostics, SymmetryTest};
@@ -76,6 +78,7 @@ pub struct Study {
     request: Request,
     fit: OnceCell<Result<Fit, FitError>>,
     comparison: OnceCell<Vec<Entry>>,
+    recommendation: OnceCell<RecommendationReport>,
     residuals: OnceCell<Option<ResidualDiagnostics>>,
     symmetry: OnceCell<Option<SymmetryTest>>,
     fisher_pry: OnceCell<Option<FisherPry>>,
@@ -114,6 +117,7 @@ impl Study {
             request,
             fit: OnceCell::new(),
             comparison: OnceCell::new(),
+            recommendation: OnceCell::new(),
             residuals: OnceCell::new(),
             symmetry: OnceCell::new(),
             fisher_pry: OnceCell::new(),
@@ -192,6 +196,13 @@ impl Study {
                 ..self.request.fit.clone()
             };
             compare(self.times(), &self.values, &self.request.models, &opts)
+        })
+    }
+
+    /// Which model to use and why, in words, from the comparison.
+    pub fn recommendation(&self) -> &RecommendationReport {
+        self.recommendation.get_or_init(|| {
+            RecommendationReport::new(&recommend(self.comparison(), self.times(), &self.values))
         })
     }
 
@@ -403,13 +414,9 @@ impl Study {
 
     /// `plateau compare --json`.
     pub fn compare_report(&self) -> CompareReport {
-        CompareReport::with_data(
-            self.comparison(),
-            &self.series.warnings,
-            self.times(),
-            &self.values,
-        )
-        .with_time(&self.series)
+        let mut r = CompareReport::new(self.comparison(), &self.series.warnings);
+        r.recommendation = Some(self.recommendation().clone());
+        r.with_time(&self.series)
     }
 
     /// `plateau diagnose --json`: residual checks, the symmetry test and

@@ -8,11 +8,11 @@
 
 use plateau_core::analysis;
 use plateau_core::bootstrap::{Bootstrap, BootstrapOptions, DEFAULT_SEED};
-use plateau_core::compare::{nested_tests, recommend};
+use plateau_core::compare::nested_tests;
 use plateau_core::data::{
     column_count, parse_multi, ColumnRef, DataError, Layout, MultiOptions, TimeKind,
 };
-use plateau_core::diagnostics::{self, Verdict};
+use plateau_core::diagnostics;
 use plateau_core::fit::{Fit, FitOptions, IntervalMethod};
 use plateau_core::history::DriftRow;
 use plateau_core::milestones::{self, Assessment, Target};
@@ -23,6 +23,7 @@ use plateau_study::request::{self, BacktestRequest, Horizon, Request};
 pub use plateau_study::study::typical_step;
 use plateau_study::study::{csv_field, is_time_param, looks_cumulative, span, Study, StudyError};
 use plateau_study::summary::{summary_csv, SeriesSummary};
+use plateau_study::wording::{self, RecommendationReport, SymmetryReport, Worded};
 use serde::{Deserialize, Serialize};
 use std::fmt::Write;
 use std::rc::Rc;
@@ -341,13 +342,13 @@ pub struct View {
     /// The residual diagnostics of the chosen fit.
     pub diagnostics: DiagnosticsRow,
     /// Logistic against Richards (likelihood ratio) and Gompertz (ΔAICc).
-    pub symmetry_test: Option<diagnostics::SymmetryTest>,
+    pub symmetry_test: Option<SymmetryReport>,
     /// The Fisher–Pry check for the entered K, else the fitted K.
     pub fisher_pry: Option<FisherPryRow>,
     /// Likelihood-ratio tests of the nested pairs.
     pub lr_tests: Vec<plateau_core::compare::LrTest>,
     /// Which model to use and why.
-    pub recommendation: plateau_core::compare::Recommendation,
+    pub recommendation: RecommendationReport,
     pub caution: &'static str,
     /// The axis unit: `day`, `week`, `month`, `quarter`, `year`, or a
     /// numeric time column's header (`""` without one).
@@ -468,7 +469,7 @@ pub struct DiagnosticsRow {
     pub lag1_autocorrelation: Option<f64>,
     pub qq_correlation: Option<f64>,
     pub jarque_bera_p: Option<f64>,
-    pub verdicts: Vec<Verdict>,
+    pub verdicts: Vec<Worded>,
 }
 
 #[derive(Debug, Clone, Serialize, PartialEq)]
@@ -478,7 +479,7 @@ pub struct FisherPryRow {
     /// Whether K was entered (else it is the fitted K).
     pub entered: bool,
     pub curvature_p: Option<f64>,
-    pub verdict: Verdict,
+    pub verdict: Worded,
 }
 
 #[derive(Debug, Clone, Serialize, PartialEq)]
@@ -790,17 +791,17 @@ fn analyse_series(
         lag1_autocorrelation: diag.lag1_autocorrelation,
         qq_correlation: diag.qq.as_ref().map(|q| q.correlation),
         jarque_bera_p: diag.jarque_bera.map(|j| j.p_value),
-        verdicts: diag.verdicts,
+        verdicts: wording::residual_verdicts(&diag),
     };
-    let symmetry_test = study.symmetry_test().cloned();
+    let symmetry_test = study.symmetry_test().cloned().map(SymmetryReport::new);
     let fisher_pry = study.fisher_pry().map(|f| FisherPryRow {
         k: f.k,
         entered: settings.fisher_pry_k.is_some(),
         curvature_p: f.curvature_p,
-        verdict: f.verdict.clone(),
+        verdict: wording::fisher_pry_verdict(f),
     });
     let lr_tests = nested_tests(entries);
-    let recommendation = recommend(entries, &series.times, &values);
+    let recommendation = study.recommendation().clone();
 
     let view = View {
         model: model.name(),

@@ -262,7 +262,7 @@ fn recommendation_names_the_generating_model() {
         let (t, y) = load(file, dates);
         let entries = compare(&t, &y, &Model::ALL, &FitOptions::default());
         let rec = recommend(&entries, &t, &y);
-        println!("{file}: {:?}\n  {}", rec.model, rec.reasons.join("\n  "));
+        println!("{file}: {:?}\n  {:?}", rec.model, rec.reasons);
         assert_eq!(rec.model, Some(truth), "{file}: {:?}", rec.reasons);
         assert!(rec.reasons.len() >= 3);
         let tests = plateau_core::compare::nested_tests(&entries);

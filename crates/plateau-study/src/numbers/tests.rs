@@ -118,24 +118,6 @@ fn probabilities_and_weights() {
     assert_eq!(probability(0.05), "0.050");
 }
 
-/// The core writes p-values into its verdict sentences with its own small
-/// helper (the core cannot depend on this crate); it follows the same rule.
-#[test]
-fn the_cores_sentence_p_values_follow_the_same_rule() {
-    for i in 0..=20_000 {
-        let p = f64::from(i) / 20_000.0;
-        for p in [p, p * 1e-3, p * 0.06] {
-            let want = match probability(p).as_str() {
-                "<0.001" => "< 0.001".to_string(),
-                ">0.999" => "> 0.999".to_string(),
-                s => format!("= {s}"),
-            };
-            assert_eq!(plateau_core::diagnostics::fmt_p(p), want, "{p}");
-        }
-    }
-    assert_eq!(plateau_core::diagnostics::fmt_p(f64::NAN), "–");
-}
-
 #[test]
 fn csv_numbers_are_short_and_exact() {
     assert_eq!(csv(0.1), "0.1");

@@ -341,7 +341,10 @@ fn diagnostics_match_the_core_and_take_the_entered_k() {
     let a = demo();
     let direct =
         plateau_core::diagnostics::residual_diagnostics(&a.fit, &a.series.times, &a.values);
-    assert_eq!(a.view.diagnostics.verdicts, direct.verdicts);
+    assert_eq!(
+        a.view.diagnostics.verdicts,
+        plateau_study::wording::residual_verdicts(&direct)
+    );
     assert_eq!(a.view.diagnostics.durbin_watson, direct.durbin_watson);
     let sym = plateau_core::diagnostics::symmetry_test(
         &a.series.times,
@@ -350,7 +353,10 @@ fn diagnostics_match_the_core_and_take_the_entered_k() {
     )
     .unwrap();
     let shown = a.view.symmetry_test.as_ref().unwrap();
-    assert_eq!(shown.verdict, sym.verdict);
+    assert_eq!(
+        shown.verdict,
+        plateau_study::wording::symmetry_verdict(&sym)
+    );
     assert_eq!(shown.lr_p_value, sym.lr_p_value);
     assert!(a.view.recommendation.model.is_some());
     assert_eq!(a.view.lr_tests.len(), 2);

@@ -259,9 +259,7 @@ function showView(v) {
   currentPeak = v.peak;
   currentPeakText = text.peak;
   showMilestones(v.milestones);
-  const unit = v.timeUnit ? ` ${v.timeUnit}s` : " time units";
-  $("duration").textContent = v.duration1090 == null ? "" :
-    `From 10% to 90% of ${v.saturation} takes ${text.duration1090}${unit}` + (v.model === "logistic" ? " (ln 81 / r)." : ".");
+  $("duration").textContent = text.durationSentence ?? "";
 
   fillBody("comparison", v.comparison.map((c, i) => {
     const tr = document.createElement("tr");

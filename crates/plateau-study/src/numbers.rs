@@ -291,6 +291,25 @@ pub fn probability(p: f64) -> String {
     }
 }
 
+/// An amount of time in the axis' unit, for a sentence: `21.9 months`,
+/// `1 quarter`; a numeric time column's header stays as written
+/// (`21.9 (in weeks since launch)`), no unit gives `21.9 time units`.
+/// `amount` is already formatted.
+pub fn amount_of_time(amount: &str, unit: &str) -> String {
+    const PERIODS: [&str; 5] = ["day", "week", "month", "quarter", "year"];
+    let lower = unit.to_lowercase();
+    if PERIODS.contains(&lower.as_str()) {
+        let s = if amount == "1" { "" } else { "s" };
+        format!("{amount} {lower}{s}")
+    } else if PERIODS.iter().any(|p| lower == format!("{p}s")) {
+        format!("{amount} {lower}")
+    } else if unit.trim().is_empty() {
+        format!("{amount} time units")
+    } else {
+        format!("{amount} (in {unit})")
+    }
+}
+
 /// A number for a CSV file: the shortest text that parses back to the
 /// same `f64` (Rust's shortest round-trip digits, in positional or
 /// exponent form, whichever is shorter), no separators; `-0` as `0`,

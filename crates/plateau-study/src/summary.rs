@@ -129,7 +129,7 @@ impl SeriesSummary {
 /// The CSV header of [`summary_csv`].
 pub const CSV_HEADER: &str =
     "series,model,n,K,K_lo95,K_hi95,r,r_lo95,r_hi95,t0,t0_lo95,t0_hi95,t0_date,\
-duration_10_90,duration_lo95,duration_hi95,converged,warnings,error";
+time_unit,duration_10_90,duration_lo95,duration_hi95,converged,warnings,error";
 
 /// One CSV line (no line end) in the columns of [`CSV_HEADER`]; empty
 /// cells where a value does not exist; warnings as their codes separated
@@ -148,6 +148,7 @@ pub fn csv_row(s: &SeriesSummary) -> String {
         cells.push(num(e.and_then(|e| e.ci95).map(|c| c[1])));
     }
     cells.push(s.t0_date.clone().unwrap_or_default());
+    cells.push(csv_text(s.time_unit.as_deref().unwrap_or("")));
     let d = &s.duration_10_90;
     cells.push(num(d.map(|e| e.estimate)));
     cells.push(num(d.and_then(|e| e.ci95).map(|c| c[0])));
@@ -198,7 +199,12 @@ mod tests {
         let csv = summary_csv(&[ok.clone(), bad]);
         let lines: Vec<&str> = csv.lines().collect();
         assert_eq!(lines.len(), 3);
-        assert_eq!(lines[0].split(',').count(), 19);
+        assert_eq!(lines[0].split(',').count(), 20);
+        assert_eq!(
+            lines[1].split(',').nth(14),
+            Some(""),
+            "numeric times: no unit"
+        );
         assert!(
             lines[1].starts_with("\"north, upper\",logistic,30,"),
             "{}",

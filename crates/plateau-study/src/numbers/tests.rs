@@ -206,3 +206,13 @@ fn the_summary_csv_numbers_read_back_exactly() {
         assert_eq!(cells[at], csv(e.estimate));
     }
 }
+
+/// Durations read in the axis' own unit, plural where English wants it.
+#[test]
+fn amounts_of_time_take_their_unit() {
+    assert_eq!(amount_of_time("21.9", "month"), "21.9 months");
+    assert_eq!(amount_of_time("1", "quarter"), "1 quarter");
+    assert_eq!(amount_of_time("3", "Weeks"), "3 weeks");
+    assert_eq!(amount_of_time("4.4", ""), "4.4 time units");
+    assert_eq!(amount_of_time("4.4", "t"), "4.4 (in t)");
+}

@@ -19,6 +19,8 @@ pub struct ViewText {
     pub stats: StatsText,
     /// The 10%→90% duration, without its unit.
     pub duration_10_90: Option<String>,
+    /// The sentence on it, in the axis' unit.
+    pub duration_sentence: Option<String>,
     pub comparison: Vec<CompareText>,
     /// Per model, MAPE by horizon (`12.34%`, `–` when there is none).
     pub backtest: Vec<Vec<String>>,
@@ -155,6 +157,18 @@ pub fn view_text(v: &View) -> ViewText {
             bic: number(st.bic),
         },
         duration_10_90: v.duration_10_90.map(number),
+        duration_sentence: v.duration_10_90.map(|d| {
+            format!(
+                "From 10% to 90% of {} takes {}{}",
+                v.saturation,
+                numbers::amount_of_time(&number(d), &v.time_unit),
+                if v.model == "logistic" {
+                    " (ln 81 / r)."
+                } else {
+                    "."
+                }
+            )
+        }),
         comparison: v
             .comparison
             .iter()

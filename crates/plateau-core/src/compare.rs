@@ -164,22 +164,6 @@ pub struct LrTest {
     pub df: usize,
     /// From χ²(df).
     pub p_value: f64,
-    /// What the restriction is and whether the χ² reference is regular.
-    pub note: &'static str,
-}
-
-fn restriction_note(general: Model) -> &'static str {
-    match general {
-        Model::Logistic4 => {
-            "L = 0; L may take any sign, so 0 is inside its range (not a boundary) and \
-             χ²(1) applies."
-        }
-        Model::Richards => {
-            "ν = 1, inside ν's range (ν > 0), so χ²(1) applies. The Gompertz curve is the \
-             boundary ν → 0 and is compared by AICc only."
-        }
-        _ => "",
-    }
 }
 
 /// Likelihood-ratio tests for the [`NESTED_PAIRS`] that were both fitted
@@ -204,7 +188,6 @@ pub fn nested_tests(entries: &[Entry]) -> Vec<LrTest> {
                 statistic,
                 df,
                 p_value,
-                note: restriction_note(b),
             })
         })
         .collect()

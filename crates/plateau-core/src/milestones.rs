@@ -39,17 +39,6 @@ pub enum Target {
 }
 
 impl Target {
-    /// A short label, with `level` the name of the saturation level
-    /// ([`Model::saturation_name`]): `50% of K`, `level 1000000`,
-    /// `10% → 90% of m (duration)`.
-    pub fn label(self, level: &str) -> String {
-        match self {
-            Target::Share(p) => format!("{}% of {level}", trim(100.0 * p)),
-            Target::Level(y) => format!("level {}", trim(y)),
-            Target::Duration1090 => format!("10% → 90% of {level} (duration)"),
-        }
-    }
-
     /// `share`, `level` or `duration_10_90`.
     pub fn kind(self) -> &'static str {
         match self {
@@ -69,14 +58,41 @@ impl Target {
     }
 }
 
-/// `x` to six significant digits, without trailing zeros.
-fn trim(x: f64) -> String {
-    if x == 0.0 || !x.is_finite() {
-        return format!("{x}");
-    }
-    let m = 10f64.powi(5 - x.abs().log10().floor() as i32);
-    let s = format!("{}", (x * m).round() / m);
-    s.strip_suffix(".0").map(str::to_string).unwrap_or(s)
+/// Why a milestone has the [`Verdict`] it has, with the numbers behind
+/// it; `plateau_study::wording` says it in words.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[non_exhaustive]
+pub enum Why {
+    /// The model has no saturation level.
+    NoSaturation { model: Model },
+    /// The fitted curve levels off at `k`, at or below the level.
+    LevelsOffBelow { level: f64, k: f64 },
+    /// The level is at or below logistic4's fitted floor.
+    AtOrBelowFloor { level: f64, floor: f64 },
+    /// The fitted curve never reaches the level.
+    NeverReaches { level: f64 },
+    /// The fitted curve gives no time for this milestone.
+    NoTime,
+    /// The level is above K's 95% interval `[lo, hi]`.
+    AboveKInterval { level: f64, lo: f64, hi: f64 },
+    /// The level is inside K's 95% interval.
+    InsideKInterval { level: f64, lo: f64, hi: f64 },
+    /// K has no interval, so whether the level is ever reached is open.
+    KWithoutInterval,
+    /// Only this share of the bootstrap refits ever reach it (under half).
+    FewRefitsReach { share: f64 },
+    /// This share of the bootstrap refits never reach it.
+    SomeRefitsNeverReach { share: f64 },
+    /// It would come this many data spans after the last observation.
+    TooFar { spans: f64 },
+    /// Within the observed time range.
+    WithinData,
+    /// After the last observation.
+    Extrapolation,
+    /// The data cover the rise to 90% of K.
+    RiseCovered,
+    /// The rise to 90% of K lies partly after the last observation.
+    RisePartlyAhead,
 }
 
 /// How far a milestone can be read off the fit.
@@ -130,17 +146,10 @@ pub struct Assessment {
     /// 95% bootstrap percentile interval, when a bootstrap was run.
     pub bootstrap: Option<QuantityInterval>,
     pub verdict: Verdict,
-    /// One sentence saying what the verdict means for this milestone.
-    pub note: String,
+    /// What the verdict means for this milestone (`None`: nothing to add).
+    pub why: Option<Why>,
     /// The fitted model's name for its saturation level.
     pub level_name: &'static str,
-}
-
-impl Assessment {
-    /// The milestone's label for the fitted model (see [`Target::label`]).
-    pub fn label(&self) -> String {
-        self.target.label(self.level_name)
-    }
 }
 
 /// Assesses `target` for `fit` on data observed from `t_first` to `t_last`.
@@ -176,33 +185,30 @@ pub fn assess(
         delta: m.and_then(|m| m.ci95),
         bootstrap,
         verdict: Verdict::Forecast,
-        note: String::new(),
+        why: None,
         level_name: model.saturation_name(),
     };
     let saturates = model.saturates();
     if !saturates && !matches!(target, Target::Level(_)) {
         a.verdict = Verdict::NotApplicable;
-        a.note = format!("the {} model has no saturation level", model.name());
+        a.why = Some(Why::NoSaturation { model });
         return a;
     }
     let k = fit.param("K");
     let floor = fit.param("L").map_or(0.0, |l| l.estimate);
     let Some(time) = a.estimate else {
         a.verdict = Verdict::NotReached;
-        a.note = match (target, k) {
-            (Target::Level(y), Some(k)) if y >= k.estimate => format!(
-                "the fitted curve levels off at K = {} and never reaches {}",
-                trim(k.estimate),
-                trim(y)
-            ),
-            (Target::Level(y), _) if model == Model::Logistic4 && y <= floor => format!(
-                "{} is at or below the fitted floor L = {}",
-                trim(y),
-                trim(floor)
-            ),
-            (Target::Level(y), _) => format!("the fitted curve never reaches {}", trim(y)),
-            _ => "the fitted curve gives no time for this milestone".to_string(),
-        };
+        a.why = Some(match (target, k) {
+            (Target::Level(level), Some(k)) if level >= k.estimate => Why::LevelsOffBelow {
+                level,
+                k: k.estimate,
+            },
+            (Target::Level(level), _) if model == Model::Logistic4 && level <= floor => {
+                Why::AtOrBelowFloor { level, floor }
+            }
+            (Target::Level(level), _) => Why::NeverReaches { level },
+            _ => Why::NoTime,
+        });
         return a;
     };
     if let (Target::Level(y), Some(k)) = (target, k) {
@@ -210,29 +216,24 @@ pub fn assess(
             if y > khi {
                 // Cannot happen for a reached level (y < K̂ ≤ khi), kept for clarity.
                 a.verdict = Verdict::NotReached;
-                a.note = format!(
-                    "{} is above the 95% interval of K ({} … {})",
-                    trim(y),
-                    trim(klo),
-                    trim(khi)
-                );
+                a.why = Some(Why::AboveKInterval {
+                    level: y,
+                    lo: klo,
+                    hi: khi,
+                });
                 return a;
             }
             if y > klo {
                 a.verdict = Verdict::MayNeverBeReached;
-                a.note = format!(
-                    "{} lies inside the 95% interval of K ({} … {}): the data cannot say \
-                     whether the curve ever gets there",
-                    trim(y),
-                    trim(klo),
-                    trim(khi)
-                );
+                a.why = Some(Why::InsideKInterval {
+                    level: y,
+                    lo: klo,
+                    hi: khi,
+                });
             }
         } else if !k.fixed {
             a.verdict = Verdict::MayNeverBeReached;
-            a.note = "K has no interval, so the data cannot say whether this level is ever \
-                      reached"
-                .to_string();
+            a.why = Some(Why::KWithoutInterval);
         }
     }
     if let Some(q) = &a.bootstrap {
@@ -240,19 +241,12 @@ pub fn assess(
             let share = q.share_existing();
             if share < 0.5 {
                 a.verdict = Verdict::NotReached;
-                a.note = format!(
-                    "only {:.0}% of the bootstrap refits ever reach it",
-                    100.0 * share
-                );
+                a.why = Some(Why::FewRefitsReach { share });
                 return a;
             }
             if a.verdict != Verdict::MayNeverBeReached {
                 a.verdict = Verdict::MayNeverBeReached;
-                a.note = format!(
-                    "{:.1}% of the bootstrap refits never reach it, so the interval has no \
-                     upper end",
-                    100.0 * (1.0 - share)
-                );
+                a.why = Some(Why::SomeRefitsNeverReach { share: 1.0 - share });
             }
         }
     }
@@ -260,19 +254,17 @@ pub fn assess(
     if !matches!(target, Target::Duration1090) {
         if time > t_last + MAX_EXTRAPOLATION * span {
             a.verdict = Verdict::TooFar;
-            a.note = format!(
-                "it would come {:.1} data spans after the last observation, further than \
-                 a forecast from these data can reach",
-                (time - t_last) / span.max(f64::MIN_POSITIVE)
-            );
+            a.why = Some(Why::TooFar {
+                spans: (time - t_last) / span.max(f64::MIN_POSITIVE),
+            });
             return a;
         }
         if a.verdict == Verdict::Forecast {
             if time <= t_last {
                 a.verdict = Verdict::Observed;
-                a.note = "within the observed time range".to_string();
+                a.why = Some(Why::WithinData);
             } else {
-                a.note = "after the last observation: an extrapolation".to_string();
+                a.why = Some(Why::Extrapolation);
             }
         }
     } else if a.verdict == Verdict::Forecast {
@@ -281,11 +273,11 @@ pub fn assess(
         } else {
             Verdict::Forecast
         };
-        a.note = if a.verdict == Verdict::Observed {
-            "the data cover the rise to 90% of K".to_string()
+        a.why = Some(if a.verdict == Verdict::Observed {
+            Why::RiseCovered
         } else {
-            "the rise to 90% of K lies partly after the last observation".to_string()
-        };
+            Why::RisePartlyAhead
+        });
     }
     a
 }

@@ -143,9 +143,9 @@ impl MilestoneReport {
         MilestoneReport {
             kind: a.target.kind(),
             target: a.target.value(),
-            label: a.label(),
+            label: crate::wording::milestone_label(a),
             verdict: a.verdict.as_str(),
-            note: a.note.clone(),
+            note: crate::wording::milestone_note(a),
             estimate: a.estimate,
             time_text: a.estimate.filter(|_| a.verdict.shows_time()).map(|t| {
                 if is_duration {

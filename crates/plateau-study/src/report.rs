@@ -10,9 +10,9 @@
 //! [`compare::Entry`](plateau_core::compare::Entry) rows).
 
 use crate::wording::{
-    FisherPryReport, RecommendationReport, ResidualsReport, SymmetryReport, Worded,
+    FisherPryReport, LrTestReport, RecommendationReport, ResidualsReport, SymmetryReport, Worded,
 };
-use plateau_core::compare::{nested_tests, recommend, Entry, LrTest};
+use plateau_core::compare::{nested_tests, recommend, Entry};
 use plateau_core::diagnostics::{FisherPry, ResidualDiagnostics, SymmetryTest};
 use plateau_core::fit::Fit;
 use plateau_core::warning::Warning;
@@ -213,7 +213,7 @@ pub struct CompareReport {
     /// Best (lowest AICc) first.
     pub models: Vec<CompareRow>,
     /// Likelihood-ratio tests of the nested pairs that were both fitted.
-    pub lr_tests: Vec<LrTest>,
+    pub lr_tests: Vec<LrTestReport>,
     /// Which model to use and why; `null` from [`CompareReport::new`],
     /// filled by [`CompareReport::with_data`].
     pub recommendation: Option<RecommendationReport>,
@@ -276,7 +276,10 @@ impl CompareReport {
             .collect();
         CompareReport {
             models,
-            lr_tests: nested_tests(entries),
+            lr_tests: nested_tests(entries)
+                .into_iter()
+                .map(LrTestReport::new)
+                .collect(),
             recommendation: None,
             warnings: data_warnings.to_vec(),
             time_unit: None,

@@ -8,11 +8,12 @@
 //! [`RecommendationReport`].
 
 use crate::numbers;
-use plateau_core::compare::{Reason, Recommendation};
+use plateau_core::compare::{LrTest, Reason, Recommendation};
 use plateau_core::diagnostics::{
     jarque_bera, normality_verdict_of, Asymmetry, Check, FisherPry, ResidualDiagnostics,
     SymmetryTest, Verdict, FISHER_PRY_MIN_POINTS, MIN_RESIDUALS, NU_GOMPERTZ_LIMIT,
 };
+use plateau_core::milestones::{Assessment, Target, Why};
 use plateau_core::Model;
 use serde::Serialize;
 
@@ -371,6 +372,105 @@ fn reason_text(r: &Reason, residual_verdicts: &[Worded]) -> String {
     }
 }
 
+/// A milestone's short label, naming the model's own saturation level:
+/// `50% of K`, `level 1,000,000`, `10% → 90% of m (duration)`.
+pub fn milestone_label(a: &Assessment) -> String {
+    let level = a.level_name;
+    match a.target {
+        Target::Share(p) => format!("{}% of {level}", numbers::number(100.0 * p)),
+        Target::Level(y) => format!("level {}", numbers::number(y)),
+        Target::Duration1090 => format!("10% → 90% of {level} (duration)"),
+    }
+}
+
+/// What a milestone's verdict means for it, in one sentence (`""` when
+/// there is nothing to add).
+pub fn milestone_note(a: &Assessment) -> String {
+    let n = numbers::number;
+    let Some(why) = a.why else {
+        return String::new();
+    };
+    match why {
+        Why::NoSaturation { model } => {
+            format!("the {} model has no saturation level", model.name())
+        }
+        Why::LevelsOffBelow { level, k } => format!(
+            "the fitted curve levels off at K = {} and never reaches {}",
+            n(k),
+            n(level)
+        ),
+        Why::AtOrBelowFloor { level, floor } => format!(
+            "{} is at or below the fitted floor L = {}",
+            n(level),
+            n(floor)
+        ),
+        Why::NeverReaches { level } => format!("the fitted curve never reaches {}", n(level)),
+        Why::NoTime => "the fitted curve gives no time for this milestone".into(),
+        Why::AboveKInterval { level, lo, hi } => format!(
+            "{} is above the 95% interval of K ({} … {})",
+            n(level),
+            n(lo),
+            n(hi)
+        ),
+        Why::InsideKInterval { level, lo, hi } => format!(
+            "{} lies inside the 95% interval of K ({} … {}): the data cannot say whether \
+             the curve ever gets there",
+            n(level),
+            n(lo),
+            n(hi)
+        ),
+        Why::KWithoutInterval => "K has no interval, so the data cannot say whether this \
+                                  level is ever reached"
+            .into(),
+        Why::FewRefitsReach { share } => format!(
+            "only {:.0}% of the bootstrap refits ever reach it",
+            100.0 * share
+        ),
+        Why::SomeRefitsNeverReach { share } => format!(
+            "{:.1}% of the bootstrap refits never reach it, so the interval has no upper end",
+            100.0 * share
+        ),
+        Why::TooFar { spans } => format!(
+            "it would come {spans:.1} data spans after the last observation, further than a \
+             forecast from these data can reach"
+        ),
+        Why::WithinData => "within the observed time range".into(),
+        Why::Extrapolation => "after the last observation: an extrapolation".into(),
+        Why::RiseCovered => "the data cover the rise to 90% of K".into(),
+        Why::RisePartlyAhead => {
+            "the rise to 90% of K lies partly after the last observation".into()
+        }
+        _ => String::new(),
+    }
+}
+
+/// A likelihood-ratio test with a note on its restriction: the JSON's
+/// `lr_tests` items.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct LrTestReport {
+    #[serde(flatten)]
+    pub test: LrTest,
+    /// What the restriction is and whether the χ² reference is regular.
+    pub note: &'static str,
+}
+
+impl LrTestReport {
+    pub fn new(test: LrTest) -> LrTestReport {
+        let note = match test.general {
+            Model::Logistic4 => {
+                "L = 0; L may take any sign, so 0 is inside its range (not a boundary) and \
+                 χ²(1) applies."
+            }
+            Model::Richards => {
+                "ν = 1, inside ν's range (ν > 0), so χ²(1) applies. The Gompertz curve is the \
+                 boundary ν → 0 and is compared by AICc only."
+            }
+            _ => "",
+        };
+        LrTestReport { test, note }
+    }
+}
+
 /// The reports read as the results they word (their own `verdict` /
 /// `verdicts` fields, the worded ones, come first).
 macro_rules! reads_as {
@@ -386,6 +486,7 @@ macro_rules! reads_as {
 reads_as!(ResidualsReport, diagnostics, ResidualDiagnostics);
 reads_as!(SymmetryReport, test, SymmetryTest);
 reads_as!(FisherPryReport, check, FisherPry);
+reads_as!(LrTestReport, test, LrTest);
 
 #[cfg(test)]
 mod tests;

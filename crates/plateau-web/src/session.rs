@@ -346,7 +346,7 @@ pub struct View {
     /// The Fisher–Pry check for the entered K, else the fitted K.
     pub fisher_pry: Option<FisherPryRow>,
     /// Likelihood-ratio tests of the nested pairs.
-    pub lr_tests: Vec<plateau_core::compare::LrTest>,
+    pub lr_tests: Vec<wording::LrTestReport>,
     /// Which model to use and why.
     pub recommendation: RecommendationReport,
     pub caution: &'static str,
@@ -800,7 +800,10 @@ fn analyse_series(
         curvature_p: f.curvature_p,
         verdict: wording::fisher_pry_verdict(f),
     });
-    let lr_tests = nested_tests(entries);
+    let lr_tests = nested_tests(entries)
+        .into_iter()
+        .map(wording::LrTestReport::new)
+        .collect();
     let recommendation = study.recommendation().clone();
 
     let view = View {
@@ -931,7 +934,7 @@ fn milestone_row(a: &Assessment, fmt_t: &dyn Fn(f64) -> String) -> MilestoneRow 
         },
     };
     MilestoneRow {
-        label: a.label(),
+        label: wording::milestone_label(a),
         time: a.estimate,
         time_text,
         ci95_text: a.delta.filter(|_| show).map(|(lo, hi)| {
@@ -946,7 +949,7 @@ fn milestone_row(a: &Assessment, fmt_t: &dyn Fn(f64) -> String) -> MilestoneRow 
         }),
         forecast: !duration && a.verdict == milestones::Verdict::Forecast,
         verdict: a.verdict.as_str(),
-        note: a.note.clone(),
+        note: wording::milestone_note(a),
     }
 }
 

@@ -633,7 +633,7 @@ fn forecast_json_has_bands_milestones_and_a_reproducible_bootstrap() {
             "50% of K",
             "90% of K",
             "75% of K",
-            "level 9000",
+            "level 9,000",
             "10% → 90% of K (duration)"
         ]
     );

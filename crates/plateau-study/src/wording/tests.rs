@@ -2,7 +2,6 @@
 //! the statistic it rests on, and the wording follows the code.
 
 use super::*;
-use plateau_core::compare::LrTest;
 use plateau_core::diagnostics::{fisher_pry, of_residuals, of_residuals_and_means};
 use plateau_core::fit::ErrorModel;
 
@@ -173,7 +172,6 @@ fn reasons_are_worded_from_their_numbers() {
                 statistic: 1.18,
                 df: 1,
                 p_value: 0.2761,
-                note: "",
             }),
             Reason::ResidualsClean { checks: 1 },
         ],
@@ -186,4 +184,31 @@ fn reasons_are_worded_from_their_numbers() {
         "likelihood ratio logistic within richards: LR = 1.18, p = 0.276 (the simpler curve suffices)"
     );
     assert_eq!(r.reasons[2], "its residuals show no pattern in 1 check");
+}
+
+/// Milestones are labelled and explained from the assessment's numbers:
+/// an exact logistic (K = 1,000, r = 0.5, t0 = 10, observed t = 0 … 20)
+/// never reaches 2,000 (analytic: it levels off at K), and reaches half of
+/// K at t0 inside the data.
+#[test]
+fn milestones_are_labelled_and_explained() {
+    use plateau_core::fit::{fit_xy, FitOptions};
+    use plateau_core::milestones::{assess, Target};
+    let t: Vec<f64> = (0..=20).map(f64::from).collect();
+    let y: Vec<f64> = t
+        .iter()
+        .map(|&t| 1000.0 / (1.0 + (-0.5 * (t - 10.0)).exp()))
+        .collect();
+    let f = fit_xy(&t, &y, Model::Logistic, &FitOptions::default()).unwrap();
+    let never = assess(&f, Target::Level(2000.0), 0.0, 20.0, None);
+    assert_eq!(milestone_label(&never), "level 2,000");
+    assert_eq!(
+        milestone_note(&never),
+        "the fitted curve levels off at K = 1,000 and never reaches 2,000"
+    );
+    let half = assess(&f, Target::Share(0.5), 0.0, 20.0, None);
+    assert_eq!(milestone_label(&half), "50% of K");
+    assert_eq!(milestone_note(&half), "within the observed time range");
+    let rise = assess(&f, Target::Duration1090, 0.0, 20.0, None);
+    assert_eq!(milestone_label(&rise), "10% → 90% of K (duration)");
 }

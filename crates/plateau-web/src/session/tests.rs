@@ -443,7 +443,7 @@ fn unreachable_levels_say_so_and_drift_rows_are_there() {
         .view
         .milestones
         .iter()
-        .find(|m| m.label == "level 1000000000")
+        .find(|m| m.label == "level 1,000,000,000")
         .unwrap();
     assert_eq!(row.verdict, "not_reached");
     assert_eq!(row.time_text, "not reached");

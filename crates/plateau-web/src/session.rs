@@ -1032,6 +1032,13 @@ impl Analysis {
     /// `prediction95_*` for a new observation (adds σ̂²).
     pub fn table_csv(&self) -> String {
         let kind = self.series.axis;
+        // The time as the data wrote it: calendar text (a text cell), or on
+        // a plain-number axis the exact number (a numeric cell, so a
+        // negative time stays a number and reads back to the same f64).
+        let time = |t: f64| match kind.period() {
+            Some(_) => csv_field(&kind.format(t)),
+            None => numbers::csv(t),
+        };
         let mut s = String::from(TABLE_CSV_HEADER);
         s.push('\n');
         let num = numbers::csv;
@@ -1053,7 +1060,7 @@ impl Analysis {
             let _ = writeln!(
                 s,
                 "{},{},{},{},,{}",
-                csv_field(&kind.format(t)),
+                time(t),
                 num(t),
                 num(self.values[i]),
                 num(self.fit.fitted[i]),
@@ -1068,7 +1075,7 @@ impl Analysis {
             let _ = writeln!(
                 s,
                 "{},{},,,{},{}",
-                csv_field(&kind.format(t)),
+                time(t),
                 num(t),
                 num(self.fit.predict(t)),
                 bands(t),

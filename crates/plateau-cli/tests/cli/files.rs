@@ -128,7 +128,13 @@ fn the_pages_table_export_fits_as_the_original() {
         );
         let k = v["params"]["K"]["estimate"].as_f64().unwrap();
         assert_eq!(k, a.fit.param("K").unwrap().estimate, "{name}");
-        assert_eq!(v["time_unit"], a.series.time_unit().as_str(), "{name}");
+        // A calendar comes back as the same calendar; a plain-number
+        // axis comes back named "time" (the export's fixed header).
+        if a.series.axis.period().is_some() {
+            assert_eq!(v["time_unit"], a.series.time_unit().as_str(), "{name}");
+        } else {
+            assert_eq!(v["time_unit"], "time", "{name}");
+        }
     }
     // The original file through the CLI gives that K too.
     let original = fit(&[&demo("aldermoor_subscribers.csv")]);
@@ -138,4 +144,56 @@ fn the_pages_table_export_fits_as_the_original() {
         .to_string()]);
     assert_eq!(original["params"]["K"], again["params"]["K"]);
     let _ = std::fs::remove_dir_all(&dir);
+}
+
+/// `plateau batch --csv` writes series names a spreadsheet would run as
+/// formulas as quoted text with a leading `'` (OWASP "CSV injection");
+/// its numbers, negative ones included, stay plain numbers.
+#[test]
+fn batch_csv_neutralises_formula_like_series_names() {
+    // Exact logistic K = 100, r = 0.5, t0 = -10 (t = -25..4) under four
+    // hostile names: t0 and its interval are negative numbers.
+    let mut text = String::from("series,t,y\n");
+    let names = [
+        "\"=HYPERLINK(\"\"http://example.invalid\"\")\"",
+        "+1",
+        "@SUM(A1:A2)",
+        "-east",
+    ];
+    for name in names {
+        for i in -25..5 {
+            let t = f64::from(i);
+            let y = 100.0 / (1.0 + (-0.5 * (t + 10.0)).exp());
+            text.push_str(&format!("{name},{t},{y}\n"));
+        }
+    }
+    let out = plateau(&["batch", "-", "--csv"], Some(&text));
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let csv = String::from_utf8(out.stdout).unwrap();
+    let lines: Vec<&str> = csv.lines().collect();
+    assert_eq!(lines.len(), 5, "{csv}");
+    let starts = [
+        "\"'=HYPERLINK(\"\"http://example.invalid\"\")\",",
+        "\"'+1\",",
+        "\"'@SUM(A1:A2)\",",
+        "\"'-east\",",
+    ];
+    for (line, start) in lines[1..].iter().zip(starts) {
+        assert!(line.starts_with(start), "{line}");
+        // The t0 cell (column 10) is a negative number, unquoted.
+        let t0: f64 = line
+            .rsplit_once(start)
+            .unwrap()
+            .1
+            .split(',')
+            .nth(8)
+            .unwrap()
+            .parse()
+            .unwrap();
+        assert!((t0 + 10.0).abs() < 1e-6, "{line}");
+    }
 }

@@ -18,7 +18,7 @@
 //! the cell).
 
 use super::{error, quote, DataError, DataErrorKind};
-use calamine::{Data, Ods, Range, Reader, Sheets, Xls, Xlsx};
+use calamine::{Data, Ods, Range, Reader, Xls, Xlsx};
 use std::io::Cursor;
 
 /// Which sheet to read: by name (exact, then ignoring case) or by 1-based
@@ -150,7 +150,7 @@ pub fn read_workbook(
             let mut first = None;
             for (i, name) in sheets.iter().enumerate() {
                 let range = book.worksheet_range(name).map_err(damaged)?;
-                let formulas = book.worksheet_formula(name).unwrap_or_default();
+                let formulas = book.worksheet_formula(name);
                 if !is_blank(&range) || !formulas.is_empty() {
                     first = Some(i);
                     break;
@@ -167,7 +167,7 @@ pub fn read_workbook(
     };
     let name = &sheets[index];
     let range = book.worksheet_range(name).map_err(damaged)?;
-    let formulas = book.worksheet_formula(name).unwrap_or_default();
+    let formulas = book.worksheet_formula(name);
     check_formulas(name, &range, &formulas)?;
     if is_blank(&range) {
         let with_data: Vec<String> = sheets
@@ -196,14 +196,49 @@ pub fn read_workbook(
     })
 }
 
-fn open(bytes: &[u8]) -> Result<Sheets<Cursor<&[u8]>>, DataError> {
+/// The three readers the tool uses. Not calamine's `Sheets`, which also
+/// carries the .xlsb reader: the page would ship code it never runs.
+enum Book<'a> {
+    Xls(Xls<Cursor<&'a [u8]>>),
+    Xlsx(Xlsx<Cursor<&'a [u8]>>),
+    Ods(Ods<Cursor<&'a [u8]>>),
+}
+
+impl Book<'_> {
+    fn sheet_names(&self) -> Vec<String> {
+        match self {
+            Book::Xls(b) => b.sheet_names(),
+            Book::Xlsx(b) => b.sheet_names(),
+            Book::Ods(b) => b.sheet_names(),
+        }
+    }
+
+    fn worksheet_range(&mut self, name: &str) -> Result<Range<Data>, String> {
+        match self {
+            Book::Xls(b) => b.worksheet_range(name).map_err(|e| e.to_string()),
+            Book::Xlsx(b) => b.worksheet_range(name).map_err(|e| e.to_string()),
+            Book::Ods(b) => b.worksheet_range(name).map_err(|e| e.to_string()),
+        }
+    }
+
+    /// The sheet's formulas (empty when they cannot be read).
+    fn worksheet_formula(&mut self, name: &str) -> Range<String> {
+        match self {
+            Book::Xls(b) => b.worksheet_formula(name).unwrap_or_default(),
+            Book::Xlsx(b) => b.worksheet_formula(name).unwrap_or_default(),
+            Book::Ods(b) => b.worksheet_formula(name).unwrap_or_default(),
+        }
+    }
+}
+
+fn open(bytes: &[u8]) -> Result<Book<'_>, DataError> {
     let cursor = Cursor::new(bytes);
     if bytes.starts_with(&OLE_MAGIC) {
         if is_encrypted_package(bytes) {
             return Err(workbook_error(PROTECTED));
         }
         return match calamine::open_workbook_from_rs::<Xls<_>, _>(cursor) {
-            Ok(x) => Ok(Sheets::Xls(x)),
+            Ok(x) => Ok(Book::Xls(x)),
             Err(calamine::XlsError::Password) => Err(workbook_error(PROTECTED)),
             Err(e) => Err(damaged(e)),
         };
@@ -214,13 +249,13 @@ fn open(bytes: &[u8]) -> Result<Sheets<Cursor<&[u8]>>, DataError> {
         let ods = head.windows(12).any(|w| w == b"opendocument".as_slice());
         return if ods {
             match calamine::open_workbook_from_rs::<Ods<_>, _>(cursor) {
-                Ok(o) => Ok(Sheets::Ods(o)),
+                Ok(o) => Ok(Book::Ods(o)),
                 Err(calamine::OdsError::Password) => Err(workbook_error(PROTECTED)),
                 Err(e) => Err(damaged(e)),
             }
         } else {
             calamine::open_workbook_from_rs::<Xlsx<_>, _>(cursor)
-                .map(Sheets::Xlsx)
+                .map(Book::Xlsx)
                 .map_err(damaged)
         };
     }

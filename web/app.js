@@ -553,6 +553,8 @@ function update() {
     setStatus(`${view.stats.n} points read: ${view.valueName} against ${view.timeName}.`, false);
   }
   $("data-label").textContent = state.demo === "multi" ? demoMultiLabel() : state.demo ? demoLabel() : state.fileLabel || "";
+  // The sheet chooser belongs to an opened workbook's text, not to a demo or edited text.
+  if (!state.fileLabel) $("sheet-row").hidden = true;
   window.plateauLastUpdateMs = performance.now() - started;
   // Milliseconds from navigation start to the first drawn fit.
   window.plateauFirstFitMs ??= performance.now();
@@ -614,11 +616,11 @@ function readOpened(sheet) {
   }
   const select = $("sheet-select");
   select.replaceChildren(...file.sheets.map((name, i) => new Option(name, String(i + 1), false, i + 1 === file.sheet)));
-  $("sheet-row").hidden = file.sheets.length < 2;
   loadText(file.text);
   state.fileLabel = file.label;
   save();
   $("data-label").textContent = file.label;
+  $("sheet-row").hidden = file.sheets.length < 2;
 }
 
 function wire() {

@@ -49,6 +49,10 @@ test("a workbook opened through the file input fits as the CLI fits it; the shee
   await page.selectOption("#sheet-select", "1");
   await page.waitForFunction(() => /is empty/.test(document.querySelector("#parse-status").textContent));
   assert.match(await page.textContent("#parse-status"), /sheet "Blank" is empty/);
+  // The demo replaces the workbook's text: no chooser, no file label.
+  await page.click("#load-demo");
+  await page.waitForFunction(() => document.querySelector("#sheet-row").hidden);
+  assert.doesNotMatch(await page.textContent("#data-label"), /members\.xlsx/);
   assert.deepEqual(errors, []);
   await context.close();
 });

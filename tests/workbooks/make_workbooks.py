@@ -6,7 +6,7 @@ r = 0.35 per month and the midpoint 14 months after January 2022, plus
 rounded normal noise (sd 40) from random.Random(20261205); and the same
 library's quarterly totals (every third month of the same curve).
 
-Run from the workspace root with openpyxl, odfpy and xlwt installed
+Run from the workspace root with openpyxl, odfpy, xlwt and msoffcrypto-tool installed
 (versions in requirements.txt):
 
     python tests/workbooks/make_workbooks.py
@@ -19,6 +19,8 @@ Files written beside this script:
   formulas.xlsx   "Members" with a value column of formulas whose values
                   were never calculated (openpyxl does not calculate)
   truncated.xlsx  the first half of members.xlsx's bytes (a damaged file)
+  encrypted.xlsx  members.xlsx protected with the password "thistle"
+                  (msoffcrypto-tool, ECMA-376 agile encryption)
   members.csv     the "Members" sheet as CSV, the reference the tests
                   compare the workbooks with
 """
@@ -149,6 +151,14 @@ def main():
         data = f.read()
     with open(os.path.join(HERE, "truncated.xlsx"), "wb") as f:
         f.write(data[: len(data) // 2])
+    write_encrypted(os.path.join(HERE, "members.xlsx"), os.path.join(HERE, "encrypted.xlsx"))
+
+
+def write_encrypted(src, dst):
+    from msoffcrypto.format.ooxml import OOXMLFile
+
+    with open(src, "rb") as plain, open(dst, "wb") as out:
+        OOXMLFile(plain).encrypt("thistle", out)
 
 
 if __name__ == "__main__":

@@ -66,7 +66,8 @@ fn workbooks_fit_as_their_csv() {
 /// the sheet and, for a formula without a saved value, the cell.
 #[test]
 fn bad_workbooks_exit_2_naming_sheet_and_cell() {
-    let cases: [(&[&str], &str); 5] = [
+    let cases: [(&[&str], &str); 6] = [
+        (&[&workbook("encrypted.xlsx")], "password-protected"),
         (
             &[&workbook("members.xlsx"), "--sheet", "1"],
             "sheet \"Blank\" is empty",

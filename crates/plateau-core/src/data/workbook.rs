@@ -382,6 +382,7 @@ mod tests {
     const XLS: &[u8] = include_bytes!("../../../../tests/workbooks/members.xls");
     const FORMULAS: &[u8] = include_bytes!("../../../../tests/workbooks/formulas.xlsx");
     const TRUNCATED: &[u8] = include_bytes!("../../../../tests/workbooks/truncated.xlsx");
+    const ENCRYPTED: &[u8] = include_bytes!("../../../../tests/workbooks/encrypted.xlsx");
     const CSV: &str = include_str!("../../../../tests/workbooks/members.csv");
 
     fn read(bytes: &[u8], choice: Option<SheetChoice>) -> Result<WorkbookSheet, DataError> {
@@ -444,13 +445,9 @@ mod tests {
             m.contains("sheet \"Members\", cell B2: the formula =C2*1 has no saved value"),
             "{m}"
         );
-        // An OLE container holding an EncryptedPackage stream is how
-        // Office stores a password-protected .xlsx (MS-OFFCRYPTO 2.3.4.4);
-        // built here from its two markers, not a real encrypted file.
-        let mut ole = OLE_MAGIC.to_vec();
-        ole.extend(vec![0u8; 504]);
-        ole.extend("EncryptedPackage".encode_utf16().flat_map(u16::to_le_bytes));
-        let m = msg(read(&ole, None));
+        // members.xlsx protected with a password by msoffcrypto-tool (an
+        // OLE container with an EncryptedPackage stream, MS-OFFCRYPTO).
+        let m = msg(read(ENCRYPTED, None));
         assert!(m.contains("password-protected"), "{m}");
         let m = msg(read(&OLE_MAGIC, None));
         assert!(m.contains("damaged"), "{m}");

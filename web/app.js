@@ -58,7 +58,7 @@ function revOf(stored) {
 }
 
 function stateOf(saved) {
-  return { text: saved.text, settings: { ...DEFAULTS, ...saved.settings }, demo: saved.demo === "multi" ? "multi" : !!saved.demo };
+  return { text: saved.text, settings: { ...DEFAULTS, ...saved.settings }, demo: saved.demo === "multi" ? "multi" : !!saved.demo, fileLabel: String(saved.fileLabel ?? "") };
 }
 
 function restore() {
@@ -550,7 +550,9 @@ function update() {
   } else {
     setStatus(`${view.stats.n} points read: ${view.valueName} against ${view.timeName}.`, false);
   }
-  $("data-label").textContent = state.demo === "multi" ? demoMultiLabel() : state.demo ? demoLabel() : "";
+  $("data-label").textContent = state.demo === "multi" ? demoMultiLabel() : state.demo ? demoLabel() : state.fileLabel || "";
+  // The sheet chooser belongs to an opened workbook's text, not to a demo or edited text.
+  if (!state.fileLabel) $("sheet-row").hidden = true;
   window.plateauLastUpdateMs = performance.now() - started;
   // Milliseconds from navigation start to the first drawn fit.
   window.plateauFirstFitMs ??= performance.now();
@@ -563,6 +565,7 @@ function changed({ text = false, immediate = false } = {}) {
   if (text) {
     state.text = $("data").value;
     state.demo = false;
+    state.fileLabel = "";
     // A new table may have other columns.
     state.settings.timeColumn = null;
     state.settings.valueColumn = null;
@@ -591,6 +594,33 @@ function loadText(text) {
   changed({ text: true, immediate: true });
 }
 
+// The file last opened, kept so another sheet of a workbook can be read.
+let opened = null;
+
+async function openBytes(f) {
+  opened = { bytes: new Uint8Array(await f.arrayBuffer()), name: f.name };
+  readOpened(undefined);
+}
+
+// Rust reads the bytes (a workbook's sheet, or text); the page shows the
+// text and, for a workbook of several sheets, the sheet chooser.
+function readOpened(sheet) {
+  let file;
+  try {
+    file = openFile(opened.bytes, opened.name, sheet);
+  } catch (e) {
+    setStatus(e.message, true);
+    return;
+  }
+  const select = $("sheet-select");
+  select.replaceChildren(...file.sheets.map((name, i) => new Option(name, String(i + 1), false, i + 1 === file.sheet)));
+  loadText(file.text);
+  state.fileLabel = file.label;
+  save();
+  $("data-label").textContent = file.label;
+  $("sheet-row").hidden = file.sheets.length < 2;
+}
+
 function wire() {
   $("data").addEventListener("input", () => changed({ text: true }));
   for (const id of ["model", "fixed-k", "fisher-pry-k", "horizon", "share", "level", "bootstrap", "resampling", "replicates", "seed", "time-col", "value-col", "accum-cumulative", "accum-per-period", "error-model", "increments", "layout", "series-select"]) {
@@ -598,9 +628,10 @@ function wire() {
   }
   $("file").addEventListener("change", async (ev) => {
     const f = ev.target.files[0];
-    if (f) loadText(await f.text());
+    if (f) await openBytes(f);
     ev.target.value = "";
   });
+  $("sheet-select").addEventListener("change", () => readOpened(Number($("sheet-select").value)));
   const area = $("data");
   area.addEventListener("dragover", (ev) => { ev.preventDefault(); area.classList.add("dragging"); });
   area.addEventListener("dragleave", () => area.classList.remove("dragging"));
@@ -608,7 +639,7 @@ function wire() {
     ev.preventDefault();
     area.classList.remove("dragging");
     const f = ev.dataTransfer.files[0];
-    if (f) loadText(await f.text());
+    if (f) await openBytes(f);
   });
   $("load-demo").addEventListener("click", () => {
     state = demoState();

@@ -8,7 +8,9 @@ use clap::{Args, Parser, Subcommand};
     version,
     about = "Fit S-shaped growth curves (logistic, Gompertz, Richards, Bass, bi-logistic, ...) to a time series",
     after_help = "Input: CSV, TSV or semicolon-separated text with a time and a value column; \
-times as numbers, years, YYYY-MM-DD, YYYY-MM or quarters (2024Q3). Use - to read standard input."
+times as numbers, years, YYYY-MM-DD, YYYY-MM or quarters (2024Q3). Use - to read standard input. \
+Workbooks (.xlsx, .xls, .ods) are read too: --sheet NAME|N picks the sheet (default: the first with \
+data); date cells are dates, and line numbers in messages are the sheet's row numbers."
 )]
 pub struct Cli {
     #[command(subcommand)]
@@ -42,8 +44,11 @@ pub enum Command {
 /// Where the series comes from and how to read it.
 #[derive(Args, Debug)]
 pub struct InputArgs {
-    /// Data file, or - for standard input.
+    /// Data file (CSV or text, or a workbook: .xlsx, .xls, .ods), or - for standard input.
     pub file: String,
+    /// Workbook sheet to read, by name or 1-based position (default: the first sheet with data).
+    #[arg(long, value_name = "NAME|N")]
+    pub sheet: Option<String>,
     /// Time column, by 1-based position or header name (default: the first).
     #[arg(long, value_name = "COLUMN")]
     pub time: Option<String>,
@@ -250,8 +255,11 @@ every series before it is still fitted and printed, then the line and the reason
 given (exit status 2)."
 )]
 pub struct BatchArgs {
-    /// Data file, or - for standard input.
+    /// Data file (CSV or text, or a workbook: .xlsx, .xls, .ods), or - for standard input.
     pub file: String,
+    /// Workbook sheet to read, by name or 1-based position (default: the first sheet with data).
+    #[arg(long, value_name = "NAME|N")]
+    pub sheet: Option<String>,
     /// Model to fit to every series: logistic, logistic4, gompertz, richards, exponential.
     #[arg(long, short, default_value = "logistic")]
     pub model: String,

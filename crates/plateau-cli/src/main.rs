@@ -15,6 +15,7 @@ use anyhow::{Context, Result};
 use clap::Parser;
 use cli::{Cli, Command};
 use plateau_cli::batch;
+use plateau_core::data::workbook;
 use plateau_core::{parse_series, Model};
 use plateau_study::study::{span, Study, StudyError};
 use std::io::Read;
@@ -223,6 +224,14 @@ fn run(cli: Cli) -> Result<(), Failure> {
             let file = args.file.as_str();
             let input: Box<dyn std::io::BufRead + Send> = if file == "-" {
                 Box::new(std::io::BufReader::new(std::io::stdin()))
+            } else if workbook::has_workbook_extension(file) || args.sheet.is_some() {
+                // A workbook is read whole (it is a ZIP or OLE container),
+                // then its sheet streams through as text.
+                let bytes = std::fs::read(file)
+                    .with_context(|| format!("cannot read {file}"))
+                    .map_err(Failure::Input)?;
+                let (text, _) = sheet_text(file, &bytes, args.sheet.as_deref())?;
+                Box::new(std::io::Cursor::new(text.into_bytes()))
             } else {
                 let f = std::fs::File::open(file)
                     .with_context(|| format!("cannot read {file}"))
@@ -297,13 +306,34 @@ fn study(input: &cli::InputArgs, settings: settings::Settings) -> Result<(String
             .map_err(Failure::Input)?;
         (file.to_string(), bytes)
     };
-    // UTF-8, or UTF-16 decoded; anything else is named (core's decode_text).
-    let text = plateau_core::data::decode_text(bytes)
-        .map_err(|e| Failure::Input(anyhow::anyhow!("{name}: {e}")))?;
+    // A workbook (by extension or by its first bytes): the chosen sheet,
+    // else the first with data, as text. Otherwise UTF-8, or UTF-16
+    // decoded; anything else is named (core's decode_text).
+    let (text, name) = if workbook::has_workbook_extension(&name)
+        || workbook::is_workbook(&bytes)
+        || input.sheet.is_some()
+    {
+        sheet_text(&name, &bytes, input.sheet.as_deref())?
+    } else {
+        let text = plateau_core::data::decode_text(bytes)
+            .map_err(|e| Failure::Input(anyhow::anyhow!("{name}: {e}")))?;
+        (text, name)
+    };
     let series = parse_series(&text, &settings.parse)
         .map_err(|e| Failure::Input(anyhow::anyhow!("{name}: {e}")))?;
     let study = Study::new(series, settings.request).map_err(|e| fail(&name, e))?;
     Ok((name, study))
+}
+
+/// The text of one sheet of the workbook in `bytes` (`--sheet NAME|N`,
+/// else the first sheet with data) and the input's name, which names the
+/// sheet (whose row numbers are the line numbers of the messages).
+fn sheet_text(name: &str, bytes: &[u8], sheet: Option<&str>) -> Result<(String, String), Failure> {
+    let choice = sheet.map(workbook::SheetChoice::parse);
+    let book = workbook::read_workbook(bytes, choice.as_ref())
+        .map_err(|e| Failure::Input(anyhow::anyhow!("{name}: {e}")))?;
+    let named = format!("{name}, sheet \"{}\"", book.name());
+    Ok((book.text, named))
 }
 
 /// A study's error as the exit status says it: bad input (a flag's own

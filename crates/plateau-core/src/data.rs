@@ -22,6 +22,7 @@
 mod multi;
 mod number;
 mod time;
+pub mod workbook;
 
 pub use multi::{
     column_count, parse_multi, sniff_delimiter, split_line, Layout, LongGrouper, MultiOptions,
@@ -202,6 +203,10 @@ pub enum DataErrorKind {
     TooManyFields,
     /// The bytes are neither UTF-8 nor UTF-16 text ([`decode_text`]).
     NotText,
+    /// A workbook that cannot be read as data ([`workbook::read_workbook`]):
+    /// password-protected, damaged, no such sheet, an empty sheet, a
+    /// formula without a saved value; the message names sheet and cell.
+    Workbook,
 }
 
 impl fmt::Display for DataError {
@@ -525,6 +530,39 @@ struct Row<'a> {
     value: &'a str,
 }
 
+/// The header of the table the tool exports (the page's "table CSV"): the
+/// time as the data wrote it, the axis value, the observed value, the
+/// fitted curve, the forecast and the 95% bands. Written by the page from
+/// this constant; read back by [`parse_series`], which recognises it.
+pub const TABLE_EXPORT_HEADER: &str = "time,axis,observed,fitted,forecast,\
+confidence95_lo,confidence95_hi,prediction95_lo,prediction95_hi";
+
+/// The columns of [`TABLE_EXPORT_HEADER`] that identify the export, and
+/// where its observed and forecast values are.
+const EXPORT_COLUMNS: [&str; 5] = ["time", "axis", "observed", "fitted", "forecast"];
+const EXPORT_OBSERVED: usize = 2;
+const EXPORT_FORECAST: usize = 4;
+
+fn is_export_columns<S: AsRef<str>>(columns: &[S]) -> bool {
+    columns.len() >= EXPORT_COLUMNS.len()
+        && EXPORT_COLUMNS
+            .iter()
+            .zip(columns)
+            .all(|(want, got)| got.as_ref().trim().eq_ignore_ascii_case(want))
+}
+
+/// Whether `text` is a table the tool exported (its first record starts
+/// with the columns of [`TABLE_EXPORT_HEADER`]): one series, read by
+/// [`parse_series`] as its `time` and `observed` columns, not several.
+pub fn is_table_export(text: &str) -> bool {
+    let text = text.strip_prefix('\u{feff}').unwrap_or(text);
+    let Some(first) = text.lines().find(|l| !l.trim().is_empty()) else {
+        return false;
+    };
+    let delimiter = multi::sniff_delimiter(first);
+    split_line(1, first, delimiter).is_ok_and(|f| is_export_columns(&f))
+}
+
 /// Parses `text` into a series; see the module documentation for what is
 /// detected and [`DataErrorKind`] for what is refused.
 ///
@@ -586,8 +624,19 @@ pub fn parse_series(text: &str, opts: &ParseOptions) -> Result<Series, DataError
             first.line
         },
     };
+    // The tool's own table export, with no column chosen: its time and
+    // observed columns; its forecast rows (no observed value) are set aside
+    // with a warning saying how many.
+    let export = has_header
+        && opts.time_column.is_none()
+        && opts.value_column.is_none()
+        && is_export_columns(&columns);
     let time_col = ctx.resolve(opts.time_column.as_ref(), 0, "time")?;
-    let value_col = ctx.resolve(opts.value_column.as_ref(), 1, "value")?;
+    let value_col = if export {
+        EXPORT_OBSERVED
+    } else {
+        ctx.resolve(opts.value_column.as_ref(), 1, "value")?
+    };
     if time_col == value_col {
         return Err(error(
             DataErrorKind::InvalidOptions,
@@ -620,7 +669,9 @@ pub fn parse_series(text: &str, opts: &ParseOptions) -> Result<Series, DataError
         first: None,
     };
     let mut skipped = Vec::new();
-    rows.each_record(|line, t, v, n_fields| {
+    let mut forecast_rows = Vec::new();
+    rows.each_record(|line, t, v, rec| {
+        let n_fields = rec.len();
         let (Some(t), Some(v)) = (t, v) else {
             return Err(error(
                 DataErrorKind::TooFewFields,
@@ -637,7 +688,14 @@ pub fn parse_series(text: &str, opts: &ParseOptions) -> Result<Series, DataError
             ));
         };
         if is_missing(v) {
-            skipped.push(line);
+            let forecast = rec
+                .get(EXPORT_FORECAST)
+                .is_some_and(|f| !is_missing(&String::from_utf8_lossy(f)));
+            if export && forecast {
+                forecast_rows.push(line);
+            } else {
+                skipped.push(line);
+            }
             Ok(false)
         } else if is_missing(t) {
             Err(error(
@@ -661,7 +719,34 @@ pub fn parse_series(text: &str, opts: &ParseOptions) -> Result<Series, DataError
         delimiter,
         value_col,
     };
-    build_series(&Rows::Text(rows), &skipped, meta, None)
+    let mut series = build_series(&Rows::Text(rows), &skipped, meta, None)?;
+    if let (Some(&first), Some(&last)) = (forecast_rows.first(), forecast_rows.last()) {
+        let n = forecast_rows.len();
+        series.warnings.insert(
+            0,
+            Warning::new(
+                WarningCode::ExportForecastRowsSetAside,
+                format!(
+                    "this is a table the tool exported: its time and observed columns are read; \
+                     {n} forecast row{s} without an observed value (line{s} {first}{to}) {were} set \
+                     aside, not fitted",
+                    s = if n == 1 { "" } else { "s" },
+                    to = if n == 1 { String::new() } else { format!(" to {last}") },
+                    were = if n == 1 { "was" } else { "were" },
+                ),
+            ),
+        );
+    } else if export {
+        series.warnings.insert(
+            0,
+            Warning::new(
+                WarningCode::ExportForecastRowsSetAside,
+                "this is a table the tool exported: its time and observed columns are read \
+                 (it has no forecast rows)",
+            ),
+        );
+    }
+    Ok(series)
 }
 
 /// The rows of a series as `build_series` reads them, twice (decimal
@@ -719,11 +804,16 @@ struct TextRows<'a> {
 
 impl TextRows<'_> {
     /// Calls `check` with each data record's line, time and value fields
-    /// (`None` when the record is too short) and field count; it says
+    /// (`None` when the record is too short) and the record; it says
     /// whether the row is kept. Sets `count` and `first`.
     fn each_record(
         &mut self,
-        mut check: impl FnMut(usize, Option<&str>, Option<&str>, usize) -> Result<bool, DataError>,
+        mut check: impl FnMut(
+            usize,
+            Option<&str>,
+            Option<&str>,
+            &csv::ByteRecord,
+        ) -> Result<bool, DataError>,
     ) -> Result<(), DataError> {
         let mut reader = RecordReader::new(self.text, self.delimiter);
         let mut header = self.has_header;
@@ -735,7 +825,7 @@ impl TextRows<'_> {
             }
             let t = rec.get(self.time_col).map(String::from_utf8_lossy);
             let v = rec.get(self.value_col).map(String::from_utf8_lossy);
-            if check(line, t.as_deref(), v.as_deref(), rec.len())? {
+            if check(line, t.as_deref(), v.as_deref(), rec)? {
                 self.count += 1;
                 if self.first.is_none() {
                     let text = |f: Option<Cow<str>>| f.map(Cow::into_owned).unwrap_or_default();

@@ -52,6 +52,10 @@ pub enum WarningCode {
     /// The time column held Unix epoch seconds or milliseconds, read as
     /// dates (UTC).
     EpochTimes,
+    /// The input is a table the tool exported: its time and observed
+    /// columns were read, and its forecast rows (no observed value) set
+    /// aside; the message says how many.
+    ExportForecastRowsSetAside,
 }
 
 impl WarningCode {
@@ -74,6 +78,7 @@ impl WarningCode {
             WarningCode::LooksLinear => "looks_linear",
             WarningCode::ReplicateTimes => "replicate_times",
             WarningCode::EpochTimes => "epoch_times",
+            WarningCode::ExportForecastRowsSetAside => "export_forecast_rows_set_aside",
         }
     }
 }

@@ -519,9 +519,20 @@ pub fn looks_cumulative(values: &[f64]) -> bool {
     values.len() > 2 && falls * 5 < values.len()
 }
 
-/// A CSV field, quoted when it holds a comma, a quote or a line break.
+/// A text cell of any CSV the tool writes (series names, dates, notes,
+/// messages; numbers go through [`crate::numbers::csv`] and never here),
+/// quoted when it holds a comma, a quote or a line break (RFC 4180).
+///
+/// Text a spreadsheet would run as a formula, or read differently from
+/// what it says (a first character `=`, `+`, `-`, `@`, tab or carriage
+/// return: the OWASP "CSV injection" list), is neutralised: a single quote
+/// `'` goes before it inside a quoted field, so `=HYPERLINK(…)` arrives as
+/// the text `'=HYPERLINK(…)`, not as a link.
 pub fn csv_field(s: &str) -> String {
-    if s.contains([',', '"', '\n', '\r']) {
+    let risky = s.starts_with(['=', '+', '-', '@', '\t', '\r']);
+    if risky {
+        format!("\"'{}\"", s.replace('"', "\"\""))
+    } else if s.contains([',', '"', '\n', '\r']) {
         format!("\"{}\"", s.replace('"', "\"\""))
     } else {
         s.to_string()
@@ -616,6 +627,28 @@ mod tests {
         assert!(!is_time_param(Model::Exponential, "t0"));
         assert_eq!(csv_field("a,b"), "\"a,b\"");
         assert_eq!(csv_field("say \"hi\""), "\"say \"\"hi\"\"\"");
+        assert_eq!(csv_field("north"), "north");
+    }
+
+    /// Cells a spreadsheet would run as formulas (the OWASP "CSV
+    /// injection" first characters) come out as quoted text with a `'`.
+    #[test]
+    fn text_cells_that_look_like_formulas_are_neutralised() {
+        assert_eq!(
+            csv_field("=HYPERLINK(\"http://example.invalid\",\"x\")"),
+            "\"'=HYPERLINK(\"\"http://example.invalid\"\",\"\"x\"\")\""
+        );
+        assert_eq!(csv_field("+1"), "\"'+1\"");
+        assert_eq!(csv_field("-2+3"), "\"'-2+3\"");
+        assert_eq!(csv_field("@SUM(A1:A9)"), "\"'@SUM(A1:A9)\"");
+        assert_eq!(csv_field("\tnorth"), "\"'\tnorth\"");
+        assert_eq!(csv_field("\rnorth"), "\"'\rnorth\"");
+        // Only the first character counts.
+        assert_eq!(csv_field("a=b"), "a=b");
+        assert_eq!(csv_field("2024-01-31"), "2024-01-31");
+        // Numbers are not text cells: the number writer leaves a negative
+        // number as a number.
+        assert_eq!(crate::numbers::csv(-2.5), "-2.5");
         assert_eq!(typical_step(&[3.0, 1.0, 2.0, 5.0]), 1.0);
     }
 }

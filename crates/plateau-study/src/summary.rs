@@ -147,7 +147,7 @@ pub fn csv_row(s: &SeriesSummary) -> String {
         cells.push(num(e.and_then(|e| e.ci95).map(|c| c[0])));
         cells.push(num(e.and_then(|e| e.ci95).map(|c| c[1])));
     }
-    cells.push(s.t0_date.clone().unwrap_or_default());
+    cells.push(csv_text(s.t0_date.as_deref().unwrap_or_default()));
     cells.push(csv_text(s.time_unit.as_deref().unwrap_or("")));
     let d = &s.duration_10_90;
     cells.push(num(d.map(|e| e.estimate)));
@@ -172,7 +172,8 @@ pub fn summary_csv(rows: &[SeriesSummary]) -> String {
     out
 }
 
-/// Quotes a CSV field when it needs it (RFC 4180).
+/// A text cell: quoted when it needs it (RFC 4180), neutralised when a
+/// spreadsheet would run it as a formula ([`crate::study::csv_field`]).
 fn csv_text(s: &str) -> String {
     crate::study::csv_field(s)
 }
@@ -217,5 +218,51 @@ mod tests {
         assert!((d - 81f64.ln() / 0.5).abs() < 1e-6, "{d}");
         let k = ok.k.unwrap();
         assert!((k.estimate - 100.0).abs() < 1e-6);
+    }
+
+    /// Series names a spreadsheet would run as formulas are written as
+    /// quoted text with a leading `'` (OWASP "CSV injection"); negative
+    /// numbers in the numeric columns stay plain numbers.
+    #[test]
+    fn formula_like_series_names_are_neutralised_and_numbers_kept() {
+        // Exact logistic K = 100, r = 0.5, t0 = -10 at t = -25..4: t0 and
+        // its interval are negative numbers.
+        let text: String = (-25..5)
+            .map(|i| {
+                let t = f64::from(i);
+                format!("{t},{}\n", 100.0 / (1.0 + (-0.5 * (t + 10.0)).exp()))
+            })
+            .collect();
+        let s = parse_series(&text, &ParseOptions::default()).unwrap();
+        let f = fit(&s, Model::Logistic, &Default::default()).unwrap();
+        let names = [
+            (
+                "=HYPERLINK(\"http://example.invalid\",\"open\")",
+                "\"'=HYPERLINK(\"\"http://example.invalid\"\",\"\"open\"\")\",",
+            ),
+            ("+1", "\"'+1\","),
+            ("@SUM(A1:A2)", "\"'@SUM(A1:A2)\","),
+            ("\tnorth", "\"'\tnorth\","),
+            ("\rsouth", "\"'\rsouth\","),
+            ("-east", "\"'-east\","),
+        ];
+        let rows: Vec<SeriesSummary> = names
+            .iter()
+            .map(|(n, _)| SeriesSummary::from_fit(n, &s, &f))
+            .collect();
+        let csv = summary_csv(&rows);
+        for (row, (_, start)) in rows.iter().zip(names) {
+            let line = csv_row(row);
+            assert!(line.starts_with(start), "{line}");
+            assert!(csv.contains(&line));
+            // t0 ≈ -10 is written as a negative number, unquoted, no '.
+            let t0 = row.t0.unwrap().estimate;
+            assert!((t0 + 10.0).abs() < 1e-6, "{t0}");
+            assert!(
+                line.contains(&format!(",{},", crate::numbers::csv(t0))),
+                "{line}"
+            );
+            assert!(!line.contains(",'-"), "{line}");
+        }
     }
 }

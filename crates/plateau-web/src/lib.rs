@@ -90,6 +90,19 @@ fn read_settings(settings: JsValue) -> Result<Settings, JsError> {
     })
 }
 
+/// A file the user opened, from its bytes and name: `{ text, sheets,
+/// sheet, label }`. A workbook (.xlsx, .xls, .ods) gives the text of the
+/// 1-based `sheet` (else the first sheet with data) and every sheet's name;
+/// a text file gives its text and no sheets. A workbook that cannot be
+/// read (protected, damaged, an empty sheet, a formula without a saved
+/// value) is an error whose message names the sheet and cell.
+#[wasm_bindgen(js_name = openFile)]
+pub fn open_file(bytes: &[u8], name: &str, sheet: Option<u32>) -> Result<JsValue, JsError> {
+    let opened = session::open_file(bytes, name, sheet.map(|s| s as usize))
+        .map_err(|e| JsError::new(&e.message))?;
+    serde_wasm_bindgen::to_value(&opened).map_err(|e| JsError::new(&e.to_string()))
+}
+
 /// The page's state: the last analysis that succeeded.
 #[wasm_bindgen]
 #[derive(Default)]

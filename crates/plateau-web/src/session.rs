@@ -10,7 +10,8 @@ use plateau_core::analysis;
 use plateau_core::bootstrap::{Bootstrap, BootstrapOptions, DEFAULT_SEED};
 use plateau_core::compare::nested_tests;
 use plateau_core::data::{
-    column_count, parse_multi, ColumnRef, DataError, Layout, MultiOptions, TimeKind,
+    column_count, is_table_export, parse_multi, workbook, ColumnRef, DataError, Layout,
+    MultiOptions, TimeKind,
 };
 use plateau_core::diagnostics;
 use plateau_core::fit::{Fit, FitOptions, IntervalMethod};
@@ -496,6 +497,54 @@ pub struct CompareRow {
     pub error: Option<String>,
 }
 
+/// A file opened on the page: its text (a workbook's sheet as
+/// comma-separated text) and, for a workbook, its sheets and the one read.
+#[derive(Debug, Clone, Serialize, PartialEq)]
+#[serde(rename_all = "camelCase")]
+pub struct OpenedFile {
+    pub text: String,
+    /// Every sheet's name, in workbook order; empty for a text file.
+    pub sheets: Vec<String>,
+    /// 1-based position of the sheet read (0 for a text file).
+    pub sheet: usize,
+    /// What the page says it read, e.g. `members.xlsx, sheet "Members"`.
+    pub label: String,
+}
+
+/// Reads a file's bytes as the page's data: a workbook (.xlsx, .xls,
+/// .ods, by name or by its first bytes) through the core's workbook
+/// reader, the given 1-based sheet or else the first with data; anything
+/// else as UTF-8 or UTF-16 text. The page decides nothing of this.
+pub fn open_file(
+    bytes: &[u8],
+    name: &str,
+    sheet: Option<usize>,
+) -> Result<OpenedFile, UpdateError> {
+    if workbook::has_workbook_extension(name) || workbook::is_workbook(bytes) {
+        let choice = sheet.map(workbook::SheetChoice::Position);
+        let book = workbook::read_workbook(bytes, choice.as_ref())
+            .map_err(|e| setting_error(format!("{name}: {e}")))?;
+        Ok(OpenedFile {
+            label: format!(
+                "{name}, sheet \"{}\" (line numbers are row numbers)",
+                book.name()
+            ),
+            sheet: book.index + 1,
+            sheets: book.sheets,
+            text: book.text,
+        })
+    } else {
+        let text = plateau_core::data::decode_text(bytes.to_vec())
+            .map_err(|e| setting_error(format!("{name}: {e}")))?;
+        Ok(OpenedFile {
+            text,
+            sheets: Vec::new(),
+            sheet: 0,
+            label: name.to_string(),
+        })
+    }
+}
+
 /// Runs the whole analysis; pure function of its inputs.
 pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError> {
     check_settings(settings)?;
@@ -504,7 +553,8 @@ pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError>
     let chosen_columns = settings.time_column.is_some() || settings.value_column.is_some();
     let layout = match settings.layout.as_deref() {
         None | Some("") | Some("auto") => {
-            (!chosen_columns && column_count(text) > 2).then_some(None)
+            // The tool's own table export is one series (time, observed).
+            (!chosen_columns && column_count(text) > 2 && !is_table_export(text)).then_some(None)
         }
         Some("single") => None,
         Some("wide") => Some(Some(Layout::Wide)),
@@ -1036,6 +1086,13 @@ impl Analysis {
     /// `prediction95_*` for a new observation (adds σ̂²).
     pub fn table_csv(&self) -> String {
         let kind = self.series.axis;
+        // The time as the data wrote it: calendar text (a text cell), or on
+        // a plain-number axis the exact number (a numeric cell, so a
+        // negative time stays a number and reads back to the same f64).
+        let time = |t: f64| match kind.period() {
+            Some(_) => csv_field(&kind.format(t)),
+            None => numbers::csv(t),
+        };
         let mut s = String::from(TABLE_CSV_HEADER);
         s.push('\n');
         let num = numbers::csv;
@@ -1057,7 +1114,7 @@ impl Analysis {
             let _ = writeln!(
                 s,
                 "{},{},{},{},,{}",
-                csv_field(&kind.format(t)),
+                time(t),
                 num(t),
                 num(self.values[i]),
                 num(self.fit.fitted[i]),
@@ -1072,7 +1129,7 @@ impl Analysis {
             let _ = writeln!(
                 s,
                 "{},{},,,{},{}",
-                csv_field(&kind.format(t)),
+                time(t),
                 num(t),
                 num(self.fit.predict(t)),
                 bands(t),
@@ -1083,9 +1140,9 @@ impl Analysis {
     }
 }
 
-/// The columns of [`Analysis::table_csv`].
-pub const TABLE_CSV_HEADER: &str = "time,axis,observed,fitted,forecast,\
-confidence95_lo,confidence95_hi,prediction95_lo,prediction95_hi";
+/// The columns of [`Analysis::table_csv`]: the core's, which the data
+/// reader recognises, so an exported table opens again as its series.
+pub const TABLE_CSV_HEADER: &str = plateau_core::data::TABLE_EXPORT_HEADER;
 
 /// A report as pretty JSON, or an object naming why there is none.
 fn json<T: Serialize>(report: Result<T, StudyError>) -> String {

@@ -1059,3 +1059,61 @@ fn utf16_is_detected_named_and_decoded() {
     assert_eq!((e.kind, e.line), (DataErrorKind::NotText, Some(3)));
     assert!(e.message.contains("byte offset 9"), "{e}");
 }
+
+/// The tool's table export read back: its `time` and `observed` columns
+/// (not `axis`), forecast rows set aside with a warning naming how many
+/// and which lines, and a row with neither value still reported as missing.
+#[test]
+fn a_table_export_is_read_as_its_time_and_observed_columns() {
+    let text = format!(
+        "{TABLE_EXPORT_HEADER}\n\
+         2024-01,288,10,10.5,,9,11,8,12\n\
+         2024-02,289,20,19.5,,18,21,17,22\n\
+         2024-03,290,,30.2,,29,31,28,32\n\
+         2024-04,291,40,39.9,,38,41,37,42\n\
+         2024-05,292,,,50.1,48,52,47,53\n\
+         2024-06,293,,,55.2,53,57,52,58\n"
+    );
+    assert!(is_table_export(&text));
+    let s = parse_series(&text, &ParseOptions::default()).unwrap();
+    assert_eq!(s.time_kind, TimeKind::Month);
+    assert_eq!(s.values, [10.0, 20.0, 40.0]);
+    assert_eq!(s.times, [288.0, 289.0, 291.0]);
+    assert_eq!(
+        (s.time_name.as_str(), s.value_name.as_str()),
+        ("time", "observed")
+    );
+    let codes: Vec<_> = s.warnings.iter().map(|w| w.code).collect();
+    assert_eq!(
+        codes,
+        [
+            WarningCode::ExportForecastRowsSetAside,
+            WarningCode::MissingValuesSkipped
+        ]
+    );
+    assert!(
+        s.warnings[0].message.contains("2 forecast rows")
+            && s.warnings[0].message.contains("lines 6 to 7"),
+        "{}",
+        s.warnings[0].message
+    );
+    assert!(
+        s.warnings[1].message.contains("line 4"),
+        "{}",
+        s.warnings[1].message
+    );
+    // A chosen column is the user's choice: the export is not second-guessed.
+    let chosen = ParseOptions {
+        value_column: Some(ColumnRef::Name("fitted".into())),
+        ..ParseOptions::default()
+    };
+    let s = parse_series(&text, &chosen).unwrap();
+    assert_eq!(s.values.len(), 4);
+    assert!(!s
+        .warnings
+        .iter()
+        .any(|w| w.code == WarningCode::ExportForecastRowsSetAside));
+    // Other headers are not an export.
+    assert!(!is_table_export("time,axis,observed\n1,2,3\n"));
+    assert!(!is_table_export(""));
+}

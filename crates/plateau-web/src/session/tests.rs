@@ -741,3 +741,65 @@ fn settings_take_any_typed_number() {
     let s: Settings = serde_json::from_str(r#"{"replicates": null, "seed": 7}"#).unwrap();
     assert_eq!((s.replicates, s.seed), (None, Some(7.0)));
 }
+
+/// The exported table, opened again, is the same series: the same times
+/// (on the same calendar) and values, read from its time and observed
+/// columns, with the forecast rows set aside and counted in a warning.
+/// `parse_series` and `analyse` are both checked; the original series is
+/// the reference.
+fn assert_export_reads_back(a: &Analysis) {
+    let csv = a.table_csv();
+    let forecast_rows = csv.lines().count() - 1 - a.series.times.len();
+    assert!(forecast_rows > 0);
+    assert!(is_table_export(&csv));
+    let back = parse_series(&csv, &ParseOptions::default()).unwrap();
+    assert_eq!(back.times, a.series.times);
+    assert_eq!(back.values, a.values);
+    assert_eq!(back.axis, a.series.axis);
+    assert_eq!(back.value_name, "observed");
+    let w = back
+        .warnings
+        .iter()
+        .find(|w| w.code == WarningCode::ExportForecastRowsSetAside)
+        .expect("a warning for the forecast rows");
+    assert!(
+        w.message
+            .contains(&format!("{forecast_rows} forecast rows")),
+        "{}",
+        w.message
+    );
+    assert!(!back
+        .warnings
+        .iter()
+        .any(|w| w.code == WarningCode::MissingValuesSkipped));
+    let again = analyse(&csv, &Settings::default()).unwrap();
+    assert!(again.multi.is_none(), "one series, not several");
+    assert_eq!(again.series.times, a.series.times);
+    assert_eq!(again.values, a.values);
+    let k = |x: &Analysis| x.fit.param("K").unwrap().estimate;
+    assert_eq!(k(&again), k(a));
+}
+
+#[test]
+fn the_exported_table_opens_again_as_the_same_series() {
+    // Weekly dates (the demo).
+    assert_export_reads_back(&demo());
+    // Plain numbers, negative and fractional times: the time column is the
+    // exact number. Exact logistic K = 100, r = 0.5, t0 = -3.
+    let text: String = std::iter::once("t,y\n".to_string())
+        .chain((0..25).map(|i| {
+            let t = -15.25 + 0.75 * f64::from(i);
+            format!("{t},{}\n", 100.0 / (1.0 + (-0.5 * (t + 3.0)).exp()))
+        }))
+        .collect();
+    assert_export_reads_back(&analyse(&text, &Settings::default()).unwrap());
+    // A monthly series of the several-series demo, as the page shows it.
+    let settings = Settings {
+        series: Some(2),
+        ..Settings::default()
+    };
+    let a = analyse(DEMO_MULTI_TEXT, &settings).unwrap();
+    assert!(a.multi.is_some());
+    assert_eq!(a.series.time_unit(), "month");
+    assert_export_reads_back(&a);
+}

@@ -170,7 +170,7 @@ impl Workbench {
         if chart == DRIFT {
             let analysis = self.analysis()?;
             with_drift_input(analysis, |input| {
-                plateau_chart::draw_drift(&area, &analysis.drift, input)
+                plateau_chart::draw_drift(&area, analysis.drift(), input)
             })
             .map_err(|e| JsError::new(&e.to_string()))?;
             return area.present().map_err(|e| JsError::new(&e.to_string()));
@@ -197,7 +197,7 @@ impl Workbench {
         if chart == DRIFT {
             let analysis = self.analysis()?;
             return with_drift_input(analysis, |input| {
-                plateau_chart::render_drift_svg(&analysis.drift, input, width, height)
+                plateau_chart::render_drift_svg(analysis.drift(), input, width, height)
             })
             .map_err(|e| JsError::new(&e.to_string()));
         }

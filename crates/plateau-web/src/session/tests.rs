@@ -746,3 +746,35 @@ fn settings_take_any_typed_number() {
     let s: Settings = serde_json::from_str(r#"{"replicates": null, "seed": 7}"#).unwrap();
     assert_eq!((s.replicates, s.seed), (None, Some(7.0)));
 }
+
+/// The page reads, says what it fits, then fits; each section answers on
+/// its own, tagged with its name, and equals the section read directly.
+#[test]
+fn read_then_fit_then_sections() {
+    let read = prepare(DEMO_TEXT, &Settings::default()).unwrap();
+    let n = read.points();
+    assert_eq!(
+        read.fitting(),
+        format!("Fitting {} points…", numbers::number(n as f64))
+    );
+    let a = read.analyse().unwrap();
+    assert_eq!(a.view.stats.n, n);
+    for s in Section::ALL {
+        assert_eq!(Section::from_name(s.name()), Some(s));
+        let json = serde_json::to_value(a.section(s)).unwrap();
+        assert_eq!(json["section"], s.name());
+    }
+    assert_eq!(
+        a.section(Section::Comparison),
+        SectionView::Comparison(a.comparison_view())
+    );
+    assert_eq!(
+        a.section(Section::Drift),
+        SectionView::Drift {
+            rows: a.drift().len()
+        }
+    );
+    // Bad data fails at the read, naming the line, before any fit.
+    let e = prepare("t,y\n1,2\n2,x\n", &Settings::default()).unwrap_err();
+    assert_eq!(e.line, Some(3));
+}

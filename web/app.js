@@ -516,7 +516,9 @@ let exportId = 0;
 
 function startWorker() {
   if (worker) worker.terminate();
-  worker = new Worker(workerUrl, { type: "module" });
+  // A classic worker: Chromium starts no module worker from the Blob URL of
+  // a page opened from file://.
+  worker = new Worker(workerUrl);
   worker.onmessage = (ev) => received(ev.data);
   worker.onerror = (ev) => setStatus("The worker stopped: " + (ev.message || "unknown error"), true);
   worker.postMessage({ type: "init", module: plateauModule });

@@ -189,6 +189,7 @@ function updateJobs(m) {
         fitting = bench.read(m.text, m.settings);
       } catch (e) {
         fitted = seq; // nothing more to do for this update
+        idleSent = seq; // an error is not an update
         post({ type: "error", seq, message: e.message || String(e) });
         return;
       }
@@ -204,6 +205,7 @@ function updateJobs(m) {
       } catch (e) {
         if (takePanic()) throw e;
         fitted = seq;
+        idleSent = seq;
         post({ type: "error", seq, message: e.message || String(e) });
         return;
       }

@@ -117,6 +117,29 @@ fn csp_hash(text: &str) -> String {
     )
 }
 
+/// The glue as a classic script, for the worker: a page opened from
+/// `file://` has an opaque origin, and Chromium starts no module worker
+/// from such a page's Blob URLs. `export` goes; `import.meta.url` is only
+/// read by the glue's fetching init, which the worker never calls.
+fn classic(glue: &str) -> Result<String> {
+    let mut out = String::with_capacity(glue.len());
+    for line in glue.lines() {
+        if line.starts_with("export {") {
+            continue;
+        }
+        out.push_str(line.strip_prefix("export ").unwrap_or(line));
+        out.push('\n');
+    }
+    if !out.contains("import.meta.url") {
+        bail!("the wasm-bindgen glue changed shape: no import.meta.url to replace");
+    }
+    let out = out.replace("import.meta.url", "self.location.href");
+    if out.contains("export ") || out.contains("import.meta") || out.contains("\nimport ") {
+        bail!("the wasm-bindgen glue changed shape: it still has module syntax");
+    }
+    Ok(out)
+}
+
 /// Fills the `{{…}}` slots of `web/index.html`.
 ///
 /// `worker-src blob:` lets the page start its worker from the Blob URL it
@@ -129,7 +152,7 @@ fn assemble(root: &Path, glue: &str, wasm: &[u8]) -> Result<String> {
     let icon = std::fs::read(root.join("static/icon.svg"))?;
     let app = std::fs::read_to_string(root.join("web/app.js"))?;
     let worker = std::fs::read_to_string(root.join("web/worker.js"))?;
-    let worker_source = serde_json::to_string(&format!("{glue}\n{worker}\n"))?;
+    let worker_source = serde_json::to_string(&format!("{}\n{worker}\n", classic(glue)?))?;
     let b64 = base64::engine::general_purpose::STANDARD;
     // The glue ends with `export { initSync }; export default __wbg_init;`:
     // exports are legal in an inline module script, so it is kept verbatim.

@@ -500,7 +500,6 @@ const workerUrl = URL.createObjectURL(new Blob([WORKER_SOURCE], { type: "text/ja
 let worker = null;
 let seq = 0; // the latest update sent
 let acked = 0; // the latest update the worker has read
-let answered = 0; // the latest update whose first answer is shown
 let ackTimer = 0;
 let progressTimer = 0;
 let progressText = "";
@@ -628,7 +627,7 @@ function received(m) {
       break;
     case "answer":
       view = m.view;
-      answered = m.seq;
+      window.plateauLastFitMs = m.ms;
       showView(view);
       markStale();
       if (view.multi) {
@@ -645,7 +644,10 @@ function received(m) {
       break;
     case "chart":
       paint(m.kind, m.bitmap);
-      if (m.kind === "curve") answerShown();
+      if (m.kind === "curve") {
+        window.plateauLastCurveMs = m.ms;
+        answerShown();
+      }
       break;
     case "chart-error":
       setStatus("Chart failed: " + m.message, true);

@@ -55,6 +55,7 @@ let queue = [];
 const sections = new Set();
 const charts = new Map();
 let bootstrapWanted = false;
+let readStarted = 0;
 
 const SECTION_ORDER = ["comparison", "checks", "drift", "backtest"];
 // Charts drawn from the fit alone, before any section.
@@ -109,6 +110,7 @@ function chartJob(seq, kind) {
       const size = charts.get(kind);
       if (!size) return;
       const canvas = new OffscreenCanvas(size[0], size[1]);
+      const started = performance.now();
       try {
         bench.draw(kind, canvas);
       } catch (e) {
@@ -116,7 +118,7 @@ function chartJob(seq, kind) {
         return;
       }
       const bitmap = canvas.transferToImageBitmap();
-      post({ type: "chart", seq, kind, bitmap }, [bitmap]);
+      post({ type: "chart", seq, kind, bitmap, ms: performance.now() - started }, [bitmap]);
     },
   };
 }
@@ -184,6 +186,7 @@ function updateJobs(m) {
   return [{
     seq, what: "read",
     run() {
+      readStarted = performance.now();
       let fitting;
       try {
         fitting = bench.read(m.text, m.settings);
@@ -211,7 +214,8 @@ function updateJobs(m) {
       }
       fitted = seq;
       analysed = true;
-      post({ type: "answer", seq, view });
+      // Worker time for this answer (read and fit), for the benchmark.
+      post({ type: "answer", seq, view, ms: performance.now() - readStarted });
       queue.unshift(...followUps(seq));
       if (bootstrapWanted) queue.push(bootstrapJobs(seq));
     },

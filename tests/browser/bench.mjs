@@ -50,6 +50,8 @@ for (const [n, runs] of [[50, 7], [1000, 7], [10000, 5], [200000, 2]]) {
   const text = series(n);
   const answer = [];
   const settled = [];
+  const fit = [];
+  const curve = [];
   let progress = new Set();
   for (let i = 0; i < runs; i++) {
     const before = await page.evaluate(() => Number(document.body.dataset.updates));
@@ -76,8 +78,10 @@ for (const [n, runs] of [[50, 7], [1000, 7], [10000, 5], [200000, 2]]) {
     await page.waitForFunction((k) => Number(document.body.dataset.updates) > k, before, { timeout: 600000 });
     const r = await page.evaluate(() => {
       window.progressWatch.disconnect();
-      return [window.plateauLastAnswerMs, window.plateauLastUpdateMs, [...window.progressSeen]];
+      return [window.plateauLastAnswerMs, window.plateauLastUpdateMs, [...window.progressSeen], window.plateauLastFitMs, window.plateauLastCurveMs];
     });
+    fit.push(r[3]);
+    curve.push(r[4]);
     answer.push(r[0]);
     settled.push(r[1]);
     progress = new Set([...progress, ...r[2]]);
@@ -85,6 +89,7 @@ for (const [n, runs] of [[50, 7], [1000, 7], [10000, 5], [200000, 2]]) {
   // The first round of each size reads the new text: kept when there is no other.
   const timed = (xs) => (xs.length > 2 ? xs.slice(1) : xs);
   console.log(`n = ${n}: answer and curve median ${median(timed(answer)).toFixed(1)} ms; ` +
+    `of which the worker's read and fit ${median(timed(fit)).toFixed(1)} ms and curve drawing ${median(timed(curve)).toFixed(1)} ms; ` +
     `settled median ${median(timed(settled)).toFixed(0)} ms (${timed(answer).length} runs)` +
     (progress.size ? `; progress shown: ${[...progress].map((p) => JSON.stringify(p)).join(", ")}` : ""));
 }

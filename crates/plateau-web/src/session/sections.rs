@@ -93,7 +93,7 @@ pub struct BacktestView {
 #[serde(tag = "section", rename_all = "lowercase")]
 pub enum SectionView {
     Comparison(ComparisonView),
-    Checks(ChecksView),
+    Checks(Box<ChecksView>),
     /// The drift chart is drawn from the analysis; this says how many
     /// cutoffs it holds.
     Drift {
@@ -107,7 +107,7 @@ impl Analysis {
     pub fn section(&self, s: Section) -> SectionView {
         match s {
             Section::Comparison => SectionView::Comparison(self.comparison_view()),
-            Section::Checks => SectionView::Checks(self.checks_view()),
+            Section::Checks => SectionView::Checks(Box::new(self.checks_view())),
             Section::Drift => SectionView::Drift {
                 rows: self.drift().len(),
             },

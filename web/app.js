@@ -550,8 +550,8 @@ function sendUpdate() {
     // Busy with superseded work: a new worker, the latest update, the
     // exports still asked for.
     startWorker();
-    post(lastMessage);
-    for (const m of exports.values()) post(m);
+    post({ ...lastMessage, sections: [...wantedSections], charts: chartSizes(wantedCharts) });
+    for (const asked of exports.values()) post(asked.message);
   }, ACK_MS);
 }
 
@@ -719,7 +719,7 @@ function showPanic(message) {
 // Asks the worker for an export of the current analysis; `done` gets the text.
 function ask(message, done) {
   const m = { type: "export", id: ++exportId, ...message };
-  exports.set(m.id, { ...m, done });
+  exports.set(m.id, { message: m, done });
   post(m);
 }
 

@@ -1,8 +1,12 @@
 // Plateau's page wiring. This script only moves text and settings between
-// the DOM, localStorage and the Rust Workbench, sizes canvases for the
-// device pixel ratio and triggers downloads; parsing, fitting, numbers and
-// drawing are all Rust. It is inlined after the wasm-bindgen glue (which
-// defines initSync and Workbench) and WASM_BASE64 by `cargo xtask dist`.
+// the DOM, localStorage and the Rust Workbench in a worker, sizes canvases
+// for the device pixel ratio, paints the bitmaps the worker draws and
+// triggers downloads; parsing, fitting, numbers and drawing are all Rust.
+// It is inlined after the wasm-bindgen glue (which defines initSync and
+// Workbench), WASM_BASE64 and WORKER_SOURCE (the glue and web/worker.js)
+// by `cargo xtask dist`. The main thread never fits: it sends each change
+// to the worker and shows what comes back, dropping anything that answers
+// an older change.
 
 const STORE_KEY = "plateau.workspace.v1";
 // This tab's own work while it is not saved because another tab changed
@@ -18,8 +22,10 @@ function wasmBytes() {
   return bytes;
 }
 
-initSync({ module: wasmBytes() });
-const bench = new Workbench();
+// Compiled once; the worker gets the compiled module. This thread's
+// instance serves only the demo texts and the settings check.
+const plateauModule = new WebAssembly.Module(wasmBytes());
+initSync({ module: plateauModule });
 
 const DEFAULTS = {
   model: "logistic", fixedK: null, horizon: 12, perPeriod: false,
@@ -261,26 +267,54 @@ function showView(v) {
   showMilestones(v.milestones);
   $("duration").textContent = text.durationSentence ?? "";
 
-  fillBody("comparison", v.comparison.map((c, i) => {
+  $("symmetry-note").textContent = !v.symmetry
+    ? "not available for this model."
+    : v.symmetry.rmsRatio == null
+      ? "no summary yet: too few reflected points fall inside the observed time range."
+      : `RMS mismatch ${text.symmetryRms} × the noise level. ${v.symmetry.meaning}`;
+
+  showMulti(v);
+
+  const cols = v.columns;
+  $("columns").hidden = cols.length <= 2 || !!v.multi;
+  for (const [id, chosen] of [["time-col", v.timeColumn], ["value-col", v.valueColumn]]) {
+    const sel = $(id);
+    sel.replaceChildren(...cols.map((name, i) => new Option(name, String(i), false, i === chosen)));
+  }
+}
+
+// The sections, each shown when the worker sends it (see `want`).
+function showComparison(c) {
+  fillBody("comparison", c.comparison.map((row, i) => {
     const tr = document.createElement("tr");
-    if (c.model === v.model) tr.className = "chosen";
-    cell(tr, c.model);
-    if (c.error) {
+    if (row.model === view.model) tr.className = "chosen";
+    cell(tr, row.model);
+    if (row.error) {
       const td = document.createElement("td");
       td.colSpan = 5;
-      td.textContent = c.error;
+      td.textContent = row.error;
       tr.appendChild(td);
     } else {
-      const t = text.comparison[i];
+      const t = c.text[i];
       cell(tr, t.aicc); cell(tr, t.deltaAicc); cell(tr, t.weight); cell(tr, t.bic); cell(tr, t.k);
     }
     return tr;
   }));
+  const rec = c.recommendation;
+  $("recommended-model").textContent = rec.model ?? "none";
+  $("recommendation-reasons").replaceChildren(...rec.reasons.map((r) => {
+    const li = document.createElement("li");
+    li.textContent = r;
+    return li;
+  }));
+  $("lr-tests").textContent = c.lrTests.map((t) => t.note ? `${t.nested} within ${t.general}: ${t.note}` : "").join(" ");
+}
 
-  fillBody("backtest", v.backtest.map((b, i) => {
+function showBacktest(bt) {
+  fillBody("backtest", bt.rows.map((b, i) => {
     const tr = document.createElement("tr");
     tr.dataset.model = b.model;
-    if (b.model === v.model) tr.className = "chosen";
+    if (b.model === view.model) tr.className = "chosen";
     cell(tr, b.model);
     cell(tr, b.failed ? `${b.origins} (${b.failed} without a fit)` : String(b.origins));
     if (b.error) {
@@ -290,25 +324,9 @@ function showView(v) {
       tr.appendChild(td);
       return tr;
     }
-    for (const m of text.backtest[i]) cell(tr, m, "mape");
+    for (const m of bt.text[i]) cell(tr, m, "mape");
     return tr;
   }));
-
-  $("symmetry-note").textContent = !v.symmetry
-    ? "not available for this model."
-    : v.symmetry.rmsRatio == null
-      ? "no summary yet: too few reflected points fall inside the observed time range."
-      : `RMS mismatch ${text.symmetryRms} × the noise level. ${v.symmetry.meaning}`;
-
-  showMulti(v);
-  showChecks(v);
-
-  const cols = v.columns;
-  $("columns").hidden = cols.length <= 2 || !!v.multi;
-  for (const [id, chosen] of [["time-col", v.timeColumn], ["value-col", v.valueColumn]]) {
-    const sel = $(id);
-    sel.replaceChildren(...cols.map((name, i) => new Option(name, String(i), false, i === chosen)));
-  }
 }
 
 // Several series: the selector, the summary table and the overlay's section.
@@ -387,51 +405,21 @@ function showMilestones(rows) {
   }), ...peakRows(currentPeak, currentPeakText)]);
 }
 
-// The bootstrap runs in slices of about 12 ms of work, each in its own
-// task, so the page stays responsive; a new update cancels a running one.
-let bootRun = 0;
-function startBootstrap() {
-  const run = ++bootRun;
+// The bootstrap runs in the worker in slices of about 12 ms, after the
+// sections; its progress and result arrive as messages (see `received`).
+function showBootstrapProgress(done, total) {
   const progress = $("boot-progress");
-  const status = $("boot-status");
-  if (!state.settings.bootstrap) {
-    progress.hidden = true;
-    status.textContent = "";
-    delete document.body.dataset.bootstrap;
-    return;
-  }
-  let total;
-  try {
-    total = bench.bootstrapStart();
-  } catch (e) {
-    status.textContent = e.message;
-    document.body.dataset.bootstrap = "error";
-    return;
-  }
   progress.max = total;
-  progress.value = 0;
+  progress.value = done;
   progress.hidden = false;
-  status.textContent = `0 of ${total} refits`;
+  $("boot-status").textContent = `${done} of ${total} refits`;
   document.body.dataset.bootstrap = "running";
-  const started = performance.now();
-  let busy = 0;
-  const slice = () => {
-    if (run !== bootRun) return;
-    const t = performance.now();
-    let done;
-    do { done = bench.bootstrapStep(10); } while (done < total && performance.now() - t < 12);
-    busy += performance.now() - t;
-    progress.value = done;
-    status.textContent = `${done} of ${total} refits`;
-    if (done < total) { setTimeout(slice, 0); return; }
-    const bv = bench.bootstrapView();
-    showBootstrap(bv);
-    // Wall time from start to finish, and the time spent computing.
-    window.plateauBootstrapMs = performance.now() - started;
-    window.plateauBootstrapComputeMs = busy;
-    document.body.dataset.bootstrap = "done";
-  };
-  setTimeout(slice, 0);
+}
+
+function clearBootstrap() {
+  $("boot-progress").hidden = true;
+  $("boot-status").textContent = "";
+  delete document.body.dataset.bootstrap;
 }
 
 function showBootstrap(bv) {
@@ -464,7 +452,7 @@ function showVerdict(id, verdict) {
 // recommendation beside the comparison table; every sentence comes from Rust.
 function showChecks(v) {
   const d = v.diagnostics;
-  const dt = v.text.diagnostics;
+  const dt = v.text;
   const all = [...d.verdicts];
   if (v.symmetryTest) all.push(v.symmetryTest.verdict);
   if (v.fisherPry) all.push(v.fisherPry.verdict);
@@ -487,28 +475,6 @@ function showChecks(v) {
   }));
   showVerdict("symmetry-test", v.symmetryTest && v.symmetryTest.verdict);
   showVerdict("fisher-pry-verdict", v.fisherPry && v.fisherPry.verdict);
-  const rec = v.recommendation;
-  $("recommended-model").textContent = rec.model ?? "none";
-  $("recommendation-reasons").replaceChildren(...rec.reasons.map((r) => {
-    const li = document.createElement("li");
-    li.textContent = r;
-    return li;
-  }));
-  $("lr-tests").textContent = v.lrTests.map((t) => t.note ? `${t.nested} within ${t.general}: ${t.note}` : "").join(" ");
-}
-
-function drawCharts() {
-  for (const canvas of document.querySelectorAll("canvas.chart")) {
-    if (canvas.closest("[hidden]")) continue;
-    const dpr = window.devicePixelRatio || 1;
-    canvas.width = Math.max(1, Math.round(canvas.clientWidth * dpr));
-    canvas.height = Math.max(1, Math.round(canvas.clientHeight * dpr));
-    try {
-      bench.draw(canvas.dataset.chart, canvas);
-    } catch (e) {
-      setStatus("Chart failed: " + e.message, true);
-    }
-  }
 }
 
 function setStatus(text, isError) {
@@ -517,8 +483,77 @@ function setStatus(text, isError) {
   el.className = "status " + (isError ? "error" : "ok");
 }
 
+// --- The worker -----------------------------------------------------
+//
+// Every change is an update with a sequence number; whatever the worker
+// sends back for an older one is dropped. The worker reads newer messages
+// between its jobs (fit, each chart, each section, bootstrap slices); if it
+// does not acknowledge an update within ACK_MS it is busy in one long job
+// (a large fit) for work no one wants any more, and is replaced by a new
+// worker from the same compiled module.
+const ACK_MS = 150;
+// Progress is shown when an update takes longer than this.
+const PROGRESS_MS = 200;
+const workerUrl = URL.createObjectURL(new Blob([WORKER_SOURCE], { type: "text/javascript" }));
+let worker = null;
+let seq = 0; // the latest update sent
+let acked = 0; // the latest update the worker has read
+let ackTimer = 0;
+let progressTimer = 0;
+let progressText = "";
+let sentAt = 0;
+let lastMessage = null; // the latest update, resent to a new worker
+// Sections and charts the page shows: the worker computes them after each
+// fit (see `want`).
+const wantedSections = new Set();
+const wantedCharts = new Set();
+// Exports waiting for the worker, by id (resent to a new worker).
+const exports = new Map();
+let exportId = 0;
+
+function startWorker() {
+  if (worker) worker.terminate();
+  // A classic worker: Chromium starts no module worker from the Blob URL of
+  // a page opened from file://.
+  worker = new Worker(workerUrl);
+  worker.onmessage = (ev) => received(ev.data);
+  worker.onerror = (ev) => setStatus("The worker stopped: " + (ev.message || "unknown error"), true);
+  worker.postMessage({ type: "init", module: plateauModule });
+}
+
+function post(message) {
+  worker.postMessage(message);
+}
+
+function chartSizes(kinds) {
+  const dpr = window.devicePixelRatio || 1;
+  const sizes = {};
+  for (const kind of kinds) {
+    const canvas = document.querySelector(`canvas.chart[data-chart="${kind}"]`);
+    if (!canvas || canvas.closest("[hidden]")) continue;
+    sizes[kind] = [Math.max(1, Math.round(canvas.clientWidth * dpr)), Math.max(1, Math.round(canvas.clientHeight * dpr))];
+  }
+  return sizes;
+}
+
+function sendUpdate() {
+  lastMessage = {
+    type: "update", seq, text: state.text, settings: { ...state.settings }, bootstrap: !!state.settings.bootstrap,
+    sections: [...wantedSections], charts: chartSizes(wantedCharts),
+  };
+  post(lastMessage);
+  clearTimeout(ackTimer);
+  ackTimer = setTimeout(() => {
+    if (acked >= seq) return;
+    // Busy with superseded work: a new worker, the latest update, the
+    // exports still asked for.
+    startWorker();
+    post({ ...lastMessage, sections: [...wantedSections], charts: chartSizes(wantedCharts) });
+    for (const asked of exports.values()) post(asked.message);
+  }, ACK_MS);
+}
+
 function update() {
-  const started = performance.now();
   // A setting out of range: its sentence beside the settings, the last
   // good results kept.
   let bad;
@@ -533,31 +568,215 @@ function update() {
     document.body.dataset.state = "error";
     return;
   }
-  try {
-    view = bench.update(state.text, state.settings);
-  } catch (e) {
-    // Bad input: say where, keep the last good results on screen.
-    setStatus(e.message, true);
-    document.body.dataset.state = "error";
+  seq += 1;
+  sentAt = performance.now();
+  document.body.dataset.state = "working";
+  clearBootstrap();
+  progressText = "";
+  clearTimeout(progressTimer);
+  progressTimer = setTimeout(() => showWork(progressText), PROGRESS_MS);
+  sendUpdate();
+}
+
+function showWork(text) {
+  $("work-status").textContent = text;
+}
+
+// Sections already shown wait for their new content, marked busy.
+function markStale() {
+  for (const name of wantedSections) for (const el of sectionElements(name)) el.setAttribute("aria-busy", "true");
+}
+
+function received(m) {
+  if (m.type === "ack") {
+    acked = Math.max(acked, m.seq);
     return;
   }
-  showView(view);
-  drawCharts();
-  startBootstrap();
-  if (view.multi) {
-    const chosen = view.multi.summary[view.multi.selected];
-    setStatus(`${view.multi.summary.length} series read (${view.layout} layout); details below for ${chosen.series}: ${view.stats.n} points.`, false);
-  } else {
-    setStatus(`${view.stats.n} points read: ${view.valueName} against ${view.timeName}.`, false);
+  if (m.type === "export") {
+    const asked = exports.get(m.id);
+    exports.delete(m.id);
+    if (asked) asked.done(m.text);
+    return;
   }
-  $("data-label").textContent = state.demo === "multi" ? demoMultiLabel() : state.demo ? demoLabel() : state.fileLabel || "";
-  // The sheet chooser belongs to an opened workbook's text, not to a demo or edited text.
-  if (!state.fileLabel) $("sheet-row").hidden = true;
-  window.plateauLastUpdateMs = performance.now() - started;
+  if (m.type === "panic") {
+    showPanic(m.message);
+    startWorker();
+    return;
+  }
+  if (m.type === "failed" && m.what === "export") {
+    exports.delete(m.id);
+    setStatus(m.message, true);
+    return;
+  }
+  if (m.seq !== seq) {
+    if (m.bitmap) m.bitmap.close();
+    return; // answers a superseded update
+  }
+  switch (m.type) {
+    case "progress":
+      progressText = m.text;
+      if (performance.now() - sentAt >= PROGRESS_MS) showWork(m.text);
+      break;
+    case "error":
+      // Bad input: say where, keep the last good results on screen.
+      setStatus(m.message, true);
+      document.body.dataset.state = "error";
+      finishWork();
+      break;
+    case "answer":
+      view = m.view;
+      window.plateauLastFitMs = m.ms;
+      showView(view);
+      markStale();
+      if (view.multi) {
+        const chosen = view.multi.summary[view.multi.selected];
+        setStatus(`${view.multi.summary.length} series read (${view.layout} layout); details below for ${chosen.series}: ${view.stats.n} points.`, false);
+      } else {
+        setStatus(`${view.stats.n} points read: ${view.valueName} against ${view.timeName}.`, false);
+      }
+      $("data-label").textContent = state.demo === "multi" ? demoMultiLabel() : state.demo ? demoLabel() : state.fileLabel || "";
+      // The sheet chooser belongs to an opened workbook's text, not to a demo or edited text.
+      if (!state.fileLabel) $("sheet-row").hidden = true;
+      document.body.dataset.answers = String(Number(document.body.dataset.answers || 0) + 1);
+      if (!wantedCharts.has("curve")) answerShown();
+      // Charts shown only with this answer (the overlay) are asked for now.
+      refreshWants();
+      break;
+    case "chart":
+      paint(m.kind, m.bitmap);
+      if (m.kind === "curve") {
+        window.plateauLastCurveMs = m.ms;
+        answerShown();
+      }
+      break;
+    case "chart-error":
+      setStatus("Chart failed: " + m.message, true);
+      if (m.kind === "curve") answerShown();
+      break;
+    case "section":
+      ({ comparison: showComparison, checks: showChecks, backtest: showBacktest, drift: () => {} })[m.name](m.view);
+      for (const el of sectionElements(m.name)) el.removeAttribute("aria-busy");
+      break;
+    case "failed":
+      setStatus(m.message, true);
+      break;
+    case "idle":
+      window.plateauLastUpdateMs = performance.now() - sentAt;
+      document.body.dataset.state = "ready";
+      document.body.dataset.updates = String(Number(document.body.dataset.updates || 0) + 1);
+      finishWork();
+      break;
+    case "boot":
+      showBootstrapProgress(m.done, m.total);
+      break;
+    case "boot-error":
+      $("boot-status").textContent = m.message;
+      document.body.dataset.bootstrap = "error";
+      break;
+    case "boot-done":
+      $("boot-progress").value = m.view.done;
+      showBootstrap(m.view);
+      // Wall time from start to finish, and the time spent computing.
+      window.plateauBootstrapMs = m.ms;
+      window.plateauBootstrapComputeMs = m.computeMs;
+      document.body.dataset.bootstrap = "done";
+      break;
+  }
+}
+
+// The first answer and its curve are on screen.
+function answerShown() {
+  window.plateauLastAnswerMs = performance.now() - sentAt;
   // Milliseconds from navigation start to the first drawn fit.
   window.plateauFirstFitMs ??= performance.now();
-  document.body.dataset.state = "ready";
-  document.body.dataset.updates = String(Number(document.body.dataset.updates || 0) + 1);
+}
+
+function finishWork() {
+  clearTimeout(progressTimer);
+  showWork("");
+}
+
+function paint(kind, bitmap) {
+  const canvas = document.querySelector(`canvas.chart[data-chart="${kind}"]`);
+  if (!canvas) return bitmap.close();
+  canvas.width = bitmap.width;
+  canvas.height = bitmap.height;
+  canvas.getContext("2d").drawImage(bitmap, 0, 0);
+  bitmap.close();
+}
+
+function showPanic(message) {
+  let div = $("panic");
+  if (!div) {
+    div = document.createElement("div");
+    div.id = "panic";
+    div.setAttribute("role", "alert");
+    document.body.prepend(div);
+  }
+  div.textContent = `${message} Reload the page; your data is still in this browser's local storage.`;
+}
+
+// Asks the worker for an export of the current analysis; `done` gets the text.
+function ask(message, done) {
+  const m = { type: "export", id: ++exportId, ...message };
+  exports.set(m.id, { message: m, done });
+  post(m);
+}
+
+// --- What the page shows -------------------------------------------------
+//
+// A section is computed when one of its elements comes into view, then
+// kept current; a chart is drawn once it comes near the viewport. The
+// curve and the overlay come with every answer.
+const SECTION_ELEMENTS = {
+  comparison: ["comparison", "recommendation"],
+  checks: ["diagnostics", "symmetry-test"],
+  drift: ["chart-drift"],
+  backtest: ["backtest"],
+};
+
+function sectionElements(name) {
+  return SECTION_ELEMENTS[name].map((id) => $(id)).filter(Boolean);
+}
+
+function want(sections, charts) {
+  const newSections = sections.filter((s) => !wantedSections.has(s));
+  const newCharts = charts.filter((c) => !wantedCharts.has(c));
+  for (const s of newSections) wantedSections.add(s);
+  for (const c of newCharts) wantedCharts.add(c);
+  if (!newSections.length && !newCharts.length) return;
+  for (const s of newSections) for (const el of sectionElements(s)) el.setAttribute("aria-busy", "true");
+  post({ type: "want", sections: newSections, charts: chartSizes(newCharts) });
+}
+
+function visibleCharts() {
+  return [...document.querySelectorAll("canvas.chart")].filter((c) => !c.closest("[hidden]")).map((c) => c.dataset.chart);
+}
+
+// With `plateauEager` (set by the tests before the page loads) every
+// section and chart is wanted at once, as if the page were all in view.
+function refreshWants() {
+  if (window.plateauEager) {
+    want(Object.keys(SECTION_ELEMENTS), visibleCharts());
+    return;
+  }
+  want([], visibleCharts().filter((c) => c === "curve" || c === "overlay"));
+}
+
+function observe() {
+  const seen = new IntersectionObserver((entries) => {
+    const sections = [];
+    const charts = [];
+    for (const e of entries) {
+      if (!e.isIntersecting) continue;
+      const el = e.target;
+      for (const [name, ids] of Object.entries(SECTION_ELEMENTS)) if (ids.includes(el.id)) sections.push(name);
+      if (el.matches("canvas.chart") && !el.closest("[hidden]")) charts.push(el.dataset.chart);
+    }
+    want(sections, charts);
+  }, { rootMargin: "200px" });
+  for (const ids of Object.values(SECTION_ELEMENTS)) for (const id of ids) if ($(id)) seen.observe($(id));
+  for (const c of document.querySelectorAll("canvas.chart")) seen.observe(c);
 }
 
 let pending = 0;
@@ -654,7 +873,7 @@ function wire() {
     update();
   });
   $("export-summary").addEventListener("click", () =>
-    download("plateau-summary.csv", new Blob([bench.summaryCsv()], { type: "text/csv" })));
+    ask({ what: "summaryCsv" }, (text) => download("plateau-summary.csv", new Blob([text], { type: "text/csv" }))));
   $("erase").addEventListener("click", () => {
     localStorage.removeItem(STORE_KEY);
     seenRev = null;
@@ -672,16 +891,16 @@ function wire() {
   for (const b of document.querySelectorAll("button[data-svg]")) {
     b.addEventListener("click", () => {
       const c = $("chart-" + b.dataset.svg);
-      const svg = bench.svg(b.dataset.svg, Math.max(640, c.clientWidth), Math.max(360, c.clientHeight));
-      download(`plateau-${b.dataset.svg}.svg`, new Blob([svg], { type: "image/svg+xml" }));
+      ask({ what: "svg", chart: b.dataset.svg, width: Math.max(640, c.clientWidth), height: Math.max(360, c.clientHeight) },
+        (svg) => download(`plateau-${b.dataset.svg}.svg`, new Blob([svg], { type: "image/svg+xml" })));
     });
   }
   $("export-csv").addEventListener("click", () =>
-    download("plateau-table.csv", new Blob([bench.tableCsv()], { type: "text/csv" })));
+    ask({ what: "tableCsv" }, (text) => download("plateau-table.csv", new Blob([text], { type: "text/csv" }))));
   $("export-json").addEventListener("click", () =>
-    download("plateau-report.json", new Blob([bench.reportJson()], { type: "application/json" })));
+    ask({ what: "reportJson" }, (text) => download("plateau-report.json", new Blob([text], { type: "application/json" }))));
   $("export-checks").addEventListener("click", () =>
-    download("plateau-checks.json", new Blob([bench.diagnoseJson()], { type: "application/json" })));
+    ask({ what: "diagnoseJson" }, (text) => download("plateau-checks.json", new Blob([text], { type: "application/json" }))));
   window.addEventListener("storage", storageChanged);
   $("tab-load").addEventListener("click", () => {
     const saved = readJson(localStorage, STORE_KEY);
@@ -699,11 +918,15 @@ function wire() {
   let resizeTimer = 0;
   window.addEventListener("resize", () => {
     clearTimeout(resizeTimer);
-    resizeTimer = setTimeout(() => view && drawCharts(), 150);
+    // New sizes for every chart shown: the worker redraws them.
+    resizeTimer = setTimeout(() => view && post({ type: "want", charts: chartSizes(wantedCharts) }), 150);
   });
 }
 
+startWorker();
 writeControls();
 wire();
 showConflict();
+refreshWants();
+observe();
 update();

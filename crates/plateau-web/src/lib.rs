@@ -1,48 +1,48 @@
 //! The wasm-bindgen face of Plateau: the only crate that knows about
-//! JavaScript. The page's script creates one [`Workbench`], hands it the
-//! pasted text and the settings on every change, shows the [`session::View`]
-//! it returns, and asks it to draw each chart on a canvas or as SVG.
+//! JavaScript. The page starts a worker that holds one [`Workbench`]: it
+//! hands it the pasted text and the settings on every change, shows the
+//! first [`session::View`] it returns (the fit, the curve chart), then asks
+//! for each section the page shows ([`session::Section`]) and each visible
+//! chart, drawn on an `OffscreenCanvas` ([`offscreen`]). The page's main
+//! thread never fits: it keeps an instance of the same module only for the
+//! demo texts and the settings check.
 //!
 //! Long-lived state (the last good analysis) stays here in Rust; JavaScript
 //! only gets small results back. Errors cross as `JsError` with a message
-//! for a human (naming the line for bad data), never as a panic; the start
-//! function installs a panic hook that shows a visible message anyway.
+//! for a human (naming the line for bad data), never as a panic; a panic's
+//! message is kept for [`take_panic`], which the worker sends to the page.
 
+pub mod offscreen;
 pub mod session;
 
+use offscreen::{Measured, OffscreenBackend};
 use plateau_chart::{ChartInput, ChartKind};
 use plateau_core::bootstrap::Bootstrap;
-use plotters::prelude::IntoDrawingArea;
-use plotters_canvas::CanvasBackend;
-use session::{Analysis, Settings};
+use plotters::prelude::{IntoDrawingArea, SVGBackend};
+use session::{Analysis, Prepared, Section, Settings};
+use std::sync::Mutex;
 use wasm_bindgen::prelude::*;
-use web_sys::HtmlCanvasElement;
+use web_sys::OffscreenCanvas;
+
+/// The last panic's message, until the worker takes it.
+static PANIC: Mutex<Option<String>> = Mutex::new(None);
 
 #[wasm_bindgen(start)]
 pub fn start() {
     std::panic::set_hook(Box::new(|info| {
         let message = format!("Plateau hit an internal error and stopped: {info}");
         web_sys::console::error_1(&message.as_str().into());
-        show_panic(&message);
+        if let Ok(mut p) = PANIC.lock() {
+            *p = Some(message);
+        }
     }));
 }
 
-/// Puts the panic message at the top of the page. Written with web-sys
-/// rather than `inline_js`: a JS snippet would be a separate file, which the
-/// single-file page cannot load under its CSP.
-fn show_panic(message: &str) {
-    let Some(document) = web_sys::window().and_then(|w| w.document()) else {
-        return;
-    };
-    let (Ok(div), Some(body)) = (document.create_element("div"), document.body()) else {
-        return;
-    };
-    div.set_id("panic");
-    let _ = div.set_attribute("role", "alert");
-    div.set_text_content(Some(&format!(
-        "{message} Reload the page; your data is still in this browser's local storage."
-    )));
-    let _ = body.prepend_with_node_1(&div);
+/// The message of the panic that stopped this instance, if one did (the
+/// worker sends it to the page, which shows it at the top).
+#[wasm_bindgen(js_name = takePanic)]
+pub fn take_panic() -> Option<String> {
+    PANIC.lock().ok().and_then(|mut p| p.take())
 }
 
 /// The invented demo series shown on a first visit.
@@ -103,10 +103,12 @@ pub fn open_file(bytes: &[u8], name: &str, sheet: Option<u32>) -> Result<JsValue
     serde_wasm_bindgen::to_value(&opened).map_err(|e| JsError::new(&e.to_string()))
 }
 
-/// The page's state: the last analysis that succeeded.
+/// The worker's state: the text read for the next fit, the last analysis
+/// that succeeded.
 #[wasm_bindgen]
 #[derive(Default)]
 pub struct Workbench {
+    read: Option<Prepared>,
     last: Option<Analysis>,
     /// The bootstrap of `last`'s fit, while it runs and after; dropped on
     /// every update.
@@ -120,16 +122,46 @@ impl Workbench {
         Workbench::default()
     }
 
-    /// Parses, fits the chosen model, compares all models and returns the
-    /// view. On bad input returns an error and keeps the previous analysis.
-    pub fn update(&mut self, text: &str, settings: JsValue) -> Result<JsValue, JsError> {
+    /// Reads the text with the settings (nothing fitted yet) and returns
+    /// what the page says while it is fitted ("Fitting 10,000 points…").
+    /// On bad input returns an error and keeps the previous analysis.
+    pub fn read(&mut self, text: &str, settings: JsValue) -> Result<String, JsError> {
         let settings = read_settings(settings)?;
-        let analysis = session::analyse(text, &settings).map_err(|e| JsError::new(&e.message))?;
+        let read = session::prepare(text, &settings).map_err(|e| JsError::new(&e.message))?;
+        let fitting = read.fitting();
+        self.read = Some(read);
+        Ok(fitting)
+    }
+
+    /// Fits what [`Workbench::read`] read and returns the first view (the
+    /// fit, its parameters and milestones); sections come from
+    /// [`Workbench::section`]. On a failed fit returns an error and keeps
+    /// the previous analysis.
+    pub fn fit(&mut self) -> Result<JsValue, JsError> {
+        let read = self
+            .read
+            .take()
+            .ok_or_else(|| JsError::new("nothing has been read yet"))?;
+        let analysis = read.analyse().map_err(|e| JsError::new(&e.message))?;
         let view = serde_wasm_bindgen::to_value(&analysis.view)
             .map_err(|e| JsError::new(&e.to_string()))?;
         self.last = Some(analysis);
         self.boot = None;
         Ok(view)
+    }
+
+    /// [`Workbench::read`] then [`Workbench::fit`].
+    pub fn update(&mut self, text: &str, settings: JsValue) -> Result<JsValue, JsError> {
+        self.read(text, settings)?;
+        self.fit()
+    }
+
+    /// One section of the last analysis ("comparison", "checks", "drift",
+    /// "backtest"), tagged with its name.
+    pub fn section(&self, name: &str) -> Result<JsValue, JsError> {
+        let s = section_named(name)?;
+        serde_wasm_bindgen::to_value(&self.analysis()?.section(s))
+            .map_err(|e| JsError::new(&e.to_string()))
     }
 
     /// Sets up a bootstrap of the current fit with the settings of the last
@@ -166,61 +198,27 @@ impl Workbench {
     }
 
     /// Draws chart `chart` (a `ChartKind` name: "curve", "qq", "fisher-pry", …,
-    /// "drift", or "overlay" for several series) on the
-    /// canvas at its current pixel size (the page sets it for the device
-    /// pixel ratio).
-    pub fn draw(&self, chart: &str, canvas: HtmlCanvasElement) -> Result<(), JsError> {
-        let backend = CanvasBackend::with_canvas_object(canvas)
+    /// "drift", or "overlay" for several series) on an offscreen canvas at
+    /// its pixel size (the page sizes it for the device pixel ratio).
+    pub fn draw(&self, chart: &str, canvas: OffscreenCanvas) -> Result<(), JsError> {
+        let backend = OffscreenBackend::new(canvas)
             .ok_or_else(|| JsError::new("the canvas has no 2D context"))?;
         let area = backend.into_drawing_area();
-        if chart == OVERLAY {
-            with_overlay(self.analysis()?, |series| {
-                plateau_chart::draw_overlay(&area, series)
-            })
-            .map_err(|e| JsError::new(&e.to_string()))?;
-            return area.present().map_err(|e| JsError::new(&e.to_string()));
-        }
-        if chart == DRIFT {
-            let analysis = self.analysis()?;
-            with_drift_input(analysis, |input| {
-                plateau_chart::draw_drift(&area, &analysis.drift, input)
-            })
-            .map_err(|e| JsError::new(&e.to_string()))?;
-            return area.present().map_err(|e| JsError::new(&e.to_string()));
-        }
-        let (analysis, kind) = self.target(chart)?;
-        let k = analysis.settings.fisher_pry_k;
-        with_input(analysis, |input| match kind {
-            // The Fisher–Pry view takes the K entered on the page.
-            ChartKind::FisherPry => plateau_chart::draw_fisher_pry(&area, input, k),
-            _ => plateau_chart::draw(kind, &area, input),
-        })
-        .map_err(|e| JsError::new(&e.to_string()))?;
+        self.draw_on(chart, &area)?;
         area.present().map_err(|e| JsError::new(&e.to_string()))
     }
 
-    /// The same chart as an SVG document.
+    /// The same chart as an SVG document (text measured as on the canvas).
     pub fn svg(&self, chart: &str, width: u32, height: u32) -> Result<String, JsError> {
-        if chart == OVERLAY {
-            return with_overlay(self.analysis()?, |series| {
-                plateau_chart::render_overlay_svg(series, width, height)
-            })
-            .map_err(|e| JsError::new(&e.to_string()));
+        let mut svg = String::new();
+        {
+            let backend = Measured::new(SVGBackend::with_string(&mut svg, (width, height)))
+                .ok_or_else(|| JsError::new("no canvas to measure text with"))?;
+            let area = backend.into_drawing_area();
+            self.draw_on(chart, &area)?;
+            area.present().map_err(|e| JsError::new(&e.to_string()))?;
         }
-        if chart == DRIFT {
-            let analysis = self.analysis()?;
-            return with_drift_input(analysis, |input| {
-                plateau_chart::render_drift_svg(&analysis.drift, input, width, height)
-            })
-            .map_err(|e| JsError::new(&e.to_string()));
-        }
-        let (analysis, kind) = self.target(chart)?;
-        let k = analysis.settings.fisher_pry_k;
-        with_input(analysis, |input| match kind {
-            ChartKind::FisherPry => plateau_chart::render_fisher_pry_svg(input, k, width, height),
-            _ => plateau_chart::render_svg(kind, input, width, height),
-        })
-        .map_err(|e| JsError::new(&e.to_string()))
+        Ok(svg)
     }
 
     /// The JSON report, the schema of `plateau fit --json`.
@@ -251,6 +249,31 @@ impl Workbench {
 }
 
 impl Workbench {
+    /// Draws `chart` on any plotters area.
+    fn draw_on<DB: plotters::prelude::DrawingBackend>(
+        &self,
+        chart: &str,
+        area: &plotters::prelude::DrawingArea<DB, plotters::coord::Shift>,
+    ) -> Result<(), JsError> {
+        let analysis = self.analysis()?;
+        let drawn = if chart == OVERLAY {
+            with_overlay(analysis, |series| plateau_chart::draw_overlay(area, series))
+        } else if chart == DRIFT {
+            with_drift_input(analysis, |input| {
+                plateau_chart::draw_drift(area, analysis.drift(), input)
+            })
+        } else {
+            let (_, kind) = self.target(chart)?;
+            let k = analysis.settings.fisher_pry_k;
+            with_input(analysis, |input| match kind {
+                // The Fisher–Pry view takes the K entered on the page.
+                ChartKind::FisherPry => plateau_chart::draw_fisher_pry(area, input, k),
+                _ => plateau_chart::draw(kind, area, input),
+            })
+        };
+        drawn.map_err(|e| JsError::new(&e.to_string()))
+    }
+
     fn analysis(&self) -> Result<&Analysis, JsError> {
         self.last
             .as_ref()
@@ -264,6 +287,18 @@ impl Workbench {
             .ok_or_else(|| JsError::new(&format!("unknown chart {chart:?}")))?;
         Ok((self.analysis()?, kind))
     }
+}
+
+fn section_named(name: &str) -> Result<Section, JsError> {
+    Section::from_name(name).ok_or_else(|| JsError::new(&format!("unknown section {name:?}")))
+}
+
+/// What the page says while a section is computed, after the first answer
+/// is shown ("Answer shown; comparing the models…").
+#[wasm_bindgen(js_name = sectionWorking)]
+pub fn section_working(name: &str) -> Result<String, JsError> {
+    let s = section_named(name)?;
+    Ok(format!("Answer shown; {}…", s.working()))
 }
 
 /// The name of the several-series overlay chart.

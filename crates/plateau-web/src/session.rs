@@ -8,14 +8,11 @@
 
 use plateau_core::analysis;
 use plateau_core::bootstrap::{Bootstrap, BootstrapOptions, DEFAULT_SEED};
-use plateau_core::compare::nested_tests;
 use plateau_core::data::{
     column_count, is_table_export, parse_multi, workbook, ColumnRef, DataError, Layout,
-    MultiOptions, TimeKind,
+    MultiOptions, SeriesSet, TimeKind,
 };
-use plateau_core::diagnostics;
 use plateau_core::fit::{Fit, FitOptions, IntervalMethod};
-use plateau_core::history::DriftRow;
 use plateau_core::milestones::{self, Assessment, Target};
 use plateau_core::{parse_series, Model, ParseOptions, Series, Warning};
 use plateau_study::numbers::{self, Precision};
@@ -24,12 +21,14 @@ use plateau_study::request::{self, BacktestRequest, Horizon, Request};
 pub use plateau_study::study::typical_step;
 use plateau_study::study::{csv_field, is_time_param, looks_cumulative, span, Study, StudyError};
 use plateau_study::summary::{summary_csv, SeriesSummary};
-use plateau_study::wording::{self, RecommendationReport, SymmetryReport, Worded};
+use plateau_study::wording::{self, Worded};
 use serde::{Deserialize, Serialize};
 use std::fmt::Write;
 use std::rc::Rc;
 
+mod sections;
 mod shown;
+pub use sections::{BacktestView, ChecksView, ComparisonView, Section, SectionView};
 pub use shown::ViewText;
 
 /// The demo series shown on a first visit (invented; see demo-data/README.md).
@@ -238,8 +237,6 @@ pub struct Analysis {
     pub view: View,
     /// End of the forecast on the time axis.
     pub horizon_end: f64,
-    /// The fit refitted on prefixes of the data (at most [`DRIFT_ROWS`]).
-    pub drift: Vec<DriftRow>,
     /// Every series, when the text held several.
     pub multi: Option<Multi>,
     /// The study behind every number above (and the bootstrap).
@@ -295,8 +292,11 @@ pub struct BacktestRow {
 /// Prefixes the page refits for its drift chart, at most.
 pub const DRIFT_ROWS: usize = 120;
 
-/// The page's numbers, ready to show. Times come both as axis values and as
-/// display text (dates when the input had dates).
+/// The page's first answer, ready to show: the fit, its parameters and
+/// milestones (what the curve chart needs). The slower sections (model
+/// comparison, checks, drift, backtest) are [`Section`]s, asked for
+/// separately. Times come both as axis values and as display text (dates
+/// when the input had dates).
 #[derive(Debug, Clone, Serialize, PartialEq)]
 #[serde(rename_all = "camelCase")]
 pub struct View {
@@ -337,19 +337,6 @@ pub struct View {
     pub symmetry: Option<SymmetryRow>,
     /// The Bass model's adoption peak, when it has one after launch.
     pub peak: Option<PeakRow>,
-    pub comparison: Vec<CompareRow>,
-    /// Rolling-origin backtest of every model (see [`BACKTEST_HORIZON`]).
-    pub backtest: Vec<BacktestRow>,
-    /// The residual diagnostics of the chosen fit.
-    pub diagnostics: DiagnosticsRow,
-    /// Logistic against Richards (likelihood ratio) and Gompertz (ΔAICc).
-    pub symmetry_test: Option<SymmetryReport>,
-    /// The Fisher–Pry check for the entered K, else the fitted K.
-    pub fisher_pry: Option<FisherPryRow>,
-    /// Likelihood-ratio tests of the nested pairs.
-    pub lr_tests: Vec<wording::LrTestReport>,
-    /// Which model to use and why.
-    pub recommendation: RecommendationReport,
     pub caution: &'static str,
     /// The axis unit: `day`, `week`, `month`, `quarter`, `year`, or a
     /// numeric time column's header (`""` without one).
@@ -545,8 +532,30 @@ pub fn open_file(
     }
 }
 
-/// Runs the whole analysis; pure function of its inputs.
+/// Runs the whole analysis (the first view; sections on demand, see
+/// [`Analysis::section`]); pure function of its inputs.
 pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError> {
+    prepare(text, settings)?.analyse()
+}
+
+/// The text read and the settings checked, nothing fitted yet: the page
+/// says how much is being fitted ([`Prepared::fitting`]) before it fits.
+#[derive(Debug)]
+pub struct Prepared {
+    settings: Settings,
+    model: Model,
+    data: Read,
+}
+
+#[derive(Debug)]
+enum Read {
+    Single(Series),
+    Multi(SeriesSet),
+}
+
+/// Reads the text as the settings ask (one series or several); checks the
+/// settings first.
+pub fn prepare(text: &str, settings: &Settings) -> Result<Prepared, UpdateError> {
     check_settings(settings)?;
     let model = Model::from_name(&settings.model)
         .ok_or_else(|| setting_error(format!("unknown model {:?}", settings.model)))?;
@@ -565,20 +574,83 @@ pub fn analyse(text: &str, settings: &Settings) -> Result<Analysis, UpdateError>
             )))
         }
     };
-    let mut analysis = match layout {
-        Some(layout) => analyse_multi(text, settings, model, layout),
+    let data = match layout {
+        Some(layout) => Read::Multi(read_multi(text, layout)?),
         None => {
             let opts = ParseOptions {
                 time_column: settings.time_column.map(ColumnRef::Index),
                 value_column: settings.value_column.map(ColumnRef::Index),
                 ..ParseOptions::default()
             };
-            let series = parse_series(text, &opts)?;
-            analyse_series(series, settings, model)
+            Read::Single(parse_series(text, &opts)?)
         }
-    }?;
-    analysis.view.text = shown::view_text(&analysis.view);
-    Ok(analysis)
+    };
+    Ok(Prepared {
+        settings: settings.clone(),
+        model,
+        data,
+    })
+}
+
+impl Prepared {
+    /// Points read, over every series.
+    pub fn points(&self) -> usize {
+        match &self.data {
+            Read::Single(s) => s.times.len(),
+            Read::Multi(set) => set.series.iter().map(|s| s.series.times.len()).sum(),
+        }
+    }
+
+    /// What the page says while this is fitted: "Fitting 10,000 points…".
+    pub fn fitting(&self) -> String {
+        let n = self.points();
+        let points = format!(
+            "{} point{}",
+            numbers::number(n as f64),
+            if n == 1 { "" } else { "s" }
+        );
+        match &self.data {
+            Read::Single(_) => format!("Fitting {points}…"),
+            Read::Multi(set) => format!(
+                "Fitting {} series ({points})…",
+                numbers::number(set.series.len() as f64)
+            ),
+        }
+    }
+
+    /// Fits and builds the first view.
+    pub fn analyse(self) -> Result<Analysis, UpdateError> {
+        let Prepared {
+            settings,
+            model,
+            data,
+        } = self;
+        let mut analysis = match data {
+            Read::Multi(set) => analyse_multi(set, &settings, model),
+            Read::Single(series) => analyse_series(series, &settings, model),
+        }?;
+        analysis.view.text = shown::view_text(&analysis.view);
+        Ok(analysis)
+    }
+}
+
+fn read_multi(text: &str, layout: Option<Layout>) -> Result<SeriesSet, UpdateError> {
+    parse_multi(
+        text,
+        &MultiOptions {
+            layout,
+            ..MultiOptions::default()
+        },
+    )
+    .map_err(|e| {
+        let mut u = UpdateError::from(e);
+        if layout.is_none() {
+            u.message.push_str(
+                " (to read only two columns as one series, choose \"one series\" under Layout)",
+            );
+        }
+        u
+    })
 }
 
 /// The fit options the settings ask for, checked against the model.
@@ -608,27 +680,10 @@ fn fit_options(settings: &Settings, model: Model) -> Result<FitOptions, UpdateEr
 /// Several series: every one fitted for the summary and the overlay, the
 /// selected one (or the first that fits) analysed in full.
 fn analyse_multi(
-    text: &str,
+    set: SeriesSet,
     settings: &Settings,
     model: Model,
-    layout: Option<Layout>,
 ) -> Result<Analysis, UpdateError> {
-    let set = parse_multi(
-        text,
-        &MultiOptions {
-            layout,
-            ..MultiOptions::default()
-        },
-    )
-    .map_err(|e| {
-        let mut u = UpdateError::from(e);
-        if layout.is_none() {
-            u.message.push_str(
-                " (to read only two columns as one series, choose \"one series\" under Layout)",
-            );
-        }
-        u
-    })?;
     let mut multi = Multi {
         layout: set.layout,
         names: Vec::new(),
@@ -763,7 +818,6 @@ fn analyse_series(
     let fit = study.fitted().map_err(update_error)?.clone();
     let series = study.series().clone();
     let values = study.values().to_vec();
-    let entries = study.comparison();
     let (_, t_max) = span(&series.times);
     let horizon_end = study.forecast_end().map_err(update_error)?.unwrap_or(t_max);
     let kind = series.time_kind;
@@ -799,63 +853,6 @@ fn analyse_series(
         rms_ratio: s.rms_ratio,
         meaning: s.meaning,
     });
-    let backtest = study
-        .backtest()
-        .iter()
-        .map(|m| BacktestRow {
-            model: m.model.name(),
-            origins: m.origins,
-            failed: m.failed,
-            mape: m.by_horizon.iter().map(|h| h.mape).collect(),
-            mae: m.by_horizon.iter().map(|h| h.mae).collect(),
-            error: m.error.clone(),
-        })
-        .collect();
-    let comparison = entries
-        .iter()
-        .map(|e| CompareRow {
-            model: e.model.name(),
-            aicc: e.result.as_ref().ok().map(|f| f.aicc),
-            bic: e.result.as_ref().ok().map(|f| f.bic),
-            delta_aicc: e.delta_aicc,
-            weight: e.akaike_weight,
-            k: e.result
-                .as_ref()
-                .ok()
-                .and_then(|f| f.model.saturation_level(&f.values())),
-            converged: e.result.as_ref().ok().map(|f| f.converged),
-            error: e.result.as_ref().err().map(|err| err.to_string()),
-        })
-        .collect();
-
-    let diag = study
-        .residual_diagnostics()
-        .cloned()
-        .unwrap_or_else(|| diagnostics::residual_diagnostics(&fit, &series.times, &values));
-    let diagnostics_row = DiagnosticsRow {
-        n: diag.n,
-        runs: diag.runs.as_ref().map(|r| r.runs),
-        runs_expected: diag.runs.as_ref().map(|r| r.expected),
-        runs_p: diag.runs.as_ref().map(|r| r.p_exact),
-        durbin_watson: diag.durbin_watson,
-        lag1_autocorrelation: diag.lag1_autocorrelation,
-        qq_correlation: diag.qq.as_ref().map(|q| q.correlation),
-        jarque_bera_p: diag.jarque_bera.map(|j| j.p_value),
-        verdicts: wording::residual_verdicts(&diag),
-    };
-    let symmetry_test = study.symmetry_test().cloned().map(SymmetryReport::new);
-    let fisher_pry = study.fisher_pry().map(|f| FisherPryRow {
-        k: f.k,
-        entered: settings.fisher_pry_k.is_some(),
-        curvature_p: f.curvature_p,
-        verdict: wording::fisher_pry_verdict(f),
-    });
-    let lr_tests = nested_tests(entries)
-        .into_iter()
-        .map(wording::LrTestReport::new)
-        .collect();
-    let recommendation = study.recommendation().clone();
-
     let view = View {
         model: model.name(),
         formula: model.formula(),
@@ -918,13 +915,6 @@ fn analyse_series(
             rate_ci95: p.rate_ci95.map(|(a, b)| [a, b]),
             share_percent: 100.0 * p.share,
         }),
-        comparison,
-        backtest,
-        diagnostics: diagnostics_row,
-        symmetry_test,
-        fisher_pry,
-        lr_tests,
-        recommendation,
         caution: CAUTION,
         time_unit: series.time_unit(),
         time_origin: series.time_origin(),
@@ -932,7 +922,6 @@ fn analyse_series(
         layout: "single",
         text: ViewText::default(),
     };
-    let drift = study.drift().to_vec();
     Ok(Analysis {
         settings: settings.clone(),
         series,
@@ -941,7 +930,6 @@ fn analyse_series(
         view,
         horizon_end,
         multi: None,
-        drift,
         study: Rc::new(study),
     })
 }

@@ -4,11 +4,13 @@
 //! Steps: the `plateau-web` crate for wasm32 in release mode, `wasm-bindgen
 //! --target web`, `wasm-opt -O3` (speed over size: the wasm is far under its 1.5 MB budget) when binaryen's npm build is installed, then
 //! `web/index.html` is filled in: `static/style.css` inline, the glue script,
-//! the wasm bytes as base64 and `web/app.js` in one inline module script, and
-//! a Content-Security-Policy whose script and style sources are the sha256
-//! hashes of exactly those inline blocks. With `connect-src 'none'` the page
-//! could not fetch its own `.wasm`, which is why the bytes are inlined and
-//! instantiated with `initSync`.
+//! the wasm bytes as base64, the worker's source (the glue again and
+//! `web/worker.js`, as a string the page turns into a Blob URL) and
+//! `web/app.js` in one inline module script, and a Content-Security-Policy
+//! whose script and style sources are the sha256 hashes of exactly those
+//! inline blocks. With `connect-src 'none'` the page could not fetch its own
+//! `.wasm`, which is why the bytes are inlined and compiled in the page (the
+//! compiled module is posted to the worker).
 
 use crate::tools::{self, run};
 use anyhow::{bail, Context, Result};
@@ -115,32 +117,56 @@ fn csp_hash(text: &str) -> String {
     )
 }
 
+/// The glue as a classic script, for the worker: a page opened from
+/// `file://` has an opaque origin, and Chromium starts no module worker
+/// from such a page's Blob URLs. `export` goes; `import.meta.url` is only
+/// read by the glue's fetching init, which the worker never calls.
+fn classic(glue: &str) -> Result<String> {
+    let mut out = String::with_capacity(glue.len());
+    for line in glue.lines() {
+        if line.starts_with("export {") {
+            continue;
+        }
+        out.push_str(line.strip_prefix("export ").unwrap_or(line));
+        out.push('\n');
+    }
+    if !out.contains("import.meta.url") {
+        bail!("the wasm-bindgen glue changed shape: no import.meta.url to replace");
+    }
+    let out = out.replace("import.meta.url", "self.location.href");
+    if out.contains("export ") || out.contains("import.meta") || out.contains("\nimport ") {
+        bail!("the wasm-bindgen glue changed shape: it still has module syntax");
+    }
+    Ok(out)
+}
+
 /// Fills the `{{…}}` slots of `web/index.html`.
 ///
-/// `style-src-attr 'unsafe-inline'` is there because plotters measures
-/// text in the browser with a `<span style=…>` it adds to the page; without
-/// it every label is measured in the wrong font. A style attribute cannot
-/// reach the network here: images are limited to `data:`/`blob:`, fonts
-/// and connections to nothing.
+/// `worker-src blob:` lets the page start its worker from the Blob URL it
+/// makes of `WORKER_SOURCE`; the worker inherits this policy, so it cannot
+/// connect anywhere either. Charts are drawn on an OffscreenCanvas in the
+/// worker with text measured there, so no style attribute is needed.
 fn assemble(root: &Path, glue: &str, wasm: &[u8]) -> Result<String> {
     let template = std::fs::read_to_string(root.join("web/index.html"))?;
     let style = std::fs::read_to_string(root.join("static/style.css"))?;
     let icon = std::fs::read(root.join("static/icon.svg"))?;
     let app = std::fs::read_to_string(root.join("web/app.js"))?;
+    let worker = std::fs::read_to_string(root.join("web/worker.js"))?;
+    let worker_source = serde_json::to_string(&format!("{}\n{worker}\n", classic(glue)?))?;
     let b64 = base64::engine::general_purpose::STANDARD;
     // The glue ends with `export { initSync }; export default __wbg_init;`:
     // exports are legal in an inline module script, so it is kept verbatim.
     let script = format!(
-        "\n{glue}\nconst WASM_BASE64 = \"{}\";\n{app}\n",
+        "\n{glue}\nconst WASM_BASE64 = \"{}\";\nconst WORKER_SOURCE = {worker_source};\n{app}\n",
         b64.encode(wasm)
     );
     if script.contains("</script") {
         bail!("the inline script contains </script and would end early");
     }
     let csp = format!(
-        "default-src 'none'; script-src {} 'wasm-unsafe-eval'; style-src-elem {}; style-src-attr 'unsafe-inline'; img-src data: blob:; \
+        "default-src 'none'; script-src {} 'wasm-unsafe-eval'; style-src-elem {}; img-src data: blob:; \
          connect-src 'none'; font-src 'none'; object-src 'none'; media-src 'none'; \
-         frame-src 'none'; worker-src 'none'; manifest-src 'none'; base-uri 'none'; form-action 'none'",
+         frame-src 'none'; worker-src blob:; manifest-src 'none'; base-uri 'none'; form-action 'none'",
         csp_hash(&script),
         csp_hash(&style)
     );

@@ -53,6 +53,10 @@ export async function serve() {
 export async function openPage(browser, url) {
   const context = await browser.newContext({ acceptDownloads: true, viewport: { width: 1280, height: 900 } });
   const page = await context.newPage();
+  // Every section and chart computed at once, as if all were in view (the
+  // page computes them as they come into view); worker.test.mjs checks
+  // that on-demand behaviour without this.
+  await page.addInitScript(() => { window.plateauEager = true; });
   const requests = [];
   page.on("request", (r) => requests.push({ url: r.url(), at: Date.now() }));
   const errors = [];

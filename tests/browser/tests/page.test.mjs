@@ -255,6 +255,8 @@ test("every chart downloads as PNG and as SVG", async () => {
 test("charts are drawn at the device pixel ratio and are not blank", async () => {
   const context = await browser.newContext({ viewport: { width: 1280, height: 900 }, deviceScaleFactor: 2 });
   const page = await context.newPage();
+  // Every chart drawn, not only those in view (as openPage does).
+  await page.addInitScript(() => { window.plateauEager = true; });
   await page.goto(server.url);
   await waitReady(page, 1);
   const charts = await page.$$eval("canvas.chart", (canvases) => canvases.filter((c) => !c.closest("[hidden]")).map((c) => {

@@ -81,8 +81,8 @@ fn milestones_drift_and_backtest_are_the_same_on_both_faces() {
     // Every prefix on both (the page samples at most 120; the demo has 30 points).
     let dr = cli("drift", &[]);
     let rows = dr["rows"].as_array().unwrap();
-    assert_eq!(a.drift.len(), rows.len());
-    for (p, c) in a.drift.iter().zip(rows) {
+    assert_eq!(a.drift().len(), rows.len());
+    for (p, c) in a.drift().iter().zip(rows) {
         let k = p.result.as_ref().ok().map(|f| f.params[0].estimate);
         assert_eq!(
             as_json(k),
@@ -95,8 +95,8 @@ fn milestones_drift_and_backtest_are_the_same_on_both_faces() {
     // fewer than 40 origins, so every origin from half the data).
     let bt = cli("backtest", &["--horizon", "4"]);
     let models = bt["models"].as_array().unwrap();
-    assert_eq!(a.view.backtest.len(), models.len());
-    for (p, c) in a.view.backtest.iter().zip(models) {
+    assert_eq!(a.backtest_view().rows.len(), models.len());
+    for (p, c) in a.backtest_view().rows.iter().zip(models) {
         assert_eq!(p.model, c["model"].as_str().unwrap());
         let mape: Vec<Value> = c["horizons"]
             .as_array()

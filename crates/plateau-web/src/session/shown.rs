@@ -3,7 +3,7 @@
 //! strings and formats no number itself. The [`View`]'s numbers stay for
 //! the charts, the tests and `data-value` attributes.
 
-use super::{BootstrapView, View};
+use super::{BacktestRow, BootstrapView, CompareRow, DiagnosticsRow, View};
 use plateau_study::numbers::{self, number, probability, Precision};
 use plateau_study::summary::Estimate;
 use serde::Serialize;
@@ -21,13 +21,9 @@ pub struct ViewText {
     pub duration_10_90: Option<String>,
     /// The sentence on it, in the axis' unit.
     pub duration_sentence: Option<String>,
-    pub comparison: Vec<CompareText>,
-    /// Per model, MAPE by horizon (`12.34%`, `–` when there is none).
-    pub backtest: Vec<Vec<String>>,
     /// The symmetry figure (RMS mismatch over the noise level).
     pub symmetry_rms: Option<String>,
     pub peak: Option<PeakText>,
-    pub diagnostics: DiagnosticsText,
     /// Several series: K, r, t0, duration per row, `est [lo … hi]`.
     pub summary: Vec<SummaryText>,
 }
@@ -145,7 +141,6 @@ pub fn view_text(v: &View) -> ViewText {
         })
         .collect();
     let st = &v.stats;
-    let d = &v.diagnostics;
     ViewText {
         params,
         stats: StatsText {
@@ -169,27 +164,6 @@ pub fn view_text(v: &View) -> ViewText {
                 }
             )
         }),
-        comparison: v
-            .comparison
-            .iter()
-            .map(|c| CompareText {
-                aicc: numbers::maybe(c.aicc),
-                delta_aicc: numbers::maybe(c.delta_aicc),
-                weight: maybe_p(c.weight),
-                bic: numbers::maybe(c.bic),
-                k: numbers::maybe(c.k),
-            })
-            .collect(),
-        backtest: v
-            .backtest
-            .iter()
-            .map(|b| {
-                b.mape
-                    .iter()
-                    .map(|m| m.map_or_else(|| "–".into(), |m| format!("{}%", number(m))))
-                    .collect()
-            })
-            .collect(),
         symmetry_rms: v.symmetry.as_ref().and_then(|s| s.rms_ratio).map(number),
         peak: v.peak.as_ref().map(|pk| {
             let d = Precision::of_interval(pk.rate, pk.rate_ci95);
@@ -199,14 +173,6 @@ pub fn view_text(v: &View) -> ViewText {
                 share_percent: number(pk.share_percent),
             }
         }),
-        diagnostics: DiagnosticsText {
-            runs_expected: numbers::maybe(d.runs_expected),
-            runs_p: maybe_p(d.runs_p),
-            durbin_watson: numbers::maybe(d.durbin_watson),
-            lag1_autocorrelation: numbers::maybe(d.lag1_autocorrelation),
-            qq_correlation: numbers::maybe(d.qq_correlation),
-            jarque_bera_p: maybe_p(d.jarque_bera_p),
-        },
         summary: v.multi.as_ref().map_or_else(Vec::new, |m| {
             m.summary
                 .iter()
@@ -236,4 +202,41 @@ pub fn bootstrap_params_text(v: &View, b: &BootstrapView) -> Vec<String> {
             )
         })
         .collect()
+}
+
+/// The comparison's numbers as text, row by row.
+pub fn comparison_text(rows: &[CompareRow]) -> Vec<CompareText> {
+    rows.iter()
+        .map(|c| CompareText {
+            aicc: numbers::maybe(c.aicc),
+            delta_aicc: numbers::maybe(c.delta_aicc),
+            weight: maybe_p(c.weight),
+            bic: numbers::maybe(c.bic),
+            k: numbers::maybe(c.k),
+        })
+        .collect()
+}
+
+/// Per model, MAPE by horizon (`12.34%`, `–` when there is none).
+pub fn backtest_text(rows: &[BacktestRow]) -> Vec<Vec<String>> {
+    rows.iter()
+        .map(|b| {
+            b.mape
+                .iter()
+                .map(|m| m.map_or_else(|| "–".into(), |m| format!("{}%", number(m))))
+                .collect()
+        })
+        .collect()
+}
+
+/// The residual statistics as text.
+pub fn diagnostics_text(d: &DiagnosticsRow) -> DiagnosticsText {
+    DiagnosticsText {
+        runs_expected: numbers::maybe(d.runs_expected),
+        runs_p: maybe_p(d.runs_p),
+        durbin_watson: numbers::maybe(d.durbin_watson),
+        lag1_autocorrelation: numbers::maybe(d.lag1_autocorrelation),
+        qq_correlation: numbers::maybe(d.qq_correlation),
+        jarque_bera_p: maybe_p(d.jarque_bera_p),
+    }
 }

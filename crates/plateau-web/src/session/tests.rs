@@ -17,7 +17,7 @@ fn demo_matches_a_direct_core_fit() {
     let direct = plateau_core::fit(&series, Model::Logistic, &FitOptions::default()).unwrap();
     assert_eq!(a.fit.values(), direct.values());
     assert_eq!(a.view.params.len(), 3);
-    assert_eq!(a.view.comparison.len(), Model::ALL.len());
+    assert_eq!(a.comparison_view().comparison.len(), Model::ALL.len());
     assert!(a.view.milestones.iter().any(|m| m.label == "90% of K"));
     // Common practice: for the logistic, 10% to 90% of K takes ln(81)/r.
     let r = a.fit.param("r").unwrap().estimate;
@@ -75,7 +75,7 @@ fn fixed_k_is_refused_for_the_exponential_and_kept_for_the_logistic() {
     assert!(a.fit.param("K").unwrap().fixed);
     // The comparison holds the same level in every model that has one
     // (Bass's m included); the bi-logistic's row says why it is missing.
-    for row in &a.view.comparison {
+    for row in &a.comparison_view().comparison {
         match row.model {
             "exponential" => assert!(row.aicc.is_some()),
             "bilogistic" => {
@@ -85,14 +85,15 @@ fn fixed_k_is_refused_for_the_exponential_and_kept_for_the_logistic() {
             _ => assert_eq!(row.k, Some(15000.0), "{}", row.model),
         }
     }
-    let bilogistic = a.view.backtest.iter().find(|b| b.model == "bilogistic");
+    let bt = a.backtest_view();
+    let bilogistic = bt.rows.iter().find(|b| b.model == "bilogistic");
     assert!(bilogistic
         .unwrap()
         .error
         .as_deref()
         .unwrap()
         .contains("K1 + K2"));
-    let bass = a.view.backtest.iter().find(|b| b.model == "bass").unwrap();
+    let bass = bt.rows.iter().find(|b| b.model == "bass").unwrap();
     assert!(bass.error.is_none());
 }
 
@@ -207,13 +208,19 @@ fn view_text_follows_the_numbers_rules() {
     }
     // K of the demo is in the thousands: separators.
     assert!(t.params[0].estimate.contains(','), "{:?}", t.params[0]);
-    for (c, shown) in a.view.comparison.iter().zip(&t.comparison) {
+    for (c, shown) in a
+        .comparison_view()
+        .comparison
+        .iter()
+        .zip(&a.comparison_view().text)
+    {
         if c.weight.is_some_and(|w| w < 0.001) {
             assert_eq!(shown.weight, "<0.001");
         }
     }
-    assert_eq!(t.backtest.len(), a.view.backtest.len());
-    assert!(t.backtest[0].iter().all(|m| m.ends_with('%') || m == "–"));
+    let bt = a.backtest_view();
+    assert_eq!(bt.text.len(), bt.rows.len());
+    assert!(bt.text[0].iter().all(|m| m.ends_with('%') || m == "–"));
     let mut b = start_bootstrap(&a).unwrap();
     b.run();
     let bv = bootstrap_view(&a, &b);
@@ -342,25 +349,29 @@ fn diagnostics_match_the_core_and_take_the_entered_k() {
     let direct =
         plateau_core::diagnostics::residual_diagnostics(&a.fit, &a.series.times, &a.values);
     assert_eq!(
-        a.view.diagnostics.verdicts,
+        a.checks_view().diagnostics.verdicts,
         plateau_study::wording::residual_verdicts(&direct)
     );
-    assert_eq!(a.view.diagnostics.durbin_watson, direct.durbin_watson);
+    assert_eq!(
+        a.checks_view().diagnostics.durbin_watson,
+        direct.durbin_watson
+    );
     let sym = plateau_core::diagnostics::symmetry_test(
         &a.series.times,
         &a.values,
         &FitOptions::default(),
     )
     .unwrap();
-    let shown = a.view.symmetry_test.as_ref().unwrap();
+    let checks = a.checks_view();
+    let shown = checks.symmetry_test.as_ref().unwrap();
     assert_eq!(
         shown.verdict,
         plateau_study::wording::symmetry_verdict(&sym)
     );
     assert_eq!(shown.lr_p_value, sym.lr_p_value);
-    assert!(a.view.recommendation.model.is_some());
-    assert_eq!(a.view.lr_tests.len(), 2);
-    let fp = a.view.fisher_pry.as_ref().unwrap();
+    assert!(a.comparison_view().recommendation.model.is_some());
+    assert_eq!(a.comparison_view().lr_tests.len(), 2);
+    let fp = checks.fisher_pry.as_ref().unwrap();
     assert!(!fp.entered);
     assert_eq!(fp.k, a.fit.param("K").unwrap().estimate);
 
@@ -372,7 +383,7 @@ fn diagnostics_match_the_core_and_take_the_entered_k() {
         },
     )
     .unwrap();
-    let fp2 = entered.view.fisher_pry.clone().unwrap();
+    let fp2 = entered.checks_view().fisher_pry.clone().unwrap();
     assert!(fp2.entered);
     // K twice the fitted saturation level: the points bend.
     assert_eq!(fp2.verdict.code, "curved");
@@ -448,8 +459,8 @@ fn unreachable_levels_say_so_and_drift_rows_are_there() {
     assert_eq!(row.verdict, "not_reached");
     assert_eq!(row.time_text, "not reached");
     assert!(row.ci95_text.is_none() && row.note.contains("never reaches"));
-    assert!(!a.drift.is_empty() && a.drift.len() <= DRIFT_ROWS);
-    assert_eq!(a.drift.last().unwrap().m, a.series.times.len());
+    assert!(!a.drift().is_empty() && a.drift().len() <= DRIFT_ROWS);
+    assert_eq!(a.drift().last().unwrap().m, a.series.times.len());
 }
 
 #[test]
@@ -457,7 +468,7 @@ fn backtest_rows_match_the_core_backtest_the_cli_runs() {
     // The demo has 30 points: origins 15..29 are all within the page's
     // limit, so the page shows exactly `plateau backtest --horizon 4`.
     let a = demo();
-    assert_eq!(a.view.backtest.len(), Model::ALL.len());
+    assert_eq!(a.backtest_view().rows.len(), Model::ALL.len());
     let direct = plateau_core::backtest::backtest(
         &a.series.times,
         &a.values,
@@ -465,7 +476,7 @@ fn backtest_rows_match_the_core_backtest_the_cli_runs() {
         &FitOptions::default(),
         &plateau_core::backtest::BacktestOptions::default(),
     );
-    for (row, d) in a.view.backtest.iter().zip(&direct) {
+    for (row, d) in a.backtest_view().rows.iter().zip(&direct) {
         assert_eq!(row.model, d.model.name());
         assert_eq!(row.origins, 15);
         let mape: Vec<Option<f64>> = d.by_horizon.iter().map(|h| h.mape).collect();
@@ -494,14 +505,14 @@ fn bass_on_per_period_counts_shows_its_peak() {
     let core = plateau_core::analysis::bass_peak(&direct).unwrap();
     assert_eq!(peak.time, core.time);
     assert_eq!(peak.rate, core.rate);
-    assert!(a.view.comparison.iter().any(|c| c.model == "bilogistic"));
-    // The comparison's level column is m for the Bass model.
-    let row = a
-        .view
+    assert!(a
+        .comparison_view()
         .comparison
         .iter()
-        .find(|c| c.model == "bass")
-        .unwrap();
+        .any(|c| c.model == "bilogistic"));
+    // The comparison's level column is m for the Bass model.
+    let cmp = a.comparison_view();
+    let row = cmp.comparison.iter().find(|c| c.model == "bass").unwrap();
     assert_eq!(row.k, Some(direct.values()[0]));
 }
 
@@ -802,4 +813,36 @@ fn the_exported_table_opens_again_as_the_same_series() {
     assert!(a.multi.is_some());
     assert_eq!(a.series.time_unit(), "month");
     assert_export_reads_back(&a);
+}
+
+/// The page reads, says what it fits, then fits; each section answers on
+/// its own, tagged with its name, and equals the section read directly.
+#[test]
+fn read_then_fit_then_sections() {
+    let read = prepare(DEMO_TEXT, &Settings::default()).unwrap();
+    let n = read.points();
+    assert_eq!(
+        read.fitting(),
+        format!("Fitting {} points…", numbers::number(n as f64))
+    );
+    let a = read.analyse().unwrap();
+    assert_eq!(a.view.stats.n, n);
+    for s in Section::ALL {
+        assert_eq!(Section::from_name(s.name()), Some(s));
+        let json = serde_json::to_value(a.section(s)).unwrap();
+        assert_eq!(json["section"], s.name());
+    }
+    assert_eq!(
+        a.section(Section::Comparison),
+        SectionView::Comparison(a.comparison_view())
+    );
+    assert_eq!(
+        a.section(Section::Drift),
+        SectionView::Drift {
+            rows: a.drift().len()
+        }
+    );
+    // Bad data fails at the read, naming the line, before any fit.
+    let e = prepare("t,y\n1,2\n2,x\n", &Settings::default()).unwrap_err();
+    assert_eq!(e.line, Some(3));
 }

@@ -100,7 +100,7 @@ fn read_settings(settings: JsValue) -> Result<Settings, JsError> {
 pub fn open_file(bytes: &[u8], name: &str, sheet: Option<u32>) -> Result<JsValue, JsError> {
     let opened = session::open_file(bytes, name, sheet.map(|s| s as usize))
         .map_err(|e| JsError::new(&e.message))?;
-    serde_wasm_bindgen::to_value(&opened).map_err(|e| JsError::new(&e.to_string()))
+    to_js(&opened).map_err(|e| JsError::new(&e.to_string()))
 }
 
 /// The worker's state: the text read for the next fit, the last analysis
@@ -143,8 +143,7 @@ impl Workbench {
             .take()
             .ok_or_else(|| JsError::new("nothing has been read yet"))?;
         let analysis = read.analyse().map_err(|e| JsError::new(&e.message))?;
-        let view = serde_wasm_bindgen::to_value(&analysis.view)
-            .map_err(|e| JsError::new(&e.to_string()))?;
+        let view = to_js(&analysis.view).map_err(|e| JsError::new(&e.to_string()))?;
         self.last = Some(analysis);
         self.boot = None;
         Ok(view)
@@ -160,8 +159,7 @@ impl Workbench {
     /// "backtest"), tagged with its name.
     pub fn section(&self, name: &str) -> Result<JsValue, JsError> {
         let s = section_named(name)?;
-        serde_wasm_bindgen::to_value(&self.analysis()?.section(s))
-            .map_err(|e| JsError::new(&e.to_string()))
+        to_js(&self.analysis()?.section(s)).map_err(|e| JsError::new(&e.to_string()))
     }
 
     /// Sets up a bootstrap of the current fit with the settings of the last
@@ -193,8 +191,7 @@ impl Workbench {
             .boot
             .as_ref()
             .ok_or_else(|| JsError::new("no bootstrap has been started"))?;
-        serde_wasm_bindgen::to_value(&session::bootstrap_view(a, b))
-            .map_err(|e| JsError::new(&e.to_string()))
+        to_js(&session::bootstrap_view(a, b)).map_err(|e| JsError::new(&e.to_string()))
     }
 
     /// Draws chart `chart` (a `ChartKind` name: "curve", "qq", "fisher-pry", …,
@@ -362,4 +359,11 @@ pub fn with_drift_input<T>(a: &Analysis, f: impl FnOnce(&plateau_chart::DriftInp
         time_axis: Some(kind).filter(|a| a.period().is_some()),
     };
     f(&input)
+}
+
+/// A view as plain JavaScript objects: maps (and the flattened reports,
+/// which serde writes as maps) become objects, not `Map`s, so the page
+/// reads every field the same way.
+fn to_js<T: serde::Serialize + ?Sized>(value: &T) -> Result<JsValue, serde_wasm_bindgen::Error> {
+    value.serialize(&serde_wasm_bindgen::Serializer::new().serialize_maps_as_objects(true))
 }

@@ -270,10 +270,9 @@ pub struct MultiView {
 /// Horizons of the page's backtest: 1 to this many observations ahead.
 pub const BACKTEST_HORIZON: usize = 4;
 
-/// Origins of the page's backtest, at most (the latest ones), so that
-/// long series stay quick; `plateau backtest` uses every origin from half
-/// the data on.
-pub const BACKTEST_ORIGINS: usize = 40;
+/// Origins of the page's backtest, at most (evenly spread from half the
+/// data on), as `plateau backtest` by default.
+pub const BACKTEST_ORIGINS: usize = plateau_core::history::MAX_CUTOFFS;
 
 /// One model's backtest on the page.
 #[derive(Debug, Clone, Serialize, PartialEq)]
@@ -290,8 +289,9 @@ pub struct BacktestRow {
     pub error: Option<String>,
 }
 
-/// Prefixes the page refits for its drift chart, at most.
-pub const DRIFT_ROWS: usize = 120;
+/// Prefixes the page refits for its drift chart, at most (evenly spread),
+/// as `plateau drift` by default.
+pub const DRIFT_ROWS: usize = plateau_core::history::MAX_CUTOFFS;
 
 /// The page's numbers, ready to show. Times come both as axis values and as
 /// display text (dates when the input had dates).

@@ -116,7 +116,8 @@ pub struct MilestoneReport {
     pub target: Option<f64>,
     pub label: String,
     /// `observed`, `forecast`, `may_never_be_reached`, `not_reached`,
-    /// `too_far`, `not_applicable` (see `milestones::Verdict`).
+    /// `too_far`, `not_applicable`, `saturation_not_determined` (a share
+    /// of a K the data do not determine: no time; see `milestones::Verdict`).
     pub verdict: &'static str,
     /// What the verdict means here.
     pub note: String,

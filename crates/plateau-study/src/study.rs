@@ -342,7 +342,22 @@ impl Study {
         let (first, last) = span(self.times());
         milestones::standard_targets(f.model, &self.request.shares, &self.request.levels)
             .into_iter()
-            .map(|t| milestones::assess(f, t, first, last, boot))
+            .map(|t| {
+                let mut a = milestones::assess(f, t, first, last, boot);
+                if a.verdict == milestones::Verdict::SaturationNotDetermined {
+                    let k = f.model.saturation_name();
+                    let what = if t == milestones::Target::Duration1090 {
+                        "the rise from 10% to 90% of it has no duration"
+                    } else {
+                        "a share of it has no date"
+                    };
+                    a.note = format!(
+                        "the data do not determine {k} (saturation_not_identified), so {what} \
+                         (milestones at a fixed level are still assessed)"
+                    );
+                }
+                a
+            })
             .collect()
     }
 

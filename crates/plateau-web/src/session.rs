@@ -926,6 +926,9 @@ fn milestone_row(a: &Assessment, fmt_t: &dyn Fn(f64) -> String) -> MilestoneRow 
         _ => match a.verdict {
             milestones::Verdict::TooFar => "beyond what the data can say".to_string(),
             milestones::Verdict::NotApplicable => "not applicable".to_string(),
+            milestones::Verdict::SaturationNotDetermined => {
+                format!("no date: {} not determined", a.level_name)
+            }
             _ => "not reached".to_string(),
         },
     };

@@ -94,7 +94,8 @@ fn better(a: &Fit, b: &Fit) -> bool {
     match (usable(a), usable(b)) {
         (true, false) => true,
         (false, true) => false,
-        _ => a.rss.is_finite() && !(a.rss >= b.rss * (1.0 - 1e-9)),
+        // A NaN RSS of `b` loses to any finite one.
+        _ => a.rss.is_finite() && (b.rss.is_nan() || a.rss < b.rss * (1.0 - 1e-9)),
     }
 }
 

@@ -1701,3 +1701,50 @@ fn month_chart_ticks_on_boundaries() {
         );
     }
 }
+
+/// The cap on drift cutoffs and backtest origins is applied and reported,
+/// and drift honours an explicit interval method. Aldermoor: 30 weeks, so
+/// 27 prefixes of 4+ points and 15 origins from half the data.
+#[test]
+fn drift_and_backtest_report_their_caps_and_interval_method() {
+    let file = demo("aldermoor_subscribers.csv");
+    let d = json(&plateau(
+        &["drift", &file, "--json", "--max-cutoffs", "5"],
+        None,
+    ));
+    assert_eq!(d["rows"].as_array().unwrap().len(), 5);
+    assert_eq!(d["cutoffs_capped_from"], 27);
+    assert_eq!(d["intervals"], "asymptotic");
+    let d = json(&plateau(
+        &[
+            "drift",
+            &file,
+            "--json",
+            "--max-cutoffs",
+            "all",
+            "--intervals",
+            "profile",
+        ],
+        None,
+    ));
+    assert_eq!(d["rows"].as_array().unwrap().len(), 27);
+    assert!(d["cutoffs_capped_from"].is_null());
+    assert_eq!(d["intervals"], "profile");
+    let b = json(&plateau(
+        &[
+            "backtest",
+            &file,
+            "--json",
+            "--models",
+            "logistic",
+            "--max-origins",
+            "4",
+        ],
+        None,
+    ));
+    assert_eq!(b["models"][0]["origins"], 4);
+    assert_eq!(b["models"][0]["origins_capped_from"], 15);
+    let out = plateau(&["drift", &file, "--max-cutoffs", "0"], None);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("--max-cutoffs"));
+}

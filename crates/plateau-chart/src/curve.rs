@@ -208,6 +208,15 @@ pub fn draw_curve<DB: DrawingBackend>(
             .draw_series(std::iter::once(Cross::new((tc, yc), size, marker)))?
             .label(what)
             .legend(move |(x, y)| Cross::new((x + scale.pxi(10.0), y), size, marker));
+        // The label goes on the side of the marker with more room, so it
+        // stays inside the plot (right of a marker near the right edge it
+        // was cut off).
+        let right_half = (tc - x.0) > 0.5 * (x.1 - x.0);
+        let (dx, side) = if right_half {
+            (-scale.pxi(10.0), HPos::Right)
+        } else {
+            (scale.pxi(10.0), HPos::Left)
+        };
         chart.draw_series(std::iter::once(
             EmptyElement::at((tc, yc))
                 + Text::new(
@@ -216,8 +225,8 @@ pub fn draw_curve<DB: DrawingBackend>(
                         if model == Model::Bass { "t*" } else { "t0" },
                         (input.format_time)(tc)
                     ),
-                    (scale.pxi(10.0), scale.pxi(4.0)),
-                    scale.text(13.0).pos(Pos::new(HPos::Left, VPos::Top)),
+                    (dx, scale.pxi(4.0)),
+                    scale.text(13.0).pos(Pos::new(side, VPos::Top)),
                 ),
         ))?;
     }

@@ -210,6 +210,15 @@ pub struct DriftArgs {
     pub fix: Vec<String>,
     #[command(flatten)]
     pub errors: ErrorArgs,
+    /// 95% interval of each cutoff's fit: asymptotic (the default, quick) or
+    /// profile (profile likelihood, verified lower bounds for a K the data do
+    /// not determine; many refits per cutoff).
+    #[arg(long, value_name = "METHOD", default_value = "asymptotic")]
+    pub intervals: String,
+    /// Refit at most N cutoffs, evenly spread from the smallest prefix to all
+    /// the data; "all" refits every prefix.
+    #[arg(long, value_name = "N", default_value = "40")]
+    pub max_cutoffs: String,
     /// Also write the drift chart (K and its interval against the cutoff) as SVG to FILE.
     #[arg(long, value_name = "FILE")]
     pub svg: Option<String>,
@@ -228,6 +237,10 @@ pub struct BacktestArgs {
     /// Points in the first training window (default: half the data).
     #[arg(long, value_name = "M")]
     pub min_train: Option<usize>,
+    /// Try at most N origins, evenly spread from the first training window to
+    /// the last point but one; "all" tries every origin.
+    #[arg(long, value_name = "N", default_value = "40")]
+    pub max_origins: String,
     /// Models to test, comma-separated (default: all).
     #[arg(long, value_name = "LIST")]
     pub models: Option<String>,

@@ -156,8 +156,8 @@ pub fn drift(name: &str, r: &DriftReport) -> String {
     let mut s = String::new();
     let _ = writeln!(
         s,
-        "drift      {} refitted on every prefix of {name} (first m points in time order)",
-        r.model
+        "drift      {} refitted on prefixes of {name} (first m points in time order), {} intervals",
+        r.model, r.intervals
     );
     let names: Vec<&str> = r
         .rows
@@ -171,6 +171,7 @@ pub fn drift(name: &str, r: &DriftReport) -> String {
     }
     let _ = writeln!(s);
     let mut withheld = false;
+    let mut at_least = false;
     for row in &r.rows {
         let _ = write!(s, "{:<12} {:>4}", row.cutoff_text, row.m);
         match (&row.params, &row.error) {
@@ -186,7 +187,15 @@ pub fn drift(name: &str, r: &DriftReport) -> String {
                         withheld |= p.ci95.is_none();
                         ci
                     };
-                    let _ = write!(s, "  {:<34}", format!("{est} ({ci})"));
+                    let cell = match p.at_least {
+                        // Not determined: the meaningless estimate is not shown.
+                        Some(lo) => {
+                            at_least = true;
+                            format!("at least {} (-)", Precision::of_interval(lo, None).show(lo))
+                        }
+                        None => format!("{est} ({ci})"),
+                    };
+                    let _ = write!(s, "  {:<34}", cell);
                 }
                 if row.converged == Some(false) && !row.warnings.contains(&"not_converged") {
                     let _ = write!(s, "  not converged");
@@ -208,6 +217,26 @@ pub fn drift(name: &str, r: &DriftReport) -> String {
              (saturation_not_identified) or it has no standard error"
         );
     }
+    if at_least {
+        let _ = writeln!(
+            s,
+            "\"at least\": the data up to that cutoff do not determine {0}; {0} is at least \
+             the value shown ({1}), and its estimate there means nothing",
+            if r.model == "bass" { "m" } else { "K" },
+            if r.intervals == "profile" {
+                "the verified profile lower bound"
+            } else {
+                "the fitted curve's level at the cutoff"
+            }
+        );
+    }
+    if let Some(all) = r.cutoffs_capped_from {
+        let _ = writeln!(
+            s,
+            "{} of {all} possible cutoffs refitted, evenly spread (--max-cutoffs all for every one)",
+            r.rows.len()
+        );
+    }
     let _ = writeln!(s, "\n{CAUTION}");
     s
 }
@@ -220,9 +249,13 @@ pub fn backtest(name: &str, horizon: usize, rows: &[ModelBacktest]) -> String {
         "backtest   rolling origin on {name}: forecasts 1 to {horizon} observations ahead"
     );
     for m in rows {
+        let capped = m
+            .origins_capped_from
+            .map(|all| format!(" (of {all}, evenly spread)"))
+            .unwrap_or_default();
         let _ = writeln!(
             s,
-            "\n{}: {} origins, {} without a fit",
+            "\n{}: {} origins{capped}, {} without a fit",
             m.model.name(),
             m.origins,
             m.failed

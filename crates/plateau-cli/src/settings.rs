@@ -169,10 +169,24 @@ pub fn drift(args: &DriftArgs) -> Result<Settings> {
     let model = model(&args.model)?;
     let (fixed, _) = fixed_and_started(&args.fix, &[], Scope::One(model))?;
     let fit = error_options(&args.errors, fixed, Vec::new())?;
+    let mut request = request_for(model, &args.input, fit);
+    request.drift_intervals = intervals(&args.intervals)?;
+    request.drift_rows = cap("--max-cutoffs", &args.max_cutoffs)?;
     Ok(Settings {
         parse: parse_options(&args.input)?,
-        request: request_for(model, &args.input, fit),
+        request,
     })
+}
+
+/// A cap on cutoffs or origins: a positive count, or "all" (no cap).
+fn cap(flag: &str, s: &str) -> Result<Option<usize>> {
+    match s.trim() {
+        "all" => Ok(None),
+        n => match n.parse::<usize>() {
+            Ok(k) if k >= 1 => Ok(Some(k)),
+            _ => bail!("{flag}: expected a positive whole number or \"all\", found {s:?}"),
+        },
+    }
 }
 
 pub fn batch(args: &BatchArgs) -> Result<batch::Options> {
@@ -233,7 +247,7 @@ pub fn backtest(args: &BacktestArgs) -> Result<Settings> {
     request.backtest = BacktestRequest {
         horizon: args.horizon,
         min_train: args.min_train,
-        max_origins: None,
+        max_origins: cap("--max-origins", &args.max_origins)?,
     };
     Ok(Settings {
         parse: parse_options(&args.input)?,

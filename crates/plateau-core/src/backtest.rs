@@ -6,14 +6,16 @@
 //! points and record the errors; MAE and MAPE are then averaged per horizon
 //! h, for each model.
 //!
-//! Each fit warm-starts from the previous origin's estimate and falls back
-//! to the self-start, as in [`crate::history`], whose prefixes it uses:
+//! At most [`crate::history::MAX_CUTOFFS`] origins by default, evenly
+//! spread. Each fit starts from the previous origin's estimate and from
+//! the self-starts and keeps the lower minimum, as in [`crate::history`],
+//! whose prefixes it uses:
 //! with replicates (several observations at one time) an origin is cut
 //! between distinct times, horizon h is the h-th distinct time after the
 //! origin and each replicate there is one scored forecast.
 
 use crate::fit::{Fit, FitOptions, IntervalMethod};
-use crate::history::{cut_points, n_free, time_order, warm_fit};
+use crate::history::{cut_points, n_free, spread, time_order, warm_fit, Starts};
 use crate::model::Model;
 
 /// Settings of [`backtest`].
@@ -25,6 +27,9 @@ pub struct BacktestOptions {
     /// Points in the first origin; `None`: half the series, at least the
     /// model's free parameters plus two.
     pub min_train: Option<usize>,
+    /// At most this many origins, evenly spread from the first training
+    /// size to n − 1 (the last always included); `None`: every origin.
+    pub max_origins: Option<usize>,
 }
 
 impl Default for BacktestOptions {
@@ -32,6 +37,7 @@ impl Default for BacktestOptions {
         BacktestOptions {
             horizon: 4,
             min_train: None,
+            max_origins: Some(crate::history::MAX_CUTOFFS),
         }
     }
 }
@@ -55,6 +61,9 @@ pub struct ModelBacktest {
     pub model: Model,
     /// Origins tried.
     pub origins: usize,
+    /// The number of possible origins when the cap left some out, else
+    /// `None`.
+    pub origins_capped_from: Option<usize>,
     /// Origins at which the model could not be fitted (no forecasts made).
     pub failed: usize,
     pub by_horizon: Vec<HorizonScore>,
@@ -101,19 +110,23 @@ pub fn backtest(
             let first = bt.min_train.unwrap_or(n.div_ceil(2)).max(smallest);
             let mut abs = vec![(0usize, 0.0f64); horizon];
             let mut pct = vec![(0usize, 0.0f64); horizon];
-            let mut origins = 0;
+            // Origins as indices into `cuts` (an origin's horizons are the
+            // next cuts), evenly spread under the cap.
+            let eligible: Vec<usize> = (0..cuts.len())
+                .filter(|&c| cuts[c] >= first && cuts[c] < n)
+                .collect();
+            let chosen = spread(&eligible, bt.max_origins.unwrap_or(usize::MAX));
+            let origins = chosen.len();
+            let origins_capped_from = (origins < eligible.len()).then_some(eligible.len());
             let mut failed = 0;
             let mut prev: Option<Fit> = None;
-            for (c, &o) in cuts.iter().enumerate() {
-                if o < first || o >= n {
-                    continue;
-                }
-                origins += 1;
+            for &c in &chosen {
+                let o = cuts[c];
                 if error.is_some() {
                     failed += 1;
                     continue;
                 }
-                match warm_fit(&ts[..o], &ys[..o], model, opts, prev.as_ref()) {
+                match warm_fit(&ts[..o], &ys[..o], model, opts, prev.as_ref(), Starts::Warm) {
                     Ok(f) => {
                         // Distinct time h after the origin: rows cuts[c + h - 1]..cuts[c + h].
                         for h in 1..=horizon {
@@ -145,6 +158,7 @@ pub fn backtest(
             ModelBacktest {
                 model,
                 origins,
+                origins_capped_from,
                 failed,
                 by_horizon: (0..horizon)
                     .map(|i| HorizonScore {

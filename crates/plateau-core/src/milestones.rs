@@ -14,7 +14,10 @@
 //!   [`Verdict::MayNeverBeReached`] (the estimate is kept, the interval is
 //!   open above);
 //! - the time lies more than [`MAX_EXTRAPOLATION`] data spans past the last
-//!   observation: [`Verdict::TooFar`].
+//!   observation: [`Verdict::TooFar`];
+//! - a share of K (or the 10→90% duration) when the data do not determine
+//!   K: [`Verdict::SaturationNotDetermined`], no time at all (levels keep
+//!   their assessment).
 
 use crate::analysis::{self, Milestone};
 use crate::bootstrap::{Bootstrap, QuantityInterval};
@@ -93,6 +96,9 @@ pub enum Why {
     RiseCovered,
     /// The rise to 90% of K lies partly after the last observation.
     RisePartlyAhead,
+    /// The data do not determine the saturation level, so a share of it
+    /// (or the rise from 10% to 90%) has no time.
+    SaturationNotDetermined,
 }
 
 /// How far a milestone can be read off the fit.
@@ -111,6 +117,10 @@ pub enum Verdict {
     TooFar,
     /// The model has no such milestone (the exponential has no K).
     NotApplicable,
+    /// A share of the saturation level (or the 10→90% duration) when the
+    /// data do not determine that level: no time is given, since a share of
+    /// an unknown level has none. The note is left to the caller.
+    SaturationNotDetermined,
 }
 
 impl Verdict {
@@ -123,6 +133,7 @@ impl Verdict {
             Verdict::NotReached => "not_reached",
             Verdict::TooFar => "too_far",
             Verdict::NotApplicable => "not_applicable",
+            Verdict::SaturationNotDetermined => "saturation_not_determined",
         }
     }
 
@@ -192,6 +203,14 @@ pub fn assess(
     if !saturates && !matches!(target, Target::Level(_)) {
         a.verdict = Verdict::NotApplicable;
         a.why = Some(Why::NoSaturation { model });
+        return a;
+    }
+    if !matches!(target, Target::Level(_)) && !saturation_determined(fit) {
+        a.verdict = Verdict::SaturationNotDetermined;
+        a.why = Some(Why::SaturationNotDetermined);
+        a.estimate = None;
+        a.delta = None;
+        a.bootstrap = None;
         return a;
     }
     let k = fit.param("K");
@@ -280,6 +299,21 @@ pub fn assess(
         });
     }
     a
+}
+
+/// Whether the data determine the fit's saturation level: its parameter
+/// (`K`, `m`; both `K1` and `K2` for the bi-logistic) is fixed or
+/// identified (see [`crate::fit::ParamEstimate::identified`]).
+pub fn saturation_determined(fit: &Fit) -> bool {
+    let names: &[&str] = match fit.model.level_param() {
+        Some(n) => &[n][..],
+        None if fit.model == Model::Bilogistic => &["K1", "K2"],
+        None => &[],
+    };
+    names
+        .iter()
+        .filter_map(|n| fit.param(n))
+        .all(|p| p.fixed || p.identified)
 }
 
 fn time_of(fit: &Fit, p: f64) -> Option<f64> {

@@ -116,7 +116,8 @@ pub struct MilestoneReport {
     pub target: Option<f64>,
     pub label: String,
     /// `observed`, `forecast`, `may_never_be_reached`, `not_reached`,
-    /// `too_far`, `not_applicable` (see `milestones::Verdict`).
+    /// `too_far`, `not_applicable`, `saturation_not_determined` (a share
+    /// of a K the data do not determine: no time; see `milestones::Verdict`).
     pub verdict: &'static str,
     /// What the verdict means here.
     pub note: String,
@@ -252,8 +253,14 @@ impl ForecastReport {
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct DriftParam {
     pub estimate: f64,
+    /// The row's 95% interval (the report's `intervals` method); `null`
+    /// when the data of that prefix do not determine the parameter.
     pub ci95: Option<[f64; 2]>,
     pub fixed: bool,
+    /// A saturation level the prefix does not determine: what it is at
+    /// least (the verified profile lower bound, else the fitted curve's
+    /// value at the cutoff); else `null`.
+    pub at_least: Option<f64>,
 }
 
 /// One prefix in `plateau drift --json`.
@@ -276,6 +283,11 @@ pub struct DriftRowReport {
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct DriftReport {
     pub model: &'static str,
+    /// Interval method of every row: `asymptotic` (the default) or `profile`.
+    pub intervals: &'static str,
+    /// How many cutoffs there were when the cap (evenly spread, 40 by
+    /// default) left some out; `null` when every prefix was refitted.
+    pub cutoffs_capped_from: Option<usize>,
     pub rows: Vec<DriftRowReport>,
     pub caution: &'static str,
     pub warnings: Vec<Warning>,
@@ -290,6 +302,8 @@ impl DriftReport {
     ) -> DriftReport {
         DriftReport {
             model: model.name(),
+            intervals: "asymptotic",
+            cutoffs_capped_from: None,
             rows: rows
                 .iter()
                 .map(|r| match &r.result {
@@ -307,10 +321,11 @@ impl DriftReport {
                                         DriftParam {
                                             estimate: p.estimate,
                                             ci95: p
-                                                .ci95
+                                                .interval
                                                 .filter(|_| p.identified)
-                                                .map(|(a, b)| [a, b]),
+                                                .and_then(|i| Some([i.lo?, i.hi?])),
                                             fixed: p.fixed,
+                                            at_least: f.saturation_at_least(p.name),
                                         },
                                     )
                                 })
@@ -336,6 +351,22 @@ impl DriftReport {
     }
 }
 
+impl DriftReport {
+    /// The run's interval method and cap (see the fields).
+    pub fn with_run(
+        mut self,
+        intervals: plateau_core::fit::IntervalMethod,
+        cutoffs_capped_from: Option<usize>,
+    ) -> DriftReport {
+        self.intervals = match intervals {
+            plateau_core::fit::IntervalMethod::Profile => "profile",
+            _ => "asymptotic",
+        };
+        self.cutoffs_capped_from = cutoffs_capped_from;
+        self
+    }
+}
+
 /// One horizon of one model in `plateau backtest --json`.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct HorizonReport {
@@ -351,6 +382,9 @@ pub struct HorizonReport {
 pub struct ModelBacktestReport {
     pub model: &'static str,
     pub origins: usize,
+    /// How many origins there were when the cap (evenly spread, 40 by
+    /// default) left some out; `null` when every origin was tried.
+    pub origins_capped_from: Option<usize>,
     pub failed: usize,
     pub horizons: Vec<HorizonReport>,
     /// Why the model was not fitted at all (the settings do not apply to
@@ -379,6 +413,7 @@ impl BacktestReport {
                 .map(|m| ModelBacktestReport {
                     model: m.model.name(),
                     origins: m.origins,
+                    origins_capped_from: m.origins_capped_from,
                     failed: m.failed,
                     horizons: m
                         .by_horizon

@@ -42,7 +42,8 @@ pub struct BacktestRequest {
     pub horizon: usize,
     /// Points in the first training window; `None`: half the data.
     pub min_train: Option<usize>,
-    /// At most this many origins (the latest ones); `None`: every origin.
+    /// At most this many origins, evenly spread from the first training
+    /// window to the last point but one; `None`: every origin.
     pub max_origins: Option<usize>,
 }
 
@@ -51,7 +52,7 @@ impl Default for BacktestRequest {
         BacktestRequest {
             horizon: 4,
             min_train: None,
-            max_origins: None,
+            max_origins: Some(plateau_core::history::MAX_CUTOFFS),
         }
     }
 }
@@ -89,8 +90,12 @@ pub struct Request {
     /// K of the Fisher–Pry view; `None`: the fitted K.
     pub fisher_pry_k: Option<f64>,
     pub backtest: BacktestRequest,
-    /// At most this many drift prefixes (evenly sampled); `None`: every prefix.
+    /// At most this many drift cutoffs (evenly spread; default
+    /// [`plateau_core::history::MAX_CUTOFFS`]); `None`: every prefix.
     pub drift_rows: Option<usize>,
+    /// Interval method of each drift row (default asymptotic: a profile per
+    /// cutoff costs many refits; `plateau drift --intervals profile`).
+    pub drift_intervals: IntervalMethod,
 }
 
 impl Request {
@@ -110,7 +115,8 @@ impl Request {
             bootstrap: None,
             fisher_pry_k: None,
             backtest: BacktestRequest::default(),
-            drift_rows: None,
+            drift_rows: Some(plateau_core::history::MAX_CUTOFFS),
+            drift_intervals: IntervalMethod::Asymptotic,
         }
     }
 }

@@ -15,7 +15,7 @@ use plateau_core::data::{check_increments, decline_warning, per_period_totals, D
 use plateau_core::diagnostics::{self, FisherPry, ResidualDiagnostics, SymmetryTest};
 use plateau_core::fit::{fit_xy, Fit, FitError, FitOptions, IntervalMethod};
 use plateau_core::forecast::{self, ForecastPoint};
-use plateau_core::history::{self, DriftRow};
+use plateau_core::history::{self, Drift, DriftOptions, DriftRow, Starts};
 use plateau_core::milestones::{self, Assessment};
 use plateau_core::model::Role;
 use plateau_core::{Model, WarningCode};
@@ -82,7 +82,7 @@ pub struct Study {
     residuals: OnceCell<Option<ResidualDiagnostics>>,
     symmetry: OnceCell<Option<SymmetryTest>>,
     fisher_pry: OnceCell<Option<FisherPry>>,
-    drift: OnceCell<Vec<DriftRow>>,
+    drift: OnceCell<Drift>,
     backtest: OnceCell<Vec<ModelBacktest>>,
     outlook: OnceCell<Result<Outlook, StudyError>>,
 }
@@ -277,16 +277,33 @@ impl Study {
             .as_ref()
     }
 
-    /// Refits on prefixes of the data (every prefix, or at most the
-    /// request's `drift_rows`, evenly sampled).
+    /// Refits on prefixes of the data (at most the request's
+    /// `drift_rows` cutoffs, evenly spread; every prefix when `None`),
+    /// with the request's `drift_intervals`.
     pub fn drift(&self) -> &[DriftRow] {
+        &self.drift_run().rows
+    }
+
+    /// The number of possible cutoffs when the cap left some out.
+    pub fn drift_cutoffs_capped_from(&self) -> Option<usize> {
+        self.drift_run().cutoffs_capped_from
+    }
+
+    fn drift_run(&self) -> &Drift {
         self.drift.get_or_init(|| {
-            history::drift_sampled(
+            let opts = FitOptions {
+                intervals: self.request.drift_intervals,
+                ..self.request.fit.clone()
+            };
+            history::drift_with(
                 self.times(),
                 &self.values,
                 self.request.model,
-                &self.request.fit,
-                self.request.drift_rows.unwrap_or(usize::MAX),
+                &opts,
+                &DriftOptions {
+                    max_cutoffs: self.request.drift_rows,
+                    starts: Starts::Warm,
+                },
             )
         })
     }
@@ -296,15 +313,6 @@ impl Study {
     pub fn backtest(&self) -> &[ModelBacktest] {
         self.backtest.get_or_init(|| {
             let b = &self.request.backtest;
-            let n = self.times().len();
-            let min_train = match b.max_origins {
-                Some(k) => Some(
-                    b.min_train
-                        .unwrap_or_else(|| n.div_ceil(2))
-                        .max(n.saturating_sub(k)),
-                ),
-                None => b.min_train,
-            };
             let opts = FitOptions {
                 intervals: IntervalMethod::Asymptotic,
                 ..self.request.fit.clone()
@@ -316,7 +324,8 @@ impl Study {
                 &opts,
                 &BacktestOptions {
                     horizon: b.horizon,
-                    min_train,
+                    min_train: b.min_train,
+                    max_origins: b.max_origins,
                 },
             )
         })
@@ -466,12 +475,12 @@ impl Study {
         }
         let axis = self.series.axis;
         let text = move |t: f64| axis.format(t);
-        Ok(DriftReport::new(
-            self.request.model,
-            rows,
-            &text,
-            &self.series.warnings,
-        ))
+        Ok(
+            DriftReport::new(self.request.model, rows, &text, &self.series.warnings).with_run(
+                self.request.drift_intervals,
+                self.drift_cutoffs_capped_from(),
+            ),
+        )
     }
 
     /// `plateau backtest --json`; an input error when the series is too

@@ -437,6 +437,15 @@ pub fn milestone_note(a: &Assessment) -> String {
         Why::WithinData => "within the observed time range".into(),
         Why::Extrapolation => "after the last observation: an extrapolation".into(),
         Why::RiseCovered => "the data cover the rise to 90% of K".into(),
+        Why::SaturationNotDetermined => format!(
+            "the data do not determine {}, so {} (milestones at a fixed level are still assessed)",
+            a.level_name,
+            if a.target == Target::Duration1090 {
+                "the rise from 10% to 90% of it has no duration"
+            } else {
+                "a share of it has no date"
+            }
+        ),
         Why::RisePartlyAhead => {
             "the rise to 90% of K lies partly after the last observation".into()
         }

@@ -269,10 +269,9 @@ pub struct MultiView {
 /// Horizons of the page's backtest: 1 to this many observations ahead.
 pub const BACKTEST_HORIZON: usize = 4;
 
-/// Origins of the page's backtest, at most (the latest ones), so that
-/// long series stay quick; `plateau backtest` uses every origin from half
-/// the data on.
-pub const BACKTEST_ORIGINS: usize = 40;
+/// Origins of the page's backtest, at most (evenly spread from half the
+/// data on), as `plateau backtest` by default.
+pub const BACKTEST_ORIGINS: usize = plateau_core::history::MAX_CUTOFFS;
 
 /// One model's backtest on the page.
 #[derive(Debug, Clone, Serialize, PartialEq)]
@@ -289,8 +288,9 @@ pub struct BacktestRow {
     pub error: Option<String>,
 }
 
-/// Prefixes the page refits for its drift chart, at most.
-pub const DRIFT_ROWS: usize = 120;
+/// Prefixes the page refits for its drift chart, at most (evenly spread),
+/// as `plateau drift` by default.
+pub const DRIFT_ROWS: usize = plateau_core::history::MAX_CUTOFFS;
 
 /// The page's first answer, ready to show: the fit, its parameters and
 /// milestones (what the curve chart needs). The slower sections (model
@@ -968,6 +968,9 @@ fn milestone_row(a: &Assessment, fmt_t: &dyn Fn(f64) -> String) -> MilestoneRow 
         _ => match a.verdict {
             milestones::Verdict::TooFar => "beyond what the data can say".to_string(),
             milestones::Verdict::NotApplicable => "not applicable".to_string(),
+            milestones::Verdict::SaturationNotDetermined => {
+                format!("no date: {} not determined", a.level_name)
+            }
             _ => "not reached".to_string(),
         },
     };

@@ -6,6 +6,7 @@
 //! [`TASKS`] and one arm to the `match` in [`dispatch`].
 
 mod bench_batch;
+mod bench_history;
 mod bench_vs_scipy;
 mod bench_whole_process;
 mod ci;
@@ -61,6 +62,11 @@ const TASKS: &[Task] = &[
         about: "plateau fit against tests/reference/whole_process_scipy.py on an N-point CSV, whole process, median ratio",
     },
     Task {
+        name: "bench-history",
+        usage: "[--runs R]",
+        about: "plateau drift and backtest on invented 1,000- and 20,000-point series, whole process, median wall time",
+    },
+    Task {
         name: "help",
         usage: "",
         about: "list the tasks",
@@ -95,6 +101,7 @@ fn dispatch(args: &[String]) -> anyhow::Result<()> {
         "bench-vs-scipy" => bench_vs_scipy::run(rest),
         "bench-batch" => bench_batch::run(rest),
         "bench-whole-process" => bench_whole_process::run(rest),
+        "bench-history" => bench_history::run(rest),
         other => {
             help();
             anyhow::bail!("unknown task `{other}`")

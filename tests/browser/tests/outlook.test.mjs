@@ -154,7 +154,13 @@ test("the drift chart is drawn and shows K against the cutoff", async () => {
   // One marker per fitted prefix (plus the legend's), as `plateau drift` reports.
   const drift = JSON.parse(execFileSync(BIN, ["drift", DEMO, "--json"], { encoding: "utf8" }));
   const fitted = drift.rows.filter((r) => r.params).length;
-  assert.equal((svg.match(/<circle/g) || []).length, fitted + 1);
+  // A K a cutoff does not determine is an open marker at what K is at
+  // least, with its own legend sample.
+  const open = drift.rows.filter((r) => r.params && r.params.K.at_least != null).length;
+  const openCircles = (svg.match(/<circle[^>]*fill="none"/g) || []).length;
+  assert.equal(openCircles, open ? open + 1 : 0);
+  if (open) assert.match(svg, /K not determined: at least/);
+  assert.equal((svg.match(/<circle/g) || []).length, fitted + 1 + (open ? 1 : 0));
   await page.locator("#chart-drift").screenshot({ path: path.join(OUT, "outlook-03-drift.png") });
   assert.deepEqual(errors, []);
   await context.close();

@@ -567,8 +567,13 @@ fn drift_chart_shows_one_marker_and_bar_per_prefix() {
     };
     let svg = render_drift_svg(&rows, &input, W, H).expect("render");
     let fitted = rows.iter().filter(|r| r.result.is_ok()).count();
-    // One circle per fitted prefix plus the legend's sample.
-    assert_eq!(count(&svg, "<circle"), fitted + 1);
+    let open = rows
+        .iter()
+        .filter_map(|r| r.result.as_ref().ok())
+        .any(|f| f.saturation_at_least("K").is_some());
+    // One circle per fitted prefix plus the legend's samples (filled, and
+    // open when some K is not determined).
+    assert_eq!(count(&svg, "<circle"), fitted + 1 + usize::from(open));
     let k = case.fit.param("K").unwrap().estimate;
     for text in [
         "K as the data arrived (logistic)",
@@ -583,6 +588,112 @@ fn drift_chart_shows_one_marker_and_bar_per_prefix() {
     let svg = render_drift_svg(&rows[..1], &input, W, H).unwrap();
     assert!(svg.contains("Too few prefixes"));
     assert!(render_drift_svg(&rows, &input, 1, 1).is_err());
+}
+
+/// Undetermined K on the drift chart: the first weeks of the Aldermoor
+/// demo (before its inflection) leave K open at the early cutoffs, where
+/// the estimate runs to tens of millions. Each such cutoff is an open
+/// marker with an upward arrow at what K is at least, named in the legend;
+/// the value axis follows the drawn values (no tick near the meaningless
+/// estimates), and every label lies inside the drawing.
+#[test]
+fn drift_chart_draws_an_undetermined_k_as_a_lower_bound() {
+    use plateau_chart::{render_drift_svg, DriftInput};
+    use plateau_core::fit::IntervalMethod;
+    use plateau_core::history::{drift_with, DriftOptions};
+    let text = include_str!("../../../../demo-data/aldermoor_subscribers.csv");
+    let series = plateau_core::parse_series(text, &Default::default()).unwrap();
+    for (n, method) in [
+        (14, IntervalMethod::Asymptotic),
+        (30, IntervalMethod::Asymptotic),
+        (20, IntervalMethod::Profile),
+    ] {
+        let (t, y) = (&series.times[..n], &series.values[..n]);
+        let opts = FitOptions {
+            intervals: method,
+            ..FitOptions::default()
+        };
+        let rows = drift_with(t, y, Model::Logistic, &opts, &DriftOptions::default()).rows;
+        let fits: Vec<_> = rows.iter().filter_map(|r| r.result.as_ref().ok()).collect();
+        let open = fits
+            .iter()
+            .filter(|f| f.saturation_at_least("K").is_some())
+            .count();
+        assert!(open > 0, "n = {n}: some early K not determined");
+        let meaningless = fits
+            .iter()
+            .filter(|f| f.saturation_at_least("K").is_some())
+            .map(|f| f.params[0].estimate)
+            .fold(0.0, f64::max);
+        let drawn_max = fits
+            .iter()
+            .map(|f| f.saturation_at_least("K").unwrap_or(f.params[0].estimate))
+            .fold(0.0, f64::max);
+        let input = DriftInput {
+            format_time: &plain_time,
+            time_caption: "week",
+            value_caption: "subscribers",
+            time_axis: None,
+            model: Model::Logistic,
+        };
+        let svg = render_drift_svg(&rows, &input, W, H).expect("render");
+        // One open circle per undetermined cutoff, plus the legend's.
+        let open_circles = svg
+            .lines()
+            .filter(|l| l.contains("<circle") && l.contains("fill=\"none\""))
+            .count();
+        assert_eq!(open_circles, open + 1, "n = {n}");
+        assert!(svg.contains("K not determined: at least"));
+        // Each open marker has its arrow: a vertical stem and a head.
+        let stems = svg
+            .lines()
+            .filter(|l| l.contains("<polyline") && l.contains("stroke-width=\"2\""))
+            .count();
+        assert!(stems >= 2 * (open + 1), "n = {n}: {stems} arrow strokes");
+        // The value axis: tick labels are numbers at most ~1.5 times the
+        // largest value drawn, far below the meaningless estimates.
+        let ticks: Vec<f64> = svg
+            .split("text-anchor=\"end\"")
+            .skip(1)
+            .filter_map(|s| {
+                let body = s.split('>').nth(1)?.split('<').next()?;
+                body.replace(',', "").trim().parse::<f64>().ok()
+            })
+            .collect();
+        assert!(!ticks.is_empty());
+        let top = ticks.iter().cloned().fold(f64::MIN, f64::max);
+        assert!(
+            top <= 1.5 * drawn_max && top < meaningless,
+            "n = {n}: top tick {top}, drawn {drawn_max}, estimate {meaningless}"
+        );
+        // Labels inside the drawing: start-anchored text fits to the right
+        // edge (0.6 em a character, generous for sans-serif digits), middle
+        // anchored text on both sides, end-anchored text to the left edge.
+        for piece in svg.split("<text ").skip(1) {
+            let piece = format!(" {piece}");
+            let num = |key: &str| -> f64 {
+                let v = piece.split(key).nth(1).unwrap().split('"').nth(1).unwrap();
+                v.parse().unwrap()
+            };
+            let (x, size) = (num(" x="), num("font-size="));
+            let body = piece.split('>').nth(1).unwrap().split('<').next().unwrap();
+            let width = 0.6 * size * body.chars().count() as f64;
+            let (lo, hi) = if piece.contains("text-anchor=\"start\"") {
+                (x, x + width)
+            } else if piece.contains("text-anchor=\"end\"") {
+                (x - width, x)
+            } else {
+                (x - width / 2.0, x + width / 2.0)
+            };
+            if piece.contains("rotate(") {
+                continue;
+            }
+            assert!(
+                lo >= 0.0 && hi <= f64::from(W),
+                "n = {n}: {body:?} spans {lo:.0}..{hi:.0} of {W}"
+            );
+        }
+    }
 }
 
 /// The Q-Q chart: one marker per residual (plus the legend's), its

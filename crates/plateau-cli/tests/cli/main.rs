@@ -1251,10 +1251,15 @@ fn drift_table_and_json_show_the_same_intervals() {
             let p = &params[*name];
             let cell = cells[i];
             let (head, ci) = cell.rsplit_once('(').unwrap();
-            close(
-                head.split_whitespace().last().unwrap(),
-                p["estimate"].as_f64().unwrap(),
-            );
+            // A K the prefix does not determine shows "at least LOWER"
+            // instead of its meaningless estimate.
+            let shown_value = p["at_least"]
+                .as_f64()
+                .unwrap_or_else(|| p["estimate"].as_f64().unwrap());
+            if p["at_least"].is_f64() {
+                assert!(head.contains("at least"), "{name} in {line}");
+            }
+            close(head.split_whitespace().last().unwrap(), shown_value);
             match p["ci95"].as_array() {
                 None => {
                     assert_eq!(ci, "-", "{name} in {line}");
@@ -1696,4 +1701,51 @@ fn month_chart_ticks_on_boundaries() {
             "{labels:?}"
         );
     }
+}
+
+/// The cap on drift cutoffs and backtest origins is applied and reported,
+/// and drift honours an explicit interval method. Aldermoor: 30 weeks, so
+/// 27 prefixes of 4+ points and 15 origins from half the data.
+#[test]
+fn drift_and_backtest_report_their_caps_and_interval_method() {
+    let file = demo("aldermoor_subscribers.csv");
+    let d = json(&plateau(
+        &["drift", &file, "--json", "--max-cutoffs", "5"],
+        None,
+    ));
+    assert_eq!(d["rows"].as_array().unwrap().len(), 5);
+    assert_eq!(d["cutoffs_capped_from"], 27);
+    assert_eq!(d["intervals"], "asymptotic");
+    let d = json(&plateau(
+        &[
+            "drift",
+            &file,
+            "--json",
+            "--max-cutoffs",
+            "all",
+            "--intervals",
+            "profile",
+        ],
+        None,
+    ));
+    assert_eq!(d["rows"].as_array().unwrap().len(), 27);
+    assert!(d["cutoffs_capped_from"].is_null());
+    assert_eq!(d["intervals"], "profile");
+    let b = json(&plateau(
+        &[
+            "backtest",
+            &file,
+            "--json",
+            "--models",
+            "logistic",
+            "--max-origins",
+            "4",
+        ],
+        None,
+    ));
+    assert_eq!(b["models"][0]["origins"], 4);
+    assert_eq!(b["models"][0]["origins_capped_from"], 15);
+    let out = plateau(&["drift", &file, "--max-cutoffs", "0"], None);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("--max-cutoffs"));
 }

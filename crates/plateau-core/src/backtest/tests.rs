@@ -18,6 +18,7 @@ fn backtest_scores_are_the_errors_of_the_forecasts_made() {
         &BacktestOptions {
             horizon: 3,
             min_train: Some(14),
+            max_origins: None,
         },
     );
     let lg = &rows[0];
@@ -40,6 +41,7 @@ fn backtest_scores_are_the_errors_of_the_forecasts_made() {
     let opts = BacktestOptions {
         horizon: 2,
         min_train: None,
+        max_origins: None,
     };
     let rows = backtest(
         &t,

@@ -108,8 +108,12 @@ fn level_milestones_say_when_the_data_cannot_answer() {
 
 #[test]
 fn milestones_far_past_the_data_are_not_given_as_times() {
-    // Data that end well before the inflection: 99.9% of K lies far out.
-    let (_, _, f) = noisy(Model::Logistic, &[1000.0, 0.3, 30.0], 25, 2.0, 6);
+    // Data that pass the inflection (t0 = 18) with a slow rise, so K is
+    // determined but 99.9% of K lies at t0 + ln(999)/r ≈ 64, more than
+    // one data span past the last time. (Data that end before the
+    // inflection leave K undetermined: see the test below.)
+    let (_, _, f) = noisy(Model::Logistic, &[1000.0, 0.15, 18.0], 25, 2.0, 6);
+    assert!(saturation_determined(&f));
     let a = assess(&f, Target::Share(0.999), 0.0, 24.0, None);
     assert_eq!(a.verdict, Verdict::TooFar, "{a:?}");
     assert!(!a.verdict.shows_time());
@@ -163,4 +167,38 @@ fn milestones_name_the_models_saturation_level() {
         assess(&f, Target::Share(0.1), t[0], t[24], None).level_name,
         "K"
     );
+}
+
+/// The first ten weeks of the Aldermoor demo end well before its
+/// inflection (t0 ≈ 14): K is not determined, so 10/50/90% of K and the
+/// 10→90% duration get no time at all (they used to get dates whose
+/// intervals contradicted t0's own). A fixed level keeps its assessment.
+/// On all 30 weeks K is determined and the shares have times again.
+#[test]
+fn shares_of_an_undetermined_k_get_no_time() {
+    let text = include_str!("../../../../demo-data/aldermoor_subscribers.csv");
+    let s = crate::parse_series(text, &Default::default()).unwrap();
+    let (t, y) = (&s.times[..10], &s.values[..10]);
+    let f = fit_xy(t, y, Model::Logistic, &FitOptions::default()).unwrap();
+    assert!(!f.param("K").unwrap().identified);
+    assert!(!saturation_determined(&f));
+    for target in [
+        Target::Share(0.1),
+        Target::Share(0.5),
+        Target::Share(0.9),
+        Target::Duration1090,
+    ] {
+        let a = assess(&f, target, t[0], t[9], None);
+        assert_eq!(a.verdict, Verdict::SaturationNotDetermined, "{target:?}");
+        assert!(a.estimate.is_none() && a.delta.is_none(), "{target:?}");
+        assert!(!a.verdict.shows_time());
+    }
+    let level = assess(&f, Target::Level(3000.0), t[0], t[9], None);
+    assert_ne!(level.verdict, Verdict::SaturationNotDetermined);
+    assert!(level.estimate.is_some());
+
+    let f = fit_xy(&s.times, &s.values, Model::Logistic, &FitOptions::default()).unwrap();
+    assert!(saturation_determined(&f));
+    let half = assess(&f, Target::Share(0.5), s.times[0], s.times[29], None);
+    assert_eq!(half.verdict, Verdict::Observed);
 }

@@ -187,7 +187,8 @@ fn reasons_are_worded_from_their_numbers() {
 }
 
 /// Milestones are labelled and explained from the assessment's numbers:
-/// an exact logistic (K = 1,000, r = 0.5, t0 = 10, observed t = 0 … 20)
+/// a logistic (K = 1,000, r = 0.5, t0 = 10, observed t = 0 … 20, with a
+/// fixed pattern of noise)
 /// never reaches 2,000 (analytic: it levels off at K), and reaches half of
 /// K at t0 inside the data.
 #[test]
@@ -197,14 +198,21 @@ fn milestones_are_labelled_and_explained() {
     let t: Vec<f64> = (0..=20).map(f64::from).collect();
     let y: Vec<f64> = t
         .iter()
-        .map(|&t| 1000.0 / (1.0 + (-0.5 * (t - 10.0)).exp()))
+        .enumerate()
+        .map(|(i, &t)| {
+            let noise = [0.8, -1.1, 0.3, 1.0, -0.6, -0.2][i % 6];
+            1000.0 / (1.0 + (-0.5 * (t - 10.0)).exp()) + noise
+        })
         .collect();
     let f = fit_xy(&t, &y, Model::Logistic, &FitOptions::default()).unwrap();
     let never = assess(&f, Target::Level(2000.0), 0.0, 20.0, None);
     assert_eq!(milestone_label(&never), "level 2,000");
     assert_eq!(
         milestone_note(&never),
-        "the fitted curve levels off at K = 1,000 and never reaches 2,000"
+        format!(
+            "the fitted curve levels off at K = {} and never reaches 2,000",
+            crate::numbers::number(f.param("K").unwrap().estimate)
+        )
     );
     let half = assess(&f, Target::Share(0.5), 0.0, 20.0, None);
     assert_eq!(milestone_label(&half), "50% of K");

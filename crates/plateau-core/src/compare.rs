@@ -170,12 +170,12 @@ pub struct LrTest {
 fn restriction_note(general: Model) -> &'static str {
     match general {
         Model::Logistic4 => {
-            "L = 0; L may take any sign, so 0 is inside its range (not a boundary) and \
-             χ²(1) applies."
+            "L = 0 lies inside L's range (L may take either sign), so the usual \
+             likelihood-ratio test holds."
         }
         Model::Richards => {
-            "ν = 1, inside ν's range (ν > 0), so χ²(1) applies. The Gompertz curve is the \
-             boundary ν → 0 and is compared by AICc only."
+            "ν = 1 lies inside ν's range (ν > 0), so the usual likelihood-ratio test holds. \
+             The Gompertz curve is the limit ν → 0 and is compared by AICc only."
         }
         _ => "",
     }
@@ -366,10 +366,10 @@ pub fn recommend(entries: &[Entry], t: &[f64], y: &[f64]) -> Recommendation {
     let diag = residual_diagnostics(choice.1, t, y);
     let flagged: Vec<&Verdict> = diag.verdicts.iter().filter(|v| v.flagged).collect();
     if flagged.is_empty() {
-        reasons.push(format!(
-            "its residuals show no pattern ({} checks)",
-            diag.verdicts.len()
-        ));
+        reasons.push(match diag.verdicts.len() {
+            1 => "its residuals show no pattern in the one check made".to_string(),
+            n => format!("its residuals show no pattern in any of the {n} checks"),
+        });
     } else {
         for v in flagged {
             reasons.push(format!("but {}", v.text));

@@ -186,6 +186,13 @@ impl Workbench {
         area.present().map_err(|e| JsError::new(&e.to_string()))
     }
 
+    /// The numbers chart `chart` shows, as a table (its text alternative).
+    #[wasm_bindgen(js_name = chartTable)]
+    pub fn chart_table(&self, chart: &str) -> Result<JsValue, JsError> {
+        serde_wasm_bindgen::to_value(&session::chart_table(self.analysis()?, chart))
+            .map_err(|e| JsError::new(&e.to_string()))
+    }
+
     /// The same chart as an SVG document.
     pub fn svg(&self, chart: &str, width: u32, height: u32) -> Result<String, JsError> {
         if chart == OVERLAY {

@@ -304,6 +304,17 @@ fn trust(study: &Study, fit: &Fit) -> Trust {
     });
     let (_, last) = span(&study.series().times);
     let past_inflection = fit.param("t0").is_some_and(|p| last > p.estimate);
+    // A ceiling held at an entered value is not determined by the data.
+    let ceiling = if fit
+        .model
+        .level_param()
+        .and_then(|n| fit.param(n))
+        .is_some_and(|p| p.fixed)
+    {
+        "the ceiling is the value entered"
+    } else {
+        "the ceiling is determined"
+    };
     if !fit.converged {
         return Trust {
             level: "doubtful",
@@ -339,22 +350,25 @@ fn trust(study: &Study, fit: &Fit) -> Trust {
         return Trust {
             level: "doubtful",
             text: format!(
-                "Use with care: the data pass the steepest point and the ceiling is \
-                 determined, but the curve's shape is doubtful: the residuals run in \
-                 streaks, so the intervals are likely too narrow{extra}."
+                "Use with care: the data pass the steepest point and {ceiling}, but the \
+                 curve's shape is doubtful: the residuals run in streaks, so the intervals \
+                 are likely too narrow{extra}."
             ),
         };
     }
     let text = if fit.model.saturates() {
-        "Sound: the data pass the steepest point, the ceiling is determined, and the \
-         residuals show no pattern."
+        format!(
+            "Sound: the data pass the steepest point, {ceiling}, and the residuals show no \
+             pattern."
+        )
     } else {
         "The residuals show no pattern; this curve has no ceiling, so it describes the early \
          phase only."
+            .to_string()
     };
     Trust {
         level: "sound",
-        text: text.into(),
+        text,
     }
 }
 
@@ -458,6 +472,23 @@ mod tests {
             data_summary(&st),
             "34 monthly points of subscribers, 2021-01 … 2023-10, running totals"
         );
+    }
+
+    #[test]
+    fn an_entered_k_is_never_called_determined() {
+        let s = parse_series(
+            &logistic_text(10_000.0, 0.3, 15.0, 34),
+            &ParseOptions::default(),
+        )
+        .unwrap();
+        let mut req = Request::new(Model::Logistic);
+        req.fit.fixed = vec![("K".to_string(), 10_000.0)];
+        let st = Study::new(s, req).unwrap();
+        let a = answer(&st).unwrap();
+        assert_eq!(a.lines[0].detail, "entered, not estimated");
+        let all = a.text_lines().join("\n");
+        assert!(!all.contains("ceiling is determined"), "{all}");
+        assert!(all.contains("the value entered"), "{all}");
     }
 
     #[test]

@@ -29,7 +29,7 @@ initSync({ module: plateauModule });
 
 const DEFAULTS = {
   model: "logistic", fixedK: null, horizon: 12, perPeriod: false,
-  timeColumn: null, valueColumn: null, share: 95, level: null, fisherPryK: null,
+  timeColumn: null, valueColumn: null, share: 90, level: null, fisherPryK: null,
   bootstrap: false, resampling: "residual", replicates: 1000, seed: 20240601,
   errorModel: "additive", increments: false,
   layout: null, series: null,
@@ -158,7 +158,7 @@ function readControls() {
   s.model = $("model").value;
   s.fixedK = numberOrNull($("fixed-k"));
   s.horizon = numberOrNull($("horizon")) ?? 0;
-  s.share = numberOrNull($("share")) ?? 95;
+  s.share = numberOrNull($("share")) ?? 90;
   s.level = numberOrNull($("level"));
   s.fisherPryK = numberOrNull($("fisher-pry-k"));
   s.perPeriod = $("accum-per-period").checked;
@@ -209,7 +209,88 @@ function fillBody(table, rows) {
   body.replaceChildren(...rows);
 }
 
+// The answer card: every word and number comes from Rust
+// (plateau_study::answer); this only places them.
+function showAnswer(v) {
+  const a = v.answer;
+  $("answer").hidden = !a;
+  if (!a) return;
+  $("answer-lines").replaceChildren(...a.lines.map((l) => {
+    const div = document.createElement("div");
+    div.className = "answer-line";
+    div.dataset.key = l.key;
+    if (l.number != null) div.dataset.value = String(l.number);
+    const dt = document.createElement("dt");
+    dt.textContent = l.label;
+    const dd = document.createElement("dd");
+    const value = document.createElement("span");
+    value.className = "answer-value";
+    value.textContent = l.value;
+    dd.append(value);
+    if (l.detail) {
+      const detail = document.createElement("span");
+      detail.className = "answer-detail";
+      detail.textContent = l.detail;
+      dd.append(detail);
+    }
+    div.append(dt, dd);
+    return div;
+  }));
+  $("answer-trust").textContent = a.trust.text;
+  $("answer-trust").dataset.level = a.trust.level;
+  $("answer-caution").textContent = a.caution;
+}
+
+// The data input folds to one line once data are in; "Change the data" opens it.
+let inputOpen = false;
+function showInput() {
+  $("intake-body").hidden = !inputOpen;
+  $("edit-data").setAttribute("aria-expanded", String(inputOpen));
+  $("edit-data").textContent = inputOpen ? "Hide the data" : "Change the data";
+}
+
+// A chart's numbers (its text alternative), as a table made from Rust's rows.
+function fillChartTable(details) {
+  const chart = details.dataset.chart;
+  const holder = details.querySelector(".alt-text");
+  ask({ what: "chartTable", chart }, (t) => showChartTable(holder, t));
+}
+
+function showChartTable(holder, t) {
+  if (!t) {
+    holder.textContent = "";
+    return;
+  }
+  const table = document.createElement("table");
+  const cap = document.createElement("caption");
+  cap.textContent = t.caption;
+  const head = document.createElement("thead");
+  const hr = document.createElement("tr");
+  for (const h of t.headers) {
+    const th = document.createElement("th");
+    th.scope = "col";
+    th.textContent = h;
+    hr.append(th);
+  }
+  head.append(hr);
+  const body = document.createElement("tbody");
+  body.append(...t.rows.map((r) => {
+    const tr = document.createElement("tr");
+    for (const x of r) cell(tr, x);
+    return tr;
+  }));
+  table.append(cap, head, body);
+  holder.replaceChildren(table);
+}
+
+function showChartTables() {
+  for (const d of document.querySelectorAll("details.chart-numbers[open]")) fillChartTable(d);
+}
+
 function showView(v) {
+  showAnswer(v);
+  $("data-summary").textContent = v.dataSummary;
+  $("fig-linear").hidden = !v.straightLineView;
   $("caution").textContent = v.caution;
   $("model-formula").textContent = v.formula;
   const warnings = v.warnings.map((w) => {
@@ -217,10 +298,9 @@ function showView(v) {
     if (["saturation_not_identified", "before_inflection", "not_converged", "singular_jacobian", "values_decline"].includes(w.code)) {
       li.className = "serious";
     }
-    li.append(w.message + " ");
-    const code = document.createElement("code");
-    code.textContent = w.code;
-    li.append(code);
+    // The code stays in the JSON and as data-code, not in the text.
+    li.dataset.code = w.code;
+    li.textContent = w.message;
     return li;
   });
   $("warnings").replaceChildren(...warnings);
@@ -252,7 +332,7 @@ function showView(v) {
     ["points n", st.n], ["degrees of freedom", st.dof], ["RSS", text.stats.rss],
     ["sigma (residual SD)", text.stats.sigma], ["R²", text.stats.rSquared], ["AICc", text.stats.aicc],
     ["AIC", text.stats.aic], ["BIC", text.stats.bic],
-    ["solver", v.converged ? `converged in ${v.iterations} iterations` : `did not converge (${v.termination})`],
+    ["solver", v.converged ? `converged in ${v.iterations} iterations` : `did not converge (${v.terminationText})`],
   ];
   fillBody("stats", statRows.map(([k, x]) => {
     const tr = document.createElement("tr");
@@ -359,8 +439,8 @@ function showMulti(v) {
     cell(tr, shown.t0 + (row.t0_date ? ` (${row.t0_date})` : ""), "t0");
     cell(tr, shown.duration1090);
     cell(tr, row.converged ? "yes" : "no");
-    cell(tr, row.warnings.map((w) => w.code).join(", "));
-    tr.lastChild.title = row.warnings.map((w) => w.message).join("\n");
+    cell(tr, row.warnings.map((w) => w.message).join(" "));
+    tr.lastChild.dataset.codes = row.warnings.map((w) => w.code).join(",");
     return tr;
   }));
 }
@@ -618,8 +698,11 @@ function received(m) {
       if (performance.now() - sentAt >= PROGRESS_MS) showWork(m.text);
       break;
     case "error":
-      // Bad input: say where, keep the last good results on screen.
+      // Bad input: say where, keep the last good results on screen, and
+      // show the data so it can be corrected.
       setStatus(m.message, true);
+      inputOpen = true;
+      showInput();
       document.body.dataset.state = "error";
       finishWork();
       break;
@@ -627,6 +710,7 @@ function received(m) {
       view = m.view;
       window.plateauLastFitMs = m.ms;
       showView(view);
+      showInput();
       markStale();
       if (view.multi) {
         const chosen = view.multi.summary[view.multi.selected];
@@ -662,6 +746,7 @@ function received(m) {
       break;
     case "idle":
       window.plateauLastUpdateMs = performance.now() - sentAt;
+      showChartTables();
       document.body.dataset.state = "ready";
       document.body.dataset.updates = String(Number(document.body.dataset.updates || 0) + 1);
       finishWork();
@@ -844,6 +929,20 @@ function wire() {
   $("data").addEventListener("input", () => changed({ text: true }));
   for (const id of ["model", "fixed-k", "fisher-pry-k", "horizon", "share", "level", "bootstrap", "resampling", "replicates", "seed", "time-col", "value-col", "accum-cumulative", "accum-per-period", "error-model", "increments", "layout", "series-select"]) {
     $(id).addEventListener("change", () => changed({ immediate: true }));
+  }
+  $("open-file").addEventListener("click", () => $("file").click());
+  $("edit-data").addEventListener("click", () => {
+    inputOpen = !inputOpen;
+    showInput();
+    if (inputOpen) $("data").focus();
+  });
+  $("fold-data").addEventListener("click", () => {
+    inputOpen = false;
+    showInput();
+    $("edit-data").focus();
+  });
+  for (const d of document.querySelectorAll("details.chart-numbers")) {
+    d.addEventListener("toggle", () => { if (d.open && view) fillChartTable(d); });
   }
   $("file").addEventListener("change", async (ev) => {
     const f = ev.target.files[0];

@@ -226,7 +226,8 @@ function exportJob(m) {
   return {
     what: "export", id: m.id,
     run() {
-      const text = m.what === "svg" ? bench.svg(m.chart, m.width, m.height) : bench[m.what]();
+      const text = m.what === "svg" ? bench.svg(m.chart, m.width, m.height)
+        : m.what === "chartTable" ? bench.chartTable(m.chart) : bench[m.what]();
       post({ type: "export", id: m.id, text });
     },
   };

@@ -5,7 +5,7 @@
 //! midpoint or inflection point, with a legend.
 
 use crate::common::{self, format_value, Scale};
-use crate::palette::{BAND_ALPHA, GRAPHITE, INK, ORANGE, ROSE, SKY};
+use crate::palette::{BAND_ALPHA, BAND_EDGE, GRAPHITE, INK, ORANGE, ROSE, SKY};
 use crate::{ChartError, ChartInput};
 use plateau_core::analysis::{sample_curve, CurveSample};
 use plateau_core::forecast::prediction_band;
@@ -146,6 +146,18 @@ pub fn draw_curve<DB: DrawingBackend>(
                     SKY.mix(BAND_ALPHA).filled(),
                 )
             });
+        // Its edges as thin lines that keep 3:1 contrast on white.
+        let edge_style = ShapeStyle::from(BAND_EDGE).stroke_width(scale.px(1.0));
+        for side in [
+            edge.iter()
+                .filter_map(|s| Some((s.t, clamp(s.hi?))))
+                .collect::<Vec<_>>(),
+            edge.iter()
+                .filter_map(|s| Some((s.t, clamp(s.lo?))))
+                .collect(),
+        ] {
+            chart.draw_series(std::iter::once(PathElement::new(side, edge_style)))?;
+        }
     }
 
     // K: a dashed reference line labelled at its right end.

@@ -76,7 +76,18 @@ fn run(cli: Cli) -> Result<(), Failure> {
             if args.json {
                 print_json(&study.fit_report().map_err(|e| fail(&name, e))?)?;
             } else {
-                emit(&table::fit(&name, &series, result))?;
+                let mut text = String::new();
+                if let Some(answer) = plateau_study::answer::answer(&study) {
+                    text.push_str("In short\n");
+                    for line in answer.text_lines() {
+                        text.push_str("  ");
+                        text.push_str(&line);
+                        text.push('\n');
+                    }
+                    text.push('\n');
+                }
+                text.push_str(&table::fit(&name, &series, result));
+                emit(&text)?;
             }
             Ok(())
         }

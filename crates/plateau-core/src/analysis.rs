@@ -246,6 +246,44 @@ pub fn bass_peak(fit: &Fit) -> Option<Peak> {
     })
 }
 
+/// The fastest growth of a single-wave saturating curve: the slope `dy/dt`
+/// at its inflection, which for the logistic, logistic4, Gompertz and
+/// Richards curves (as parametrised in [`Model::formula`]) lies at `t0`.
+/// Logistic: `r K / 4` (Verhulst); logistic4: `r (K − L) / 4`; Gompertz:
+/// `r K / e`. The Bass model's is [`bass_peak`]; `None` for the
+/// bi-logistic (two waves) and the exponential (no inflection).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct FastestGrowth {
+    /// Where the growth is fastest (`t0`).
+    pub time: f64,
+    /// `dy/dt` there, per unit of the time axis.
+    pub rate: f64,
+    /// 95% delta-method interval of the rate.
+    pub rate_ci95: Option<(f64, f64)>,
+}
+
+/// See [`FastestGrowth`].
+pub fn fastest_growth(fit: &Fit) -> Option<FastestGrowth> {
+    let model = fit.model;
+    if !matches!(
+        model,
+        Model::Logistic | Model::Logistic4 | Model::Gompertz | Model::Richards
+    ) {
+        return None;
+    }
+    let rate_of = |q: &[f64]| {
+        let s = model.slope(q, q[2]);
+        s.is_finite().then_some(s)
+    };
+    let v = fit.values();
+    let rate = rate_of(&v)?;
+    Some(FastestGrowth {
+        time: v[2],
+        rate,
+        rate_ci95: delta_interval(fit, rate, 0.95, &rate_of),
+    })
+}
+
 fn level_time(model: Model, q: &[f64], y: f64) -> Option<f64> {
     let t = match model {
         Model::Exponential => {

@@ -3,6 +3,7 @@
 //! and read every answer, report, sentence and formatted number from here.
 //! The core computes; this crate decides how results are put to people.
 
+pub mod answer;
 pub mod forecast_report;
 pub mod held;
 pub mod numbers;

@@ -361,10 +361,12 @@ fn reason_text(r: &Reason, residual_verdicts: &[Worded]) -> String {
              or a straight line does better ({}: {why})",
             model.name()
         ),
-        Reason::ResidualsClean { checks } => format!(
-            "its residuals show no pattern in {checks} {}",
-            if *checks == 1 { "check" } else { "checks" }
-        ),
+        Reason::ResidualsClean { checks: 1 } => {
+            "its residuals show no pattern in the one check made".into()
+        }
+        Reason::ResidualsClean { checks } => {
+            format!("its residuals show no pattern in any of the {checks} checks")
+        }
         Reason::ResidualFlag(i) => residual_verdicts
             .get(*i)
             .map_or_else(String::new, |v| format!("but {}", v.text)),
@@ -467,12 +469,12 @@ impl LrTestReport {
     pub fn new(test: LrTest) -> LrTestReport {
         let note = match test.general {
             Model::Logistic4 => {
-                "L = 0; L may take any sign, so 0 is inside its range (not a boundary) and \
-                 χ²(1) applies."
+                "L = 0 lies inside L's range (L may take either sign), so the usual \
+                 likelihood-ratio test holds."
             }
             Model::Richards => {
-                "ν = 1, inside ν's range (ν > 0), so χ²(1) applies. The Gompertz curve is the \
-                 boundary ν → 0 and is compared by AICc only."
+                "ν = 1 lies inside ν's range (ν > 0), so the usual likelihood-ratio test \
+                 holds. The Gompertz curve is the limit ν → 0 and is compared by AICc only."
             }
             _ => "",
         };

@@ -205,6 +205,13 @@ impl Workbench {
         area.present().map_err(|e| JsError::new(&e.to_string()))
     }
 
+    /// The numbers chart `chart` shows, as a table (its text alternative).
+    #[wasm_bindgen(js_name = chartTable)]
+    pub fn chart_table(&self, chart: &str) -> Result<JsValue, JsError> {
+        to_js(&session::chart_table(self.analysis()?, chart))
+            .map_err(|e| JsError::new(&e.to_string()))
+    }
+
     /// The same chart as an SVG document (text measured as on the canvas).
     pub fn svg(&self, chart: &str, width: u32, height: u32) -> Result<String, JsError> {
         let mut svg = String::new();

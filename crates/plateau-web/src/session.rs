@@ -15,6 +15,7 @@ use plateau_core::data::{
 use plateau_core::fit::{Fit, FitOptions, IntervalMethod};
 use plateau_core::milestones::{self, Assessment, Target};
 use plateau_core::{parse_series, Model, ParseOptions, Series, Warning};
+use plateau_study::answer::{self, Answer};
 use plateau_study::numbers::{self, Precision};
 use plateau_study::report::CAUTION;
 use plateau_study::request::{self, BacktestRequest, Horizon, Request};
@@ -26,8 +27,10 @@ use serde::{Deserialize, Serialize};
 use std::fmt::Write;
 use std::rc::Rc;
 
+mod chart_text;
 mod sections;
 mod shown;
+pub use chart_text::{chart_table, ChartTable};
 pub use sections::{BacktestView, ChecksView, ComparisonView, Section, SectionView};
 pub use shown::ViewText;
 
@@ -97,7 +100,7 @@ impl Default for Settings {
             per_period: false,
             time_column: None,
             value_column: None,
-            share: 95.0,
+            share: 90.0,
             level: None,
             error_model: "additive".into(),
             increments: false,
@@ -312,6 +315,8 @@ pub struct View {
     pub per_period: bool,
     pub converged: bool,
     pub termination: &'static str,
+    /// Why the solver stopped, in words.
+    pub termination_text: &'static str,
     pub iterations: usize,
     pub params: Vec<ParamRow>,
     /// The error model's name and a sentence on what it means.
@@ -349,6 +354,15 @@ pub struct View {
     pub layout: &'static str,
     /// Every number above as the page shows it (`plateau_study::numbers`).
     pub text: ViewText,
+    /// Whether the page shows the straight-line view: not for the
+    /// logistic, whose straight line is the Fisher–Pry view's (one view
+    /// per transform).
+    pub straight_line_view: bool,
+    /// The answer at a glance, in words (`plateau_study::answer`).
+    pub answer: Option<Answer>,
+    /// One line saying what was read (`34 monthly points, …`), shown when
+    /// the input is folded.
+    pub data_summary: String,
 }
 
 #[derive(Debug, Clone, Serialize, PartialEq)]
@@ -865,6 +879,7 @@ fn analyse_series(
         per_period: settings.per_period,
         converged: fit.converged,
         termination: fit.termination.as_str(),
+        termination_text: fit.termination.describe(),
         iterations: fit.iterations,
         params,
         error_model: fit.error_model.name(),
@@ -921,6 +936,9 @@ fn analyse_series(
         multi: None,
         layout: "single",
         text: ViewText::default(),
+        straight_line_view: model != Model::Logistic,
+        answer: answer::answer(&study),
+        data_summary: answer::data_summary(&study),
     };
     Ok(Analysis {
         settings: settings.clone(),

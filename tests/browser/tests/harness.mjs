@@ -71,9 +71,15 @@ export async function waitReady(page, n) {
   await page.waitForFunction((k) => Number(document.body.dataset.updates || 0) >= k, n, { timeout: 20000 });
 }
 
+/// Opens the folded data input ("Change the data") when it is closed.
+export async function openInput(page) {
+  if (await page.isHidden("#intake-body")) await page.click("#edit-data");
+}
+
 /// Replaces the data text as a paste would, and waits for the re-fit.
 export async function pasteData(page, text) {
   const before = await page.evaluate(() => Number(document.body.dataset.updates || 0));
+  await openInput(page);
   await page.fill("#data", text);
   await waitReady(page, before + 1);
 }

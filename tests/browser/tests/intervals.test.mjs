@@ -37,8 +37,10 @@ test("an early series shows K as not determined, with only a lower bound", async
   assert.equal(interval, `≥ ${bound[1]}`);
   // No narrow number for K anywhere in its row: no standard error either.
   assert.equal(await page.textContent(`${row} td:nth-child(3)`), "not determined");
-  const codes = await page.$$eval("#warnings code", (cs) => cs.map((c) => c.textContent));
+  // The code stays in the JSON and as data-code; the text is words only.
+  const codes = await page.$$eval("#warnings li", (ls) => ls.map((l) => l.dataset.code));
   assert.ok(codes.includes("saturation_not_identified"), codes.join());
+  assert.doesNotMatch(await page.textContent("#warnings"), /saturation_not_identified/);
   await page.screenshot({ path: path.join(OUT, "20-k-not-determined.png"), fullPage: true });
   assert.deepEqual(errors, []);
   await context.close();

@@ -1749,3 +1749,36 @@ fn drift_and_backtest_report_their_caps_and_interval_method() {
     assert_eq!(out.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&out.stderr).contains("--max-cutoffs"));
 }
+
+#[test]
+fn human_fit_output_opens_with_the_answer_in_words() {
+    let out = plateau(&["fit", &demo("aldermoor_subscribers.csv")], None);
+    assert!(out.status.success());
+    let text = String::from_utf8_lossy(&out.stdout);
+    let v = json(&plateau(
+        &["fit", &demo("aldermoor_subscribers.csv"), "--json"],
+        None,
+    ));
+    let k = v["params"]["K"]["estimate"].as_f64().unwrap();
+    let mut lines = text.lines();
+    assert_eq!(lines.next(), Some("In short"));
+    let k_line = lines.next().unwrap();
+    // K at the digits its standard error supports (plateau_study::numbers).
+    assert!(
+        k_line.contains(&format!(
+            "about {}",
+            plateau_study::numbers::Precision::of_estimate(
+                k,
+                v["params"]["K"]["std_error"].as_f64()
+            )
+            .show(k)
+        )),
+        "{k_line}"
+    );
+    assert!(text.contains("90% of K reached"), "{text}");
+    assert!(text.contains("How far to trust it:"), "{text}");
+    assert!(
+        text.contains("Not for clinical or safety decisions"),
+        "{text}"
+    );
+}

@@ -206,3 +206,33 @@ fn band_contains_fit_and_widens_in_the_forecast() {
     assert!(sample_curve(&f, 0.0, 1.0, 0, 0.95).is_empty());
     assert_eq!(sample_curve(&f, 3.0, 9.0, 1, 0.95)[0].t, 3.0);
 }
+
+#[test]
+fn fastest_growth_is_rk_over_4_for_the_logistic_and_rk_over_e_for_gompertz() {
+    // Textbook maxima of dy/dt: the logistic's r K / 4 at t0 (Verhulst),
+    // the Gompertz curve's r K / e at t0.
+    let (_, _, f) = fitted(Model::Logistic, &[1000.0, 0.7, 12.0], 25, 5.0, 3);
+    let (k, r) = (
+        f.param("K").unwrap().estimate,
+        f.param("r").unwrap().estimate,
+    );
+    let g = fastest_growth(&f).unwrap();
+    assert!(
+        close(g.rate, r * k / 4.0, 1e-9),
+        "{} vs {}",
+        g.rate,
+        r * k / 4.0
+    );
+    assert_eq!(g.time, f.param("t0").unwrap().estimate);
+    let (lo, hi) = g.rate_ci95.unwrap();
+    assert!(lo < g.rate && g.rate < hi);
+    let (_, _, f) = fitted(Model::Gompertz, &[1000.0, 0.5, 10.0], 25, 5.0, 4);
+    let (k, r) = (
+        f.param("K").unwrap().estimate,
+        f.param("r").unwrap().estimate,
+    );
+    let g = fastest_growth(&f).unwrap();
+    assert!(close(g.rate, r * k / std::f64::consts::E, 1e-9));
+    let (_, _, f) = fitted(Model::Exponential, &[1.0, 0.1], 20, 0.01, 5);
+    assert!(fastest_growth(&f).is_none());
+}

@@ -183,7 +183,10 @@ fn reasons_are_worded_from_their_numbers() {
         r.reasons[1],
         "likelihood ratio logistic within richards: LR = 1.18, p = 0.276 (the simpler curve suffices)"
     );
-    assert_eq!(r.reasons[2], "its residuals show no pattern in 1 check");
+    assert_eq!(
+        r.reasons[2],
+        "its residuals show no pattern in the one check made"
+    );
 }
 
 /// Milestones are labelled and explained from the assessment's numbers:

@@ -846,3 +846,40 @@ fn read_then_fit_then_sections() {
     let e = prepare("t,y\n1,2\n2,x\n", &Settings::default()).unwrap_err();
     assert_eq!(e.line, Some(3));
 }
+
+#[test]
+fn the_answer_card_carries_the_fits_numbers() {
+    let a = demo();
+    let ans = a.view.answer.as_ref().expect("an answer");
+    let k = ans.lines.iter().find(|l| l.key == "saturation").unwrap();
+    assert_eq!(k.number, Some(a.fit.param("K").unwrap().estimate));
+    let t0 = ans.lines.iter().find(|l| l.key == "midpoint").unwrap();
+    assert_eq!(t0.number, Some(a.fit.param("t0").unwrap().estimate));
+    // The page's default milestone share is 90% of K.
+    let m = ans.lines.iter().find(|l| l.key == "milestone").unwrap();
+    assert_eq!(m.label, "90% of K reached");
+    assert!(a.view.data_summary.starts_with(&format!("{} ", a.fit.n)));
+}
+
+#[test]
+fn each_chart_has_its_numbers_as_a_table() {
+    let a = demo();
+    let curve = chart_table(&a, "curve");
+    assert_eq!(curve.headers.len(), 4);
+    // Every observation, then the forecast periods.
+    assert!(curve.rows.len() > a.fit.n);
+    assert!(curve.rows.iter().all(|r| r.len() == 4));
+    for chart in [
+        "residuals",
+        "rate",
+        "qq",
+        "drift",
+        "fisher-pry",
+        "symmetry",
+        "linear",
+    ] {
+        let t = chart_table(&a, chart);
+        assert!(!t.rows.is_empty(), "{chart}");
+        assert!(t.rows.iter().all(|r| r.len() == t.headers.len()), "{chart}");
+    }
+}

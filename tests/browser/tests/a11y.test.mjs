@@ -71,6 +71,8 @@ test("export buttons name their chart; the status region is polite; every chart 
     assert.ok(described, `${id} has a text alternative`);
   }
   await page.click('details.chart-numbers[data-chart="curve"] summary');
+  // The table is asked of the worker; it arrives a moment later.
+  await page.waitForFunction(() => document.querySelectorAll("#alt-curve tbody tr").length > 0);
   const rows = await page.$$eval("#alt-curve tbody tr", (trs) => trs.length);
   assert.ok(rows > 30, `the curve's table has ${rows} rows (30 points and the forecast)`);
   await context.close();

@@ -50,6 +50,7 @@ test("a workbook opened through the file input fits as the CLI fits it; the shee
   await page.waitForFunction(() => /is empty/.test(document.querySelector("#parse-status").textContent));
   assert.match(await page.textContent("#parse-status"), /sheet "Blank" is empty/);
   // The demo replaces the workbook's text: no chooser, no file label.
+  if (await page.isHidden("#intake-body")) await page.click("#edit-data");
   await page.click("#load-demo");
   await page.waitForFunction(() => document.querySelector("#sheet-row").hidden);
   assert.doesNotMatch(await page.textContent("#data-label"), /members\.xlsx/);

@@ -229,13 +229,20 @@ pub fn draw_curve<DB: DrawingBackend>(
         } else {
             (scale.pxi(10.0), HPos::Left)
         };
+        // On a plain-number axis the label shows the digits t0's standard
+        // error supports, as the tables and the answer do; dates stay dates.
+        let tc_text = if input.time_axis.is_none() && model != Model::Bass {
+            let se = input.fit.param("t0").and_then(|p| p.std_error);
+            plateau_study::numbers::Precision::of_estimate(tc, se).show_time(tc)
+        } else {
+            (input.format_time)(tc)
+        };
         chart.draw_series(std::iter::once(
             EmptyElement::at((tc, yc))
                 + Text::new(
                     format!(
-                        "{} = {}",
+                        "{} = {tc_text}",
                         if model == Model::Bass { "t*" } else { "t0" },
-                        (input.format_time)(tc)
                     ),
                     (dx, scale.pxi(4.0)),
                     scale.text(13.0).pos(Pos::new(side, VPos::Top)),

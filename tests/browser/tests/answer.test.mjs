@@ -139,6 +139,11 @@ test("keyboard only: open the input, paste, fit, export", async () => {
   // "Open file…" is a real button reached by Tab that opens the file chooser.
   // (back from "Done": a few steps, without wrapping round the page)
   await tabTo(page, "open-file", 20, "Shift+Tab");
+  assert.deepEqual(
+    await page.evaluate(() => [document.activeElement.id, document.getElementById("intake-body").hidden]),
+    ["open-file", false],
+    "Open file has the focus, in the open data panel",
+  );
   const [chooser] = await Promise.all([page.waitForEvent("filechooser"), page.keyboard.press("Enter")]);
   assert.ok(chooser);
   await tabTo(page, "export-json");

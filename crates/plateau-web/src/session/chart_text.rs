@@ -133,6 +133,12 @@ pub fn chart_table(a: &Analysis, chart: &str) -> ChartTable {
                 .map(|r| {
                     let (est, iv) = match &r.result {
                         Ok(d) => match d.params.first() {
+                            // As the chart draws it: an undetermined level
+                            // is only "at least", never its estimate.
+                            Some(p) if d.saturation_at_least(&p.name).is_some() => {
+                                let lo = d.saturation_at_least(&p.name).unwrap_or_default();
+                                ("not determined".into(), format!("at least {}", number(lo)))
+                            }
                             Some(p) => {
                                 let dg = Precision::of_estimate(p.estimate, p.std_error);
                                 let iv = match p.interval.map(|i| (i.lo, i.hi)) {

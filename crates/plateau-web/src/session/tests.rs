@@ -883,3 +883,30 @@ fn each_chart_has_its_numbers_as_a_table() {
         assert!(t.rows.iter().all(|r| r.len() == t.headers.len()), "{chart}");
     }
 }
+
+/// The drift chart's numbers say what the chart draws: a cutoff whose
+/// data do not determine K reads "not determined" and "at least …",
+/// never the meaningless estimate. The first ten weeks of the demo end
+/// before its inflection, so their early cutoffs do not determine K.
+#[test]
+fn the_drift_table_gives_an_undetermined_k_as_at_least() {
+    let early: String = DEMO_TEXT
+        .lines()
+        .take(11)
+        .map(|l| format!("{l}\n"))
+        .collect();
+    let a = analyse(&early, &Settings::default()).unwrap();
+    let open: Vec<f64> = a
+        .drift()
+        .iter()
+        .filter_map(|r| r.result.as_ref().ok())
+        .filter_map(|d| d.saturation_at_least("K"))
+        .collect();
+    assert!(!open.is_empty(), "some cutoff leaves K open");
+    let t = chart_table(&a, "drift");
+    let rows: Vec<&Vec<String>> = t.rows.iter().filter(|r| r[2] == "not determined").collect();
+    assert_eq!(rows.len(), open.len());
+    for (r, lo) in rows.iter().zip(&open) {
+        assert_eq!(r[3], format!("at least {}", numbers::number(*lo)));
+    }
+}

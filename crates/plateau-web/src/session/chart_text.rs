@@ -135,8 +135,8 @@ pub fn chart_table(a: &Analysis, chart: &str) -> ChartTable {
                         Ok(d) => match d.params.first() {
                             // As the chart draws it: an undetermined level
                             // is only "at least", never its estimate.
-                            Some(p) if d.saturation_at_least(&p.name).is_some() => {
-                                let lo = d.saturation_at_least(&p.name).unwrap_or_default();
+                            Some(p) if d.saturation_at_least(p.name).is_some() => {
+                                let lo = d.saturation_at_least(p.name).unwrap_or_default();
                                 ("not determined".into(), format!("at least {}", number(lo)))
                             }
                             Some(p) => {

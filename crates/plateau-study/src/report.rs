@@ -12,7 +12,7 @@
 use crate::wording::{
     FisherPryReport, LrTestReport, RecommendationReport, ResidualsReport, SymmetryReport, Worded,
 };
-use plateau_core::compare::{nested_tests, recommend, Entry};
+use plateau_core::compare::Entry;
 use plateau_core::diagnostics::{FisherPry, ResidualDiagnostics, SymmetryTest};
 use plateau_core::fit::Fit;
 use plateau_core::warning::Warning;
@@ -215,7 +215,7 @@ pub struct CompareReport {
     /// Likelihood-ratio tests of the nested pairs that were both fitted.
     pub lr_tests: Vec<LrTestReport>,
     /// Which model to use and why; `null` from [`CompareReport::new`],
-    /// filled by [`CompareReport::with_data`].
+    /// filled by `Study::compare_report` (from `Study::recommendation`).
     pub recommendation: Option<RecommendationReport>,
     pub warnings: Vec<Warning>,
     /// As in [`FitReport`]: the axis unit and origin (see `with_time`).
@@ -276,28 +276,12 @@ impl CompareReport {
             .collect();
         CompareReport {
             models,
-            lr_tests: nested_tests(entries)
-                .into_iter()
-                .map(LrTestReport::new)
-                .collect(),
+            lr_tests: crate::wording::lr_tests(entries),
             recommendation: None,
             warnings: data_warnings.to_vec(),
             time_unit: None,
             time_origin: None,
         }
-    }
-
-    /// [`CompareReport::new`] with the recommendation, which needs the data
-    /// the models were fitted to (for the residual verdicts).
-    pub fn with_data(
-        entries: &[Entry],
-        data_warnings: &[Warning],
-        t: &[f64],
-        y: &[f64],
-    ) -> CompareReport {
-        let mut r = CompareReport::new(entries, data_warnings);
-        r.recommendation = Some(RecommendationReport::new(&recommend(entries, t, y)));
-        r
     }
 }
 

@@ -8,7 +8,7 @@
 //! [`RecommendationReport`].
 
 use crate::numbers;
-use plateau_core::compare::{LrTest, Reason, Recommendation};
+use plateau_core::compare::{nested_tests, Entry, LrTest, Reason, Recommendation};
 use plateau_core::diagnostics::{
     jarque_bera, normality_verdict_of, Asymmetry, Check, FisherPry, ResidualDiagnostics,
     SymmetryTest, Verdict, FISHER_PRY_MIN_POINTS, MIN_RESIDUALS, NU_GOMPERTZ_LIMIT,
@@ -463,6 +463,15 @@ pub struct LrTestReport {
     pub test: LrTest,
     /// What the restriction is and whether the χ² reference is regular.
     pub note: &'static str,
+}
+
+/// The likelihood-ratio tests of the nested pairs in `entries`, with
+/// their notes.
+pub fn lr_tests(entries: &[Entry]) -> Vec<LrTestReport> {
+    nested_tests(entries)
+        .into_iter()
+        .map(LrTestReport::new)
+        .collect()
 }
 
 impl LrTestReport {

@@ -16,8 +16,7 @@ use rand_chacha::ChaCha8Rng;
 use rand_distr::{Distribution, Normal};
 use std::io::Write;
 use std::path::Path;
-use std::process::{Command, Stdio};
-use std::time::Instant;
+use std::process::Command;
 
 pub fn run(args: &[String]) -> Result<()> {
     let mut runs = 5usize;
@@ -65,11 +64,11 @@ pub fn run(args: &[String]) -> Result<()> {
             for _ in 0..runs {
                 let mut cmd = Command::new(&plateau);
                 cmd.args(&argv).arg(&file);
-                times.push(timed(&mut cmd)?);
+                times.push(crate::tools::timed(&mut cmd)?);
             }
             println!(
                 "  n = {n:>6}  {label:<30} {:>10.1} ms",
-                1e3 * median(&mut times)
+                1e3 * crate::tools::median(&mut times)
             );
         }
     }
@@ -89,29 +88,4 @@ fn write_series(path: &Path, n: usize) -> Result<()> {
     }
     out.flush()?;
     Ok(())
-}
-
-/// Wall time of one run, start to exit, output discarded.
-fn timed(cmd: &mut Command) -> Result<f64> {
-    let started = Instant::now();
-    let status = cmd
-        .stdout(Stdio::null())
-        .stderr(Stdio::null())
-        .status()
-        .with_context(|| format!("running {cmd:?}"))?;
-    let elapsed = started.elapsed().as_secs_f64();
-    if !status.success() {
-        bail!("{cmd:?} failed ({status})");
-    }
-    Ok(elapsed)
-}
-
-fn median(v: &mut [f64]) -> f64 {
-    v.sort_by(f64::total_cmp);
-    let n = v.len();
-    if n % 2 == 1 {
-        v[n / 2]
-    } else {
-        0.5 * (v[n / 2 - 1] + v[n / 2])
-    }
 }

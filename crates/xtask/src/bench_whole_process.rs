@@ -24,7 +24,6 @@ use anyhow::{bail, Context, Result};
 use std::io::Write;
 use std::path::{Path, PathBuf};
 use std::process::{Command, Stdio};
-use std::time::Instant;
 
 pub fn run(args: &[String]) -> Result<()> {
     let mut points = 100_000usize;
@@ -69,10 +68,13 @@ pub fn run(args: &[String]) -> Result<()> {
 
     let (mut ours, mut theirs) = (Vec::new(), Vec::new());
     for _ in 0..runs {
-        ours.push(timed(&mut plateau_cmd)?);
-        theirs.push(timed(&mut scipy_cmd)?);
+        ours.push(crate::tools::timed(&mut plateau_cmd)?);
+        theirs.push(crate::tools::timed(&mut scipy_cmd)?);
     }
-    let (a, b) = (median(&mut ours), median(&mut theirs));
+    let (a, b) = (
+        crate::tools::median(&mut ours),
+        crate::tools::median(&mut theirs),
+    );
     println!(
         "whole process, {points}-point CSV, median of {runs} alternating runs ({})",
         std::env::consts::ARCH
@@ -97,31 +99,6 @@ fn output(cmd: &mut Command) -> Result<String> {
         );
     }
     Ok(String::from_utf8_lossy(&out.stdout).into_owned())
-}
-
-/// Wall time of one run, start to exit, output discarded.
-fn timed(cmd: &mut Command) -> Result<f64> {
-    let started = Instant::now();
-    let status = cmd
-        .stdout(Stdio::null())
-        .stderr(Stdio::null())
-        .status()
-        .with_context(|| format!("running {cmd:?}"))?;
-    let elapsed = started.elapsed().as_secs_f64();
-    if !status.success() {
-        bail!("{cmd:?} failed ({status})");
-    }
-    Ok(elapsed)
-}
-
-fn median(v: &mut [f64]) -> f64 {
-    v.sort_by(f64::total_cmp);
-    let n = v.len();
-    if n % 2 == 1 {
-        v[n / 2]
-    } else {
-        0.5 * (v[n / 2 - 1] + v[n / 2])
-    }
 }
 
 /// scipy's `name value se` lines against plateau's JSON estimates.

@@ -7,7 +7,8 @@
 
 use anyhow::{bail, Context, Result};
 use std::path::{Path, PathBuf};
-use std::process::Command;
+use std::process::{Command, Stdio};
+use std::time::Instant;
 
 /// Runs `cmd`, failing with its command line when it exits non-zero.
 pub fn run(cmd: &mut Command) -> Result<()> {
@@ -142,4 +143,32 @@ pub fn chromium() -> Result<()> {
     };
     apt(&["update", "-q"])?;
     apt(&["install", "-y", "-q", "chromium", "chromium-driver"])
+}
+
+/// Wall time of one run in seconds, start to exit, output discarded (the
+/// whole-process benchmarks).
+pub fn timed(cmd: &mut Command) -> Result<f64> {
+    let started = Instant::now();
+    let status = cmd
+        .stdout(Stdio::null())
+        .stderr(Stdio::null())
+        .status()
+        .with_context(|| format!("running {cmd:?}"))?;
+    let elapsed = started.elapsed().as_secs_f64();
+    if !status.success() {
+        bail!("{cmd:?} failed ({status})");
+    }
+    Ok(elapsed)
+}
+
+/// The median (sorts `v` in place; the mean of the middle two for an
+/// even count).
+pub fn median(v: &mut [f64]) -> f64 {
+    v.sort_by(f64::total_cmp);
+    let n = v.len();
+    if n % 2 == 1 {
+        v[n / 2]
+    } else {
+        0.5 * (v[n / 2 - 1] + v[n / 2])
+    }
 }

@@ -2,7 +2,7 @@
 //! tests/workbooks/make_workbooks.py: invented data, fixed seed) and the
 //! page's own table export, each compared with the same data read as CSV.
 
-use super::{demo, json, plateau, root};
+use super::{codes, demo, json, plateau, root};
 use serde_json::Value;
 
 fn workbook(name: &str) -> String {
@@ -18,15 +18,6 @@ fn fit(args: &[&str]) -> Value {
     all.extend_from_slice(args);
     all.push("--json");
     json(&plateau(&all, None))
-}
-
-fn codes(v: &Value) -> Vec<String> {
-    v["warnings"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .map(|w| w["code"].as_str().unwrap().to_string())
-        .collect()
 }
 
 /// Each workbook's "Members" sheet (the first with data) fits exactly as

@@ -45,6 +45,16 @@ fn plateau(args: &[&str], stdin: Option<&str>) -> Output {
     child.wait_with_output().expect("plateau runs")
 }
 
+/// The warning codes of a report.
+fn codes(v: &Value) -> Vec<String> {
+    v["warnings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|w| w["code"].as_str().unwrap().to_string())
+        .collect()
+}
+
 fn json(out: &Output) -> Value {
     assert!(
         out.status.success(),
@@ -1489,14 +1499,6 @@ fn batch_warns_of_declining_values_as_fit_does() {
     let long: String = std::iter::once("series,t,y\n".to_string())
         .chain(rows.iter().map(|(t, y)| format!("a,{t},{y}\n")))
         .collect();
-    let codes = |v: &Value| -> Vec<String> {
-        v["warnings"]
-            .as_array()
-            .unwrap()
-            .iter()
-            .map(|w| w["code"].as_str().unwrap().to_string())
-            .collect()
-    };
     let out = plateau(&["fit", "-", "--json"], Some(&single));
     let fit_codes = codes(&serde_json::from_slice(&out.stdout).unwrap());
     assert!(

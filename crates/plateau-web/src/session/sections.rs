@@ -5,7 +5,6 @@
 
 use super::shown::{self, CompareText, DiagnosticsText};
 use super::{Analysis, BacktestRow, CompareRow, DiagnosticsRow, FisherPryRow};
-use plateau_core::compare::nested_tests;
 use plateau_core::diagnostics;
 use plateau_study::wording::{self, LrTestReport, RecommendationReport, SymmetryReport};
 use serde::{Deserialize, Serialize};
@@ -141,10 +140,7 @@ impl Analysis {
             .collect();
         ComparisonView {
             text: shown::comparison_text(&comparison),
-            lr_tests: nested_tests(entries)
-                .into_iter()
-                .map(LrTestReport::new)
-                .collect(),
+            lr_tests: wording::lr_tests(entries),
             recommendation: self.study.recommendation().clone(),
             comparison,
         }
